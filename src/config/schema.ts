@@ -1,0 +1,225 @@
+import { z } from 'zod';
+
+/**
+ * Configuration schemas: service settings, sites, telescopes and instruments.
+ * Units are in the field names (DESIGN.md conventions). Every site field that a
+ * hard limit reads is required, so a site can never be planned with a limit missing.
+ */
+
+const finite = () => z.number().refine(Number.isFinite, 'expected a finite number');
+const fraction = () => finite().min(0).max(1);
+const positive = () => finite().positive();
+const nonNegative = () => finite().min(0);
+
+export const locationSchema = z
+  .object({
+    latDeg: finite().min(-90).max(90),
+    lonDeg: finite().min(-180).max(360),
+    heightM: finite().min(-500).max(10_000),
+  })
+  .strict();
+
+/** Minimum altitude over an azimuth range, for trees, domes and mountains. */
+export const horizonMaskPointSchema = z
+  .object({
+    azDeg: finite().min(0).max(360),
+    minAltitudeDeg: finite().min(0).max(90),
+  })
+  .strict();
+
+export const rangeSchema = (lo: number, hi: number) =>
+  z
+    .object({ min: finite().min(lo).max(hi), max: finite().min(lo).max(hi) })
+    .strict()
+    .refine((r) => r.min <= r.max, { message: 'min must not exceed max' });
+
+export const limitsSchema = z
+  .object({
+    /** Sun altitude that starts the night (e.g. -12 nautical, -18 astronomical). */
+    nightSunAltitudeDeg: finite().min(-30).max(0),
+    minAltitudeDeg: finite().min(0).max(89),
+    /** Piecewise-linear mask by azimuth (north = 0, east = 90); the larger of it and minAltitudeDeg binds. */
+    horizonMask: z.array(horizonMaskPointSchema).max(360).optional(),
+    maxAirmass: finite().min(1).max(40).optional(),
+    /** Allowed hour angle, hours, west positive. */
+    hourAngleH: rangeSchema(-12, 12),
+    decDeg: rangeSchema(-90, 90),
+    maxRateArcsecPerS: positive(),
+    /** Alt-az mounts cannot track through the zenith: no target above 90 - zenithKeepOutDeg. */
+    zenithKeepOutDeg: nonNegative().max(30),
+    /** Never overridden by any score. */
+    sunAvoidanceDeg: finite().min(0).max(180),
+    minMoonSeparationDeg: finite().min(0).max(180),
+    /** When true, the Moon separation limit is minMoonSeparationDeg x illuminated fraction (at least 3 deg). */
+    moonSeparationScalesWithIllumination: z.boolean().default(false),
+  })
+  .strict();
+
+export const telescopeSchema = z
+  .object({
+    apertureM: positive().max(50),
+    /** Diameter of the central obstruction, as a fraction of the aperture diameter. */
+    obstructionFraction: fraction().max(0.9),
+  })
+  .strict();
+
+export const filterSchema = z
+  .object({
+    name: z.string().min(1).max(16),
+    /** Magnitude giving 1 e-/s above the atmosphere with this telescope, imager and filter. */
+    zeroPointMag: finite().min(10).max(35),
+    /** Extinction coefficient, mag per airmass. */
+    extinctionMagPerAirmass: nonNegative().max(2),
+    /** Sky brightness at zenith on a dark night in this band, mag/arcsec^2 (V value used when absent). */
+    darkSkyMagPerArcsec2: finite().min(10).max(25).optional(),
+  })
+  .strict();
+
+export const imagerSchema = z
+  .object({
+    pixelScaleArcsec: positive().max(60),
+    fieldArcmin: z.object({ width: positive().max(600), height: positive().max(600) }).strict(),
+    readNoiseE: nonNegative().max(1000),
+    gainEPerAdu: positive().max(1000),
+    darkEPerPixelPerS: nonNegative().max(1000),
+    fullWellE: positive(),
+    readoutS: nonNegative().max(600),
+    maxExposureS: positive().max(7200),
+    filters: z.array(filterSchema).min(1).max(32),
+  })
+  .strict();
+
+export const spectrographSchema = z
+  .object({
+    slitWidthsArcsec: z.array(positive().max(60)).min(1).max(16),
+    slitLengthArcsec: positive().max(3600),
+    /** Field of the acquisition camera the target must be found in, arcsec (square). */
+    acquisitionFieldArcsec: positive().max(7200),
+    wavelengthRangeNm: rangeSchema(100, 30_000),
+    referenceWavelengthNm: positive().max(30_000),
+    dispersionNmPerPixel: positive().max(100),
+    /** Resolution element in pixels along the dispersion for the narrowest slit. */
+    resolutionElementPixels: positive().max(100),
+    /** Spatial pixel scale along the slit, arcsec/pixel. */
+    pixelScaleArcsec: positive().max(60),
+    /** Total efficiency (atmosphere excluded) at the reference wavelength, telescope included. */
+    throughput: fraction(),
+    readNoiseE: nonNegative().max(1000),
+    gainEPerAdu: positive().max(1000),
+    darkEPerPixelPerS: nonNegative().max(1000),
+    readoutS: nonNegative().max(600),
+    maxExposureS: positive().max(7200),
+    /** Overhead to acquire and centre a moving target on the slit, seconds. */
+    acquisitionS: nonNegative().max(3600),
+  })
+  .strict();
+
+export const siteSchema = z
+  .object({
+    id: z
+      .string()
+      .regex(/^[a-z0-9][a-z0-9-]{0,31}$/, 'expected lower-case letters, digits and hyphens (1-32)'),
+    name: z.string().min(1).max(120),
+    location: locationSchema,
+    mount: z.enum(['equatorial', 'altaz']),
+    limits: limitsSchema,
+    telescope: telescopeSchema,
+    imager: imagerSchema,
+    spectrograph: spectrographSchema.optional(),
+    typicalSeeingArcsec: positive().max(20),
+    /** V-band zenith sky brightness on a moonless dark night, mag/arcsec^2. */
+    darkSkyVMagPerArcsec2: finite().min(15).max(23),
+  })
+  .strict();
+
+export const feedSchema = z
+  .object({
+    id: z.string().regex(/^[a-z0-9][a-z0-9-]{0,31}$/, 'expected lower-case letters, digits and hyphens'),
+    url: z.url(),
+    /** node-cron expression (seconds field optional). */
+    schedule: z.string().min(1).max(100).default('*/2 * * * *'),
+    timeoutMs: z.number().int().min(100).max(120_000).default(10_000),
+    /** Longest wait between attempts after repeated failures. */
+    maxBackoffS: z.number().int().min(1).max(86_400).default(1800),
+  })
+  .strict();
+
+export const roleSchema = z.enum(['reader', 'scheduler', 'feeder', 'operator']);
+export type Role = z.infer<typeof roleSchema>;
+
+export const tokenSchema = z
+  .object({
+    name: z.string().min(1).max(64),
+    /** Hex SHA-256 of the bearer token; the token itself is never stored. */
+    sha256: z.string().regex(/^[0-9a-f]{64}$/, 'expected 64 lower-case hex characters'),
+    roles: z.array(roleSchema).min(1),
+  })
+  .strict();
+
+export const serviceSchema = z
+  .object({
+    host: z.string().min(1).default('127.0.0.1'),
+    port: z.number().int().min(0).max(65_535).default(8470),
+    databasePath: z.string().min(1).default('data/nightjar.sqlite'),
+    logLevel: z.enum(['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent']).default('info'),
+    inbox: z
+      .object({
+        path: z.string().min(1).default('data/inbox'),
+        /** A file is read once unchanged for this long (or renamed into place). */
+        settleMs: z.number().int().min(0).max(600_000).default(3000),
+        /** Copy config/demo/notices into an empty inbox at first start. */
+        seedDemo: z.boolean().default(true),
+        schedule: z.string().min(1).default('*/5 * * * * *'),
+      })
+      .strict()
+      .prefault({}),
+    feeds: z.array(feedSchema).max(64).default([]),
+    schedules: z
+      .object({
+        replan: z.string().min(1).default('*/10 * * * *'),
+        lapse: z.string().min(1).default('* * * * *'),
+        expireLeases: z.string().min(1).default('*/30 * * * * *'),
+      })
+      .strict()
+      .prefault({}),
+    tokens: z.array(tokenSchema).max(256).default([]),
+    /** Leave GET endpoints open to callers on the loopback interface. */
+    openReadsOnLoopback: z.boolean().default(false),
+    bodyLimitBytes: z.number().int().min(1024).max(64 * 1024 * 1024).default(4 * 1024 * 1024),
+    /** Clock skew allowed for notice times in the future, minutes. */
+    futureToleranceMin: finite().min(0).max(1440).default(5),
+  })
+  .strict();
+
+export const planningSchema = z
+  .object({
+    horizonH: positive().max(240).default(36),
+  })
+  .strict()
+  .prefault({});
+
+export const configSchema = z
+  .object({
+    service: serviceSchema.prefault({}),
+    planning: planningSchema,
+    sites: z.array(siteSchema).min(1).max(64),
+  })
+  .strict()
+  .superRefine((cfg, ctx) => {
+    const seen = new Set<string>();
+    cfg.sites.forEach((site, i) => {
+      if (seen.has(site.id)) ctx.addIssue({ code: 'custom', path: ['sites', i, 'id'], message: `duplicate site id "${site.id}"` });
+      seen.add(site.id);
+    });
+  });
+
+export type Config = z.infer<typeof configSchema>;
+export type ServiceConfig = Config['service'];
+export type Site = z.infer<typeof siteSchema>;
+export type SiteLimits = z.infer<typeof limitsSchema>;
+export type Imager = z.infer<typeof imagerSchema>;
+export type Spectrograph = z.infer<typeof spectrographSchema>;
+export type Filter = z.infer<typeof filterSchema>;
+export type Telescope = z.infer<typeof telescopeSchema>;
+export type GeodeticLocation = z.infer<typeof locationSchema>;
+export type FeedConfig = z.infer<typeof feedSchema>;
