@@ -1,0 +1,64 @@
+#!/usr/bin/env node
+import { ConfigError } from './config/load.js';
+import { MigrationError } from './store/migrations.js';
+import type { CommandIo, CommandMain } from './commands/io.js';
+import { UsageError } from './commands/io.js';
+
+/** Every command, loaded on demand so `nightjar night` does not load the HTTP server. */
+const COMMANDS: Record<string, { summary: string; load: () => Promise<{ main: CommandMain }> }> = {
+  serve: { summary: 'run the service (API, inbox, feeds, scheduled jobs)', load: () => import('./commands/serve.js') },
+  migrate: { summary: 'apply pending database migrations', load: () => import('./commands/migrate.js') },
+  'check-config': { summary: 'validate the configuration and list every problem', load: () => import('./commands/check-config.js') },
+};
+
+function usage(): string {
+  const lines = Object.entries(COMMANDS).map(([name, c]) => `  ${name.padEnd(14)} ${c.summary}`);
+  return `nightjar <command> [options]   (nightjar <command> --help for its options)\n\n${lines.join('\n')}\n`;
+}
+
+/** Runs one command line; returns the exit code. */
+export async function runCli(argv: string[], io: CommandIo): Promise<number> {
+  const [name, ...rest] = argv;
+  if (name === undefined || name === '--help' || name === '-h' || name === 'help') {
+    io.stdout(usage());
+    return name === undefined ? 2 : 0;
+  }
+  const command = COMMANDS[name];
+  if (!command) {
+    io.stderr(`unknown command "${name}"\n\n${usage()}`);
+    return 2;
+  }
+  try {
+    const { main } = await command.load();
+    return await main(rest, io);
+  } catch (err) {
+    if (err instanceof UsageError) {
+      io.stderr(`nightjar ${name}: ${err.message}\n`);
+      return 2;
+    }
+    if (err instanceof ConfigError || err instanceof MigrationError) {
+      io.stderr(`nightjar ${name}: ${err.message}\n`);
+      return 1;
+    }
+    throw err;
+  }
+}
+
+const isMain = process.argv[1] !== undefined && /cli\.(js|ts)$/.test(process.argv[1]);
+if (isMain) {
+  const io: CommandIo = {
+    stdout: (t) => process.stdout.write(t),
+    stderr: (t) => process.stderr.write(t),
+    env: process.env,
+    cwd: process.cwd(),
+  };
+  runCli(process.argv.slice(2), io).then(
+    (code) => {
+      process.exitCode = code;
+    },
+    (err: unknown) => {
+      process.stderr.write(`nightjar: ${err instanceof Error ? (err.stack ?? err.message) : String(err)}\n`);
+      process.exitCode = 1;
+    },
+  );
+}

@@ -1,0 +1,52 @@
+import type { Config } from '../config/schema.js';
+import { pollFeed, feedSourceName } from '../intake/feed.js';
+import { processInbox } from '../intake/inbox.js';
+import type { Intake } from '../intake/ingest.js';
+import { summarise } from '../intake/ingest.js';
+import type { Store } from '../store/index.js';
+import type { JobSpec } from './scheduler.js';
+
+export interface IntakeJobDeps {
+  config: Config;
+  store: Store;
+  intake: Intake;
+  clock: () => Date;
+  log: { info: (obj: object, msg: string) => void; warn: (obj: object, msg: string) => void };
+  fetchFn?: typeof fetch;
+}
+
+/** The inbox scan and one poll job per configured feed. */
+export function intakeJobs(deps: IntakeJobDeps): JobSpec[] {
+  const { config, store, intake, clock, log } = deps;
+  const inbox = config.service.inbox;
+  const jobs: JobSpec[] = [
+    {
+      name: 'scan-inbox',
+      schedule: inbox.schedule,
+      run: () => {
+        const now = clock();
+        const outcomes = processInbox(intake, inbox.path, now, inbox.settleMs);
+        const all = outcomes.flatMap((o) => o.results);
+        store.sources.recordSuccess('inbox', now, { noticesSeen: all.length });
+        for (const o of outcomes) log.info({ file: o.file, movedTo: o.movedTo, ...summarise(o.results) }, 'inbox file read');
+      },
+    },
+  ];
+  for (const feed of config.service.feeds) {
+    jobs.push({
+      name: `poll-${feed.id}`,
+      schedule: feed.schedule,
+      run: async () => {
+        const outcome = await pollFeed(feed, {
+          intake,
+          sources: store.sources,
+          now: clock,
+          ...(deps.fetchFn ? { fetchFn: deps.fetchFn } : {}),
+        });
+        if (outcome.status === 'failed') log.warn({ feed: feedSourceName(feed), ...outcome }, 'feed poll failed');
+        else if (outcome.status === 'fetched') log.info({ feed: feedSourceName(feed), ...outcome }, 'feed polled');
+      },
+    });
+  }
+  return jobs;
+}

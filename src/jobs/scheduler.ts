@@ -1,0 +1,61 @@
+import cron, { type ScheduledTask } from 'node-cron';
+
+/** A periodic job: a cron expression and the work it does. */
+export interface JobSpec {
+  name: string;
+  schedule: string;
+  run: () => Promise<void> | void;
+}
+
+export interface JobRunner {
+  start(): void;
+  /** Stops new runs and waits for the ones in progress. */
+  stop(): Promise<void>;
+  /** Runs a job now (used at start and by tests); waits if the same job is already running. */
+  runNow(name: string): Promise<void>;
+}
+
+export type JobErrorHandler = (job: string, err: unknown) => void;
+
+/**
+ * Schedules jobs with node-cron. The same job never overlaps itself: a tick that
+ * comes while the previous run is still going is skipped.
+ */
+export function createJobRunner(specs: readonly JobSpec[], onError: JobErrorHandler): JobRunner {
+  const running = new Map<string, Promise<void>>();
+  const tasks: ScheduledTask[] = [];
+
+  function execute(spec: JobSpec): Promise<void> {
+    const current = running.get(spec.name);
+    if (current) return current;
+    const p = (async () => {
+      try {
+        await spec.run();
+      } catch (err) {
+        onError(spec.name, err);
+      } finally {
+        running.delete(spec.name);
+      }
+    })();
+    running.set(spec.name, p);
+    return p;
+  }
+
+  return {
+    start() {
+      for (const spec of specs) {
+        tasks.push(cron.schedule(spec.schedule, () => execute(spec), { name: spec.name, noOverlap: true }));
+      }
+    },
+    async stop() {
+      for (const t of tasks) await t.destroy();
+      tasks.length = 0;
+      await Promise.all([...running.values()]);
+    },
+    async runNow(name) {
+      const spec = specs.find((s) => s.name === name);
+      if (!spec) throw new Error(`no job named ${name}`);
+      await execute(spec);
+    },
+  };
+}

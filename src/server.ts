@@ -1,0 +1,101 @@
+import pino, { type Logger } from 'pino';
+import type { FastifyInstance } from 'fastify';
+import { buildApp } from './api/app.js';
+import { DEMO_NOTICES_DIR, MIGRATIONS_DIR } from './config/load.js';
+import type { Config } from './config/schema.js';
+import { feedSourceName } from './intake/feed.js';
+import { ensureInboxFolders, seedInbox } from './intake/inbox.js';
+import { createIntake } from './intake/ingest.js';
+import { intakeJobs } from './jobs/intake-jobs.js';
+import { createJobRunner, type JobRunner } from './jobs/scheduler.js';
+import { openStore, type Store } from './store/index.js';
+
+export interface RunningService {
+  app: FastifyInstance;
+  store: Store;
+  jobs: JobRunner;
+  logger: Logger;
+  /** The address it listens on, e.g. http://127.0.0.1:8470 */
+  url: string;
+  /** Graceful stop: no new cron runs, wait for running ones, close HTTP, close the database. */
+  stop(): Promise<void>;
+}
+
+export interface StartOptions {
+  config: Config;
+  clock?: () => Date;
+  logger?: Logger;
+  migrationsDir?: string;
+  demoNoticesDir?: string;
+  /** Start the cron jobs (default true). */
+  schedule?: boolean;
+}
+
+/** Starts the service: migrate, seed the demo inbox, listen, schedule jobs, then read the inbox once. */
+export async function startService(options: StartOptions): Promise<RunningService> {
+  const { config } = options;
+  const clock = options.clock ?? (() => new Date());
+  const logger = options.logger ?? pino({ level: config.service.logLevel, base: { service: 'nightjar' } });
+  const migrationsDir = options.migrationsDir ?? MIGRATIONS_DIR;
+  const store = openStore(config.service.databasePath, migrationsDir, clock);
+  const requeued = store.work.requeueRunning(clock());
+  if (requeued > 0) logger.info({ requeued }, 'work items left running by a previous process are waiting again');
+
+  const inbox = config.service.inbox;
+  ensureInboxFolders(inbox.path);
+  if (inbox.seedDemo) {
+    const seeded = seedInbox(inbox.path, options.demoNoticesDir ?? DEMO_NOTICES_DIR);
+    if (seeded.length > 0) logger.info({ inbox: inbox.path, files: seeded }, 'demo inbox seeded');
+  }
+
+  const intake = createIntake({ notices: store.notices, clock, futureToleranceMin: config.service.futureToleranceMin });
+  const app = await buildApp({
+    config,
+    store,
+    clock,
+    migrationsDir,
+    intake,
+    logger: logger.child({ part: 'api' }),
+    sourceNames: ['inbox', ...config.service.feeds.map(feedSourceName)],
+  });
+  const jobLog = logger.child({ part: 'jobs' });
+  const jobs = createJobRunner(
+    intakeJobs({
+      config,
+      store,
+      intake,
+      clock,
+      log: { info: (o, m) => jobLog.info(o, m), warn: (o, m) => jobLog.warn(o, m) },
+    }),
+    (job, err) => jobLog.error({ job, err }, 'job failed'),
+  );
+  let address: string;
+  try {
+    address = await app.listen({ host: config.service.host, port: config.service.port });
+  } catch (err) {
+    store.db.close();
+    throw err;
+  }
+  logger.info({ url: address, database: config.service.databasePath, inbox: inbox.path, sites: config.sites.map((s) => s.id) }, 'nightjar listening');
+  if (options.schedule !== false) jobs.start();
+  // Read what is already waiting without waiting for the first tick (settled files only).
+  void jobs.runNow('scan-inbox');
+
+  let stopping: Promise<void> | null = null;
+  return {
+    app,
+    store,
+    jobs,
+    logger,
+    url: address,
+    stop() {
+      stopping ??= (async () => {
+        await jobs.stop();
+        await app.close();
+        store.db.close();
+        logger.info('nightjar stopped');
+      })();
+      return stopping;
+    },
+  };
+}

@@ -1,0 +1,49 @@
+import type { Db } from './database.js';
+import type { ObjectState, ObservationInput } from './notices.js';
+
+export interface ObjectRow {
+  id: string;
+  state: ObjectState;
+  firstNoticeAt: string;
+  lastNoticeAt: string;
+  retractionReason: string | null;
+  retractedAt: string | null;
+  orbit: string | null;
+}
+
+export interface StoredObservation extends ObservationInput {
+  id: number;
+  noticeRow: number;
+}
+
+const OBJECT_COLUMNS = `id, state, first_notice_at AS firstNoticeAt, last_notice_at AS lastNoticeAt,
+  retraction_reason AS retractionReason, retracted_at AS retractedAt, orbit`;
+
+/** Objects and their merged, deduplicated tracklets. */
+export function createObjectStore(db: Db) {
+  const byId = db.prepare(`SELECT ${OBJECT_COLUMNS} FROM objects WHERE id = ?`);
+  const observationsOf = db.prepare(`SELECT id, notice_row AS noticeRow, t, ra_deg AS raDeg, dec_deg AS decDeg,
+    sigma_arcsec AS sigmaArcsec, mag, band, obs_lat_deg AS obsLatDeg, obs_lon_deg AS obsLonDeg, obs_height_m AS obsHeightM
+    FROM observations WHERE object_id = ? ORDER BY t, id`);
+  return {
+    getObject(id: string): ObjectRow | null {
+      return (byId.get(id) as ObjectRow | undefined) ?? null;
+    },
+    /** Ordered by id; `afterId` is the cursor. */
+    listObjects(options: { afterId?: string; limit: number; state?: ObjectState }): ObjectRow[] {
+      const where: string[] = [];
+      const args: string[] = [];
+      if (options.afterId !== undefined) (where.push('id > ?'), args.push(options.afterId));
+      if (options.state !== undefined) (where.push('state = ?'), args.push(options.state));
+      return db
+        .prepare(`SELECT ${OBJECT_COLUMNS} FROM objects ${where.length ? `WHERE ${where.join(' AND ')}` : ''} ORDER BY id LIMIT ?`)
+        .all(...args, options.limit) as ObjectRow[];
+    },
+    /** The object's tracklet in time order. */
+    observations(objectId: string): StoredObservation[] {
+      return observationsOf.all(objectId) as StoredObservation[];
+    },
+  };
+}
+
+export type ObjectStore = ReturnType<typeof createObjectStore>;

@@ -1,0 +1,55 @@
+import type { Db } from './database.js';
+
+export type WorkState = 'waiting' | 'running' | 'done' | 'failed';
+
+export interface WorkRow {
+  objectId: string;
+  state: WorkState;
+  attempts: number;
+  lastError: string | null;
+  enqueuedAt: string;
+  updatedAt: string;
+}
+
+const WORK_COLUMNS = `object_id AS objectId, state, attempts, last_error AS lastError, enqueued_at AS enqueuedAt, updated_at AS updatedAt`;
+
+/** The work queue: objects waiting to be assessed. It lives in SQLite so it survives restarts. */
+export function createWorkStore(db: Db) {
+  const claim = db.prepare(`UPDATE work SET state = 'running', attempts = attempts + 1, updated_at = ?
+    WHERE object_id = (SELECT object_id FROM work WHERE state = 'waiting' ORDER BY enqueued_at, object_id LIMIT 1)
+    RETURNING ${WORK_COLUMNS}`);
+  return {
+    /** Takes the oldest waiting item, or null when there is none. */
+    claimNext(now: Date): WorkRow | null {
+      return (claim.get(now.toISOString()) as WorkRow | undefined) ?? null;
+    },
+    finish(objectId: string, now: Date): void {
+      db.prepare(`UPDATE work SET state = 'done', last_error = NULL, updated_at = ? WHERE object_id = ? AND state = 'running'`).run(
+        now.toISOString(),
+        objectId,
+      );
+    },
+    /** A failed attempt goes back to waiting until `maxAttempts`, then stays failed with its error. */
+    fail(objectId: string, error: string, now: Date, maxAttempts = 3): void {
+      db.prepare(
+        `UPDATE work SET state = CASE WHEN attempts >= ? THEN 'failed' ELSE 'waiting' END, last_error = ?, updated_at = ?
+         WHERE object_id = ? AND state = 'running'`,
+      ).run(maxAttempts, error.slice(0, 2000), now.toISOString(), objectId);
+    },
+    /** After a crash, items left `running` are waiting again. */
+    requeueRunning(now: Date): number {
+      return db.prepare(`UPDATE work SET state = 'waiting', updated_at = ? WHERE state = 'running'`).run(now.toISOString()).changes;
+    },
+    get(objectId: string): WorkRow | null {
+      return (db.prepare(`SELECT ${WORK_COLUMNS} FROM work WHERE object_id = ?`).get(objectId) as WorkRow | undefined) ?? null;
+    },
+    counts(): Record<WorkState, number> {
+      const rows = db.prepare(`SELECT state, count(*) AS n FROM work GROUP BY state`).all() as { state: WorkState; n: number }[];
+      const out: Record<WorkState, number> = { waiting: 0, running: 0, done: 0, failed: 0 };
+      for (const r of rows) out[r.state] = r.n;
+      return out;
+    },
+  };
+}
+
+export type WorkStore = ReturnType<typeof createWorkStore>;
