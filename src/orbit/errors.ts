@@ -1,0 +1,38 @@
+/**
+ * Errors raised by the orbit functions. Each names the bad field, its value and
+ * what was expected, so a caller can show it without a stack trace.
+ */
+export class OrbitInputError extends Error {
+  override readonly name = 'OrbitInputError';
+  readonly field: string;
+  readonly value: unknown;
+  constructor(field: string, value: unknown, reason: string) {
+    super(`${field} = ${String(value)}: ${reason}`);
+    this.field = field;
+    this.value = value;
+  }
+}
+
+/** An iteration (Kepler's equation, light time) that did not converge; names the inputs that caused it. */
+export class OrbitConvergenceError extends Error {
+  override readonly name = 'OrbitConvergenceError';
+}
+
+/** Throws unless `value` is a finite number. */
+export function requireFinite(field: string, value: number): void {
+  if (typeof value !== 'number' || !Number.isFinite(value)) {
+    throw new OrbitInputError(field, value, 'expected a finite number');
+  }
+}
+
+/** Throws unless `value` is a finite number > 0. */
+export function requirePositive(field: string, value: number): void {
+  requireFinite(field, value);
+  if (value <= 0) throw new OrbitInputError(field, value, 'expected a number greater than 0');
+}
+
+/** Throws unless lo <= value <= hi (both finite). */
+export function requireInRange(field: string, value: number, lo: number, hi: number): void {
+  requireFinite(field, value);
+  if (value < lo || value > hi) throw new OrbitInputError(field, value, `expected a number from ${lo} to ${hi}`);
+}
