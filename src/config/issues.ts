@@ -28,6 +28,7 @@ function describeBound(issue: z.core.$ZodIssue): string | null {
     case 'bigint':
       return `expected a number ${op} ${String(bound)}`;
     case 'string':
+      if (small && bound === 1) return 'must not be empty';
       return `expected a string of ${small ? 'at least' : 'at most'} ${String(bound)} characters`;
     case 'array':
     case 'set':

@@ -22,7 +22,7 @@ const text = (max: number) =>
     .min(1)
     .max(max)
     .refine((s) => !CONTROL_CHARS.test(s), 'must not contain control characters')
-    .refine((s) => s.trim().length > 0, 'must not be blank');
+    .refine((s) => s.length === 0 || s.trim().length > 0, 'must not be blank');
 
 const finite = () => z.number().refine(Number.isFinite, 'expected a finite number');
 
