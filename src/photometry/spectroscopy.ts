@@ -1,4 +1,5 @@
 import type { Site, Spectrograph } from '../config/schema.js';
+import { siteVExtinctionMagPerAirmass } from '../sky/sky-brightness.js';
 import { erf, seeingAtAirmass, sourceRateForSnr, type CcdSignal } from './ccd.js';
 import { checkConditions, PlanConfigError, type ExposureLimit, type ObservingConditions } from './conditions.js';
 import { PhotometryInputError, requireFinite, requireInRange, requireNonNegative, requirePositive } from './errors.js';
@@ -82,17 +83,17 @@ export interface SpectrumSetup {
   signal: CcdSignal;
 }
 
-/** V extinction from the options or the imager's V filter; throws PlanConfigError when neither is there. */
+/**
+ * V extinction for the spectrum, mag per airmass: the option, else the site's
+ * V value as the sky module defines it (the imager's V filter, or its marked
+ * fallback constant when the site has none).
+ */
 export function spectrumExtinction(site: Site, options: SpectrumOptions): number {
   if (options.extinctionMagPerAirmass !== undefined) {
     requireNonNegative('extinctionMagPerAirmass', options.extinctionMagPerAirmass);
     return options.extinctionMagPerAirmass;
   }
-  const v = site.imager.filters.find((f) => f.name === 'V');
-  if (v === undefined) {
-    throw new PlanConfigError(`site "${site.id}": spectrum extinction is taken from the imager's V filter, which is not configured; pass extinctionMagPerAirmass`);
-  }
-  return v.extinctionMagPerAirmass;
+  return siteVExtinctionMagPerAirmass(site);
 }
 
 /** The spectrograph of a site; throws PlanConfigError when it has none. */
