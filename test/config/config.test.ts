@@ -35,7 +35,7 @@ describe('configuration', () => {
 
   it('lists every problem, not only the first', () => {
     const raw = demoConfigRaw();
-    const site = (raw['sites'] as Record<string, Record<string, unknown>>[])[1]!;
+    const site = (raw['sites'] as Record<string, unknown>[])[1]!;
     site['mount'] = 'fork';
     (site['limits'] as Record<string, unknown>)['sunAvoidanceDeg'] = 'wide';
     delete (site['telescope'] as Record<string, unknown>)['apertureM'];

@@ -1,4 +1,4 @@
-import Fastify, { type FastifyInstance } from 'fastify';
+import Fastify, { type FastifyInstance, type RouteHandlerMethod } from 'fastify';
 import { afterEach, describe, expect, it } from 'vitest';
 import type { FeedConfig } from '../../src/config/schema.js';
 import { backoffSeconds, pollFeed } from '../../src/intake/feed.js';
@@ -11,7 +11,7 @@ afterEach(async () => {
   server = null;
 });
 
-async function serveFeed(handler: Parameters<FastifyInstance['get']>[1]): Promise<string> {
+async function serveFeed(handler: RouteHandlerMethod): Promise<string> {
   server = Fastify();
   server.get('/feed', handler);
   return `${await server.listen({ host: '127.0.0.1', port: 0 })}/feed`;
