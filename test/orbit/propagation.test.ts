@@ -1,0 +1,202 @@
+import { describe, expect, it } from 'vitest';
+import { AstroTime, Body, GravitySimulator, HelioState, HelioVector, MassProduct, ObserverVector, Observer, StateVector } from 'astronomy-engine';
+import { stateFromPerihelionElements, type HeliocentricState } from '../../src/orbit/elements.js';
+import { ensemblePlaces } from '../../src/orbit/ephemeris.js';
+import { propagateEnsemble } from '../../src/orbit/propagate.js';
+import { OrbitInputError } from '../../src/orbit/errors.js';
+import { ttFromTtIso, ttFromUtc, utcFromTt } from '../../src/orbit/time.js';
+
+const ARCSEC_PER_RAD = (180 / Math.PI) * 3600;
+const T = (tt: number) => AstroTime.FromTerrestrialTime(tt);
+const site = { latDeg: 34.21, lonDeg: -107.62, heightM: 2310 }; // invented demo site
+
+type V3 = [number, number, number];
+const angleArcsec = (a: V3, b: V3) => {
+  const c: V3 = [a[1] * b[2] - a[2] * b[1], a[2] * b[0] - a[0] * b[2], a[0] * b[1] - a[1] * b[0]];
+  return Math.atan2(Math.hypot(...c), a[0] * b[0] + a[1] * b[1] + a[2] * b[2]) * ARCSEC_PER_RAD;
+};
+const stateOf = (s: StateVector, tt: number): HeliocentricState => ({ tt, x: s.x, y: s.y, z: s.z, vx: s.vx, vy: s.vy, vz: s.vz });
+
+/** Largest angle, seen from Earth's centre, between a propagated test particle and the library's planet, over `days`. */
+function planetTrackingErrorArcsec(body: Body, startIso: string, days: number): number {
+  const t0 = ttFromTtIso('start', startIso);
+  const times = Array.from({ length: days + 1 }, (_, k) => t0 + k);
+  const tr = propagateEnsemble([stateOf(HelioState(body, T(t0)), t0)], times, { omitBodies: [body] });
+  return Math.max(
+    ...times.map((t, k) => {
+      const e = HelioVector(Body.Earth, T(t));
+      const p = HelioVector(body, T(t));
+      return angleArcsec([tr.positionsAu[3 * k]! - e.x, tr.positionsAu[3 * k + 1]! - e.y, tr.positionsAu[3 * k + 2]! - e.z], [p.x - e.x, p.y - e.y, p.z - e.z]);
+    }),
+  );
+}
+
+describe('perturbed propagation against the library', () => {
+  it("agrees with astronomy-engine's GravitySimulator (0.02-day steps) within 0.01 arcsec from Earth over 30 days", () => {
+    const t0 = ttFromTtIso('t0', '2026-09-01T00:00:00');
+    const s = stateFromPerihelionElements({ qAu: 0.7, e: 0.3, iDeg: 5, nodeDeg: 40, periDeg: 100, tpTt: t0 + 10 }, t0);
+    const sim = new GravitySimulator(Body.Sun, T(t0), [new StateVector(s.x, s.y, s.z, s.vx, s.vy, s.vz, T(t0))]);
+    let end: StateVector[] = [];
+    for (let k = 1; k <= 1500; k++) end = sim.Update(T(t0 + k * 0.02));
+    const ours = propagateEnsemble([s], [t0 + 30]);
+    const e = HelioVector(Body.Earth, T(t0 + 30));
+    const sep = angleArcsec(
+      [ours.positionsAu[0]! - e.x, ours.positionsAu[1]! - e.y, ours.positionsAu[2]! - e.z],
+      [end[0]!.x - e.x, end[0]!.y - e.y, end[0]!.z - e.z],
+    );
+    expect(sep).toBeLessThan(0.01);
+  });
+
+  it("tracks the library's Mars within 1 arcsec from Earth over 30 days from 2026 Sep 1 and 2028 May 1 (other dates: docs/accuracy.md)", () => {
+    expect(planetTrackingErrorArcsec(Body.Mars, '2026-09-01T00:00:00', 30)).toBeLessThan(1);
+    expect(planetTrackingErrorArcsec(Body.Mars, '2028-05-01T00:00:00', 30)).toBeLessThan(1);
+  });
+
+  it("tracks the library's Jupiter within 0.1 arcsec from Earth over 30 days", () => {
+    expect(planetTrackingErrorArcsec(Body.Jupiter, '2026-05-01T00:00:00', 30)).toBeLessThan(0.1);
+  });
+});
+
+// --- An independent integration written here: classical RK4 with small fixed steps, planets and Moon straight
+// from astronomy-engine at every stage (no interpolation table), heliocentric with the indirect term.
+const BODIES = [Body.Mercury, Body.Venus, Body.Earth, Body.Moon, Body.Mars, Body.Jupiter, Body.Saturn, Body.Uranus, Body.Neptune];
+const GM = BODIES.map((b) => MassProduct(b));
+const GM_SUN = MassProduct(Body.Sun);
+function referenceAcceleration(tt: number, r: V3): V3 {
+  const a: V3 = [0, 0, 0];
+  const rn = Math.hypot(...r);
+  for (let i = 0; i < 3; i++) a[i] = (-GM_SUN * r[i]!) / rn ** 3;
+  BODIES.forEach((b, k) => {
+    const p = HelioVector(b, T(tt));
+    const pv: V3 = [p.x, p.y, p.z];
+    const d: V3 = [pv[0] - r[0], pv[1] - r[1], pv[2] - r[2]];
+    const dn = Math.hypot(...d), pn = Math.hypot(...pv);
+    for (let i = 0; i < 3; i++) a[i] = a[i]! + GM[k]! * (d[i]! / dn ** 3 - pv[i]! / pn ** 3);
+  });
+  return a;
+}
+function referenceRk4(start: HeliocentricState, tEnd: number, stepDays: number): { r: V3; v: V3 } {
+  let r: V3 = [start.x, start.y, start.z];
+  let v: V3 = [start.vx, start.vy, start.vz];
+  const n = Math.ceil(Math.abs(tEnd - start.tt) / stepDays);
+  const h = (tEnd - start.tt) / n;
+  let t = start.tt;
+  const add = (a: V3, b: V3, k: number): V3 => [a[0] + k * b[0], a[1] + k * b[1], a[2] + k * b[2]];
+  for (let s = 0; s < n; s++) {
+    const a1 = referenceAcceleration(t, r);
+    const r2 = add(r, v, h / 2), v2 = add(v, a1, h / 2);
+    const a2 = referenceAcceleration(t + h / 2, r2);
+    const r3 = add(r, v2, h / 2), v3 = add(v, a2, h / 2);
+    const a3 = referenceAcceleration(t + h / 2, r3);
+    const r4 = add(r, v3, h), v4 = add(v, a3, h);
+    const a4 = referenceAcceleration(t + h, r4);
+    r = [0, 1, 2].map((i) => r[i]! + (h / 6) * (v[i]! + 2 * v2[i]! + 2 * v3[i]! + v4[i]!)) as V3;
+    v = [0, 1, 2].map((i) => v[i]! + (h / 6) * (a1[i]! + 2 * a2[i]! + 2 * a3[i]! + a4[i]!)) as V3;
+    t += h;
+  }
+  return { r, v };
+}
+/** Topocentric direction of a reference state, light time to first order (tau < 25 s at 0.05 au). */
+function referenceDirection(r: V3, v: V3, tt: number): V3 {
+  const when = utcFromTt(tt);
+  const e = HelioVector(Body.Earth, when);
+  const o = ObserverVector(when, new Observer(site.latDeg, site.lonDeg, site.heightM), false);
+  const obs: V3 = [e.x + o.x, e.y + o.y, e.z + o.z];
+  let rho: V3 = [r[0] - obs[0], r[1] - obs[1], r[2] - obs[2]];
+  for (let k = 0; k < 3; k++) {
+    const tau = Math.hypot(...rho) / 173.1446326846693;
+    rho = [r[0] - v[0] * tau - obs[0], r[1] - v[1] * tau - obs[1], r[2] - v[2] * tau - obs[2]];
+  }
+  return rho;
+}
+
+/** An invented object that passes `missAu` from Earth's centre at `closestIso` with 9 km/s relative speed. */
+function closeApproacher(missAu: number, closestIso: string): HeliocentricState {
+  const tt = ttFromTtIso('closest', closestIso);
+  const earth = HelioState(Body.Earth, T(tt));
+  const kmPerSToAuPerDay = 86_400 / 149_597_870.7;
+  // Offset perpendicular to a relative velocity tilted 30 deg out of the ecliptic-ish plane.
+  const rel: V3 = [0.6, -0.5, 0.62];
+  const reln = Math.hypot(...rel);
+  const u: V3 = [rel[0] / reln, rel[1] / reln, rel[2] / reln];
+  const off: V3 = [u[1], -u[0], 0];
+  const offn = Math.hypot(...off);
+  return {
+    tt,
+    x: earth.x + (missAu * off[0]) / offn, y: earth.y + (missAu * off[1]) / offn, z: earth.z + (missAu * off[2]) / offn,
+    vx: earth.vx + 9 * kmPerSToAuPerDay * u[0], vy: earth.vy + 9 * kmPerSToAuPerDay * u[1], vz: earth.vz + 9 * kmPerSToAuPerDay * u[2],
+  };
+}
+
+describe('a close approacher against a tight-step independent RK4', () => {
+  for (const missAu of [0.002, 0.01, 0.05]) {
+    it(`keeps topocentric RA/Dec within 1 arcsec over 3 days for a pass at ${missAu} au`, () => {
+      const start = closeApproacher(missAu, '2027-03-05T12:00:00');
+      const timesTt = [-1.5, -0.75, 0, 0.75, 1.5].map((d) => start.tt + d);
+      const places = ensemblePlaces([start], site, timesTt.map(utcFromTt));
+      let worst = 0;
+      timesTt.forEach((tt, k) => {
+        const ref = referenceRk4(start, tt, 10 / 1440);
+        const dir = referenceDirection(ref.r, ref.v, tt);
+        const ra = (places.raDeg[k]! * Math.PI) / 180, dec = (places.decDeg[k]! * Math.PI) / 180;
+        worst = Math.max(worst, angleArcsec([Math.cos(dec) * Math.cos(ra), Math.cos(dec) * Math.sin(ra), Math.sin(dec)], dir));
+      });
+      expect(worst).toBeLessThan(1);
+    });
+  }
+});
+
+describe('step halving', () => {
+  it('changes the topocentric place of a 0.002 au pass by less than 0.05 arcsec when the step fraction is halved', () => {
+    const start = closeApproacher(0.002, '2027-03-05T12:00:00');
+    const times = [-1.5, 1.5].map((d) => utcFromTt(start.tt + d));
+    const coarse = ensemblePlaces([start], site, times);
+    const fine = ensemblePlaces([start], site, times, { stepFraction: 0.01 });
+    for (let k = 0; k < times.length; k++) {
+      const dRa = (coarse.raDeg[k]! - fine.raDeg[k]!) * Math.cos((fine.decDeg[k]! * Math.PI) / 180) * 3600;
+      const dDec = (coarse.decDeg[k]! - fine.decDeg[k]!) * 3600;
+      expect(Math.hypot(dRa, dDec)).toBeLessThan(0.05);
+    }
+  });
+});
+
+describe('ensemble propagation', () => {
+  const t0 = ttFromUtc(new Date('2027-03-04T00:00:00Z'));
+  const members = [0.8, 1.0, 1.3].map((q, i) => stateFromPerihelionElements({ qAu: q, e: 0.4, iDeg: 3 + i, nodeDeg: 100, periDeg: 50, tpTt: t0 - 20 }, t0));
+  const times = [t0 - 2, t0, t0 + 1, t0 + 3];
+
+  it('gives each member the same trajectory as propagating it alone, to 1e-10 au', () => {
+    const together = propagateEnsemble(members, times);
+    members.forEach((m, i) => {
+      const alone = propagateEnsemble([m], times);
+      times.forEach((_, k) => {
+        for (let axis = 0; axis < 3; axis++) {
+          // The shared step is the smallest any member needs, so results differ only by integration error.
+          expect(Math.abs(together.positionsAu[(k * members.length + i) * 3 + axis]! - alone.positionsAu[k * 3 + axis]!)).toBeLessThan(1e-10);
+        }
+      });
+    });
+  });
+
+  it('returns the starting state at the epoch and keeps the requested order of times', () => {
+    const tr = propagateEnsemble(members, [t0 + 1, t0]);
+    expect(tr.positionsAu[3 * members.length]).toBe(members[0]!.x);
+    expect(Array.from(tr.timesTt)).toEqual([t0 + 1, t0]);
+  });
+
+  it('comes back to the start after running 3 days forward and then back, within 1e-10 au', () => {
+    const there = propagateEnsemble([members[1]!], [t0 + 3]);
+    const p = there.positionsAu, v = there.velocitiesAuPerDay;
+    const back = propagateEnsemble([{ tt: t0 + 3, x: p[0]!, y: p[1]!, z: p[2]!, vx: v[0]!, vy: v[1]!, vz: v[2]! }], [t0]);
+    expect(Math.hypot(back.positionsAu[0]! - members[1]!.x, back.positionsAu[1]! - members[1]!.y, back.positionsAu[2]! - members[1]!.z)).toBeLessThan(1e-10);
+  });
+
+  it('rejects states at different epochs by naming the member', () => {
+    expect(() => propagateEnsemble([members[0]!, { ...members[1]!, tt: t0 + 1 }], times)).toThrow(OrbitInputError);
+    expect(() => propagateEnsemble([members[0]!, { ...members[1]!, tt: t0 + 1 }], times)).toThrow(/states\[1\]\.tt/);
+  });
+
+  it('rejects a non-finite time by naming its index', () => {
+    expect(() => propagateEnsemble(members, [t0, Number.NaN])).toThrow(/timesTt\[1\] = NaN/);
+  });
+});
