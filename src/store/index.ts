@@ -2,6 +2,7 @@ import { openDatabase, type Db } from './database.js';
 import { migrate } from './migrations.js';
 import { createNoticeStore } from './notices.js';
 import { createObjectStore } from './objects.js';
+import { createRequestStore } from './requests.js';
 import { createSourceStore } from './sources.js';
 import { createWorkStore } from './work.js';
 
@@ -12,6 +13,7 @@ export function createStore(db: Db) {
     notices: createNoticeStore(db),
     objects: createObjectStore(db),
     work: createWorkStore(db),
+    requests: createRequestStore(db),
     sources: createSourceStore(db),
   };
 }
