@@ -1,0 +1,273 @@
+import { readFileSync } from 'node:fs';
+import { resolve } from 'node:path';
+import { parseArgs } from 'node:util';
+import { loadConfig } from '../config/load.js';
+import { locationSchema, type GeodeticLocation } from '../config/schema.js';
+import { parseNotice, type Notice, type NoticeOrbit } from '../intake/notice.js';
+import { ephemerisFromElements, type EphemerisRow } from '../orbit/ephemeris.js';
+import type { PerihelionElements } from '../orbit/elements.js';
+import { ttFromTtIso } from '../orbit/time.js';
+import type { CommandMain } from './io.js';
+import { UsageError } from './io.js';
+
+/**
+ * `nightjar ephem`: the topocentric ephemeris of the object in one notice, from a
+ * configured site or an ad-hoc place, at listed times or on a regular grid.
+ * A notice with an `orbit` block is propagated from its elements; a notice with
+ * only a tracklet is refused until orbit estimation from tracklets exists.
+ */
+export const HELP = `nightjar ephem --notice FILE (--site ID | --lat DEG --lon DEG --height M)
+               (--times ISO[,ISO...] | --start ISO --end ISO --step MINUTES)
+               [--json] [--config FILE]
+
+Prints where the object of a notice is, as seen from a site: astrometric ICRS
+RA/Dec (light-time corrected, no aberration), rates in arcsec/s (RA rate times
+cos Dec), distances from the site (delta) and the Sun (r) in au, phase angle
+and solar elongation, apparent altitude/azimuth with refraction, airmass, and
+V magnitude from H and G when the notice gives H. Times are ISO-8601 UTC.
+
+The notice is checked as intake checks it, except for its age: any past or
+future time may be asked for. It must carry an orbit block; estimating an orbit
+from a tracklet alone is not available yet.
+
+Options:
+  --notice FILE      notice v1 JSON file (required)
+  --site ID          site id from the configuration
+  --lat, --lon DEG   ad-hoc site: geodetic latitude, east longitude (degrees;
+                     write a negative value as --lon=-105.5)
+  --height M         ad-hoc site: height above the ellipsoid, metres
+  --times LIST       comma-separated ISO-8601 UTC times
+  --start, --end     first and last time of a grid (ISO-8601 UTC)
+  --step MINUTES     grid spacing, minutes
+  --json             print a JSON array of rows instead of text
+  --config FILE      configuration file (default: NIGHTJAR_CONFIG, else the demo)
+  -h, --help         show this help`;
+
+/** More rows than this is almost certainly a typo in --step. */
+export const MAX_ROWS = 20_000;
+const ISO_UTC = /^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}(:\d{2}(\.\d{1,9})?)?Z$/;
+
+/** Exit code when the notice has no orbit block: nothing can be computed yet. */
+export const EXIT_NO_ORBIT = 2;
+
+function parseUtc(option: string, text: string): Date {
+  const ms = ISO_UTC.test(text) ? Date.parse(text) : Number.NaN;
+  if (!Number.isFinite(ms)) throw new UsageError(`${option}: "${text}" is not an ISO-8601 UTC time such as 2027-03-04T05:06:07Z`);
+  return new Date(ms);
+}
+
+function parseNumber(option: string, text: string): number {
+  const value = Number(text);
+  if (text.trim() === '' || !Number.isFinite(value)) throw new UsageError(`${option}: "${text}" is not a number`);
+  return value;
+}
+
+interface Options {
+  notice?: string | undefined;
+  site?: string | undefined;
+  lat?: string | undefined;
+  lon?: string | undefined;
+  height?: string | undefined;
+  times?: string | undefined;
+  start?: string | undefined;
+  end?: string | undefined;
+  step?: string | undefined;
+  json?: boolean | undefined;
+  config?: string | undefined;
+  help?: boolean | undefined;
+}
+
+function requestedTimes(values: Options): Date[] {
+  const grid = values.start !== undefined || values.end !== undefined || values.step !== undefined;
+  if (values.times !== undefined && grid) throw new UsageError('give either --times or --start/--end/--step, not both');
+  if (values.times !== undefined) {
+    const list = values.times.split(',').map((s) => s.trim()).filter((s) => s !== '');
+    if (list.length === 0) throw new UsageError('--times: expected at least one ISO-8601 UTC time');
+    if (list.length > MAX_ROWS) throw new UsageError(`--times: ${list.length} times is more than ${MAX_ROWS}`);
+    return list.map((s) => parseUtc('--times', s));
+  }
+  if (!grid) throw new UsageError('times are required: --times ISO[,ISO...] or --start ISO --end ISO --step MINUTES');
+  if (values.start === undefined || values.end === undefined || values.step === undefined) {
+    throw new UsageError('a grid needs all of --start, --end and --step');
+  }
+  const start = parseUtc('--start', values.start);
+  const end = parseUtc('--end', values.end);
+  const stepMin = parseNumber('--step', values.step);
+  if (!(stepMin > 0)) throw new UsageError(`--step: ${values.step} minutes; expected a number of minutes > 0`);
+  if (end.getTime() < start.getTime()) throw new UsageError(`--end ${values.end} is before --start ${values.start}`);
+  const count = Math.floor((end.getTime() - start.getTime()) / (stepMin * 60_000) + 1e-9) + 1;
+  if (count > MAX_ROWS) throw new UsageError(`the grid has ${count} times, more than ${MAX_ROWS}; use a larger --step`);
+  return Array.from({ length: count }, (_, k) => new Date(start.getTime() + k * stepMin * 60_000));
+}
+
+function viewpoint(values: Options, io: Parameters<CommandMain>[1]): { location: GeodeticLocation; label: string } {
+  const adHoc = values.lat !== undefined || values.lon !== undefined || values.height !== undefined;
+  if (values.site !== undefined && adHoc) throw new UsageError('give either --site or --lat/--lon/--height, not both');
+  if (values.site !== undefined) {
+    const config = loadConfig({ path: values.config, env: io.env, cwd: io.cwd });
+    const site = config.sites.find((s) => s.id === values.site);
+    if (!site) throw new UsageError(`unknown site "${values.site}" (configured: ${config.sites.map((s) => s.id).join(', ')})`);
+    return { location: site.location, label: `${site.id} (${site.name})` };
+  }
+  if (!adHoc) throw new UsageError('a site is required: --site ID, or --lat DEG --lon DEG --height M');
+  if (values.lat === undefined || values.lon === undefined || values.height === undefined) {
+    throw new UsageError('an ad-hoc site needs all of --lat, --lon and --height');
+  }
+  const raw = { latDeg: parseNumber('--lat', values.lat), lonDeg: parseNumber('--lon', values.lon), heightM: parseNumber('--height', values.height) };
+  const checked = locationSchema.safeParse(raw);
+  if (!checked.success) {
+    const names: Record<string, string> = { latDeg: '--lat', lonDeg: '--lon', heightM: '--height' };
+    const first = checked.error.issues[0];
+    const key = String(first?.path[0] ?? '');
+    throw new UsageError(`${names[key] ?? key}: ${first?.message ?? 'out of range'}`);
+  }
+  return { location: checked.data, label: `lat ${raw.latDeg} lon ${raw.lonDeg} height ${raw.heightM} m` };
+}
+
+function readNotice(path: string, cwd: string): { ok: true; notice: Notice } | { ok: false; message: string } {
+  const full = resolve(cwd, path);
+  let text: string;
+  try {
+    text = readFileSync(full, 'utf8');
+  } catch (err) {
+    throw new UsageError(`--notice: cannot read ${full}: ${(err as Error).message}`);
+  }
+  let raw: unknown;
+  try {
+    raw = JSON.parse(text.replace(/^\uFEFF/, ''));
+  } catch (err) {
+    return { ok: false, message: `${full} is not valid JSON: ${(err as Error).message}` };
+  }
+  // The present only matters for the age checks, which this command skips.
+  const parsed = parseNotice(raw, { now: new Date(0), checkAge: false });
+  if (!parsed.ok) return { ok: false, message: `${full} is not a valid notice:\n${parsed.issues.map((i) => `  ${i.path}: ${i.message}`).join('\n')}` };
+  return { ok: true, notice: parsed.notice };
+}
+
+/** Notice orbit block (ISO TT times, degrees, au) to the orbit module's perihelion elements and epoch. */
+export function elementsFromNoticeOrbit(orbit: NoticeOrbit): { elements: PerihelionElements; epochTt: number } {
+  return {
+    elements: { qAu: orbit.q, e: orbit.e, iDeg: orbit.i, nodeDeg: orbit.node, periDeg: orbit.peri, tpTt: ttFromTtIso('orbit.tp', orbit.tp) },
+    epochTt: ttFromTtIso('orbit.epoch', orbit.epoch),
+  };
+}
+
+const round = (x: number, digits: number): number => Number(x.toFixed(digits));
+const roundSignificant = (x: number, digits: number): number => Number(x.toPrecision(digits));
+
+/** Rows rounded to what the methods support (0.4 mas in RA/Dec, 1e-5 arcsec/s, 10 significant digits in distance). */
+export function roundRow(row: EphemerisRow): EphemerisRow {
+  return {
+    t: row.t,
+    ra: round(row.ra, 7),
+    dec: round(row.dec, 7),
+    raRate: round(row.raRate, 5),
+    decRate: round(row.decRate, 5),
+    unc: row.unc,
+    mag: row.mag === null ? null : round(row.mag, 2),
+    magSigma: row.magSigma,
+    delta: roundSignificant(row.delta, 10),
+    r: roundSignificant(row.r, 10),
+    phase: round(row.phase, 4),
+    elong: round(row.elong, 4),
+    alt: round(row.alt, 4),
+    az: round(row.az, 4),
+    airmass: row.airmass === null ? null : round(row.airmass, 4),
+  };
+}
+
+function formatRa(deg: number): string {
+  const totalS = (deg / 15) * 3600;
+  const h = Math.floor(totalS / 3600);
+  const m = Math.floor((totalS - h * 3600) / 60);
+  const s = totalS - h * 3600 - m * 60;
+  return `${String(h).padStart(2, '0')} ${String(m).padStart(2, '0')} ${s.toFixed(2).padStart(5, '0')}`;
+}
+
+function formatDec(deg: number): string {
+  const sign = deg < 0 ? '-' : '+';
+  const totalS = Math.abs(deg) * 3600;
+  const d = Math.floor(totalS / 3600);
+  const m = Math.floor((totalS - d * 3600) / 60);
+  const s = totalS - d * 3600 - m * 60;
+  return `${sign}${String(d).padStart(2, '0')} ${String(m).padStart(2, '0')} ${s.toFixed(1).padStart(4, '0')}`;
+}
+
+function formatText(rows: EphemerisRow[], notice: Notice, label: string): string {
+  const lines = [
+    `ephemeris of ${notice.objectId} (notice ${notice.noticeId}) from ${label}`,
+    'astrometric ICRS, light-time corrected; rates in arcsec/s (RA rate x cos Dec); distances in au; angles in deg',
+    '',
+    'time (UTC)            RA (h m s)    Dec (d m s)     raRate   decRate      delta         r   phase   elong     alt      az  airmass     V',
+  ];
+  for (const row of rows) {
+    lines.push(
+      [
+        row.t.replace(/\.\d{3}Z$/, 'Z').padEnd(20),
+        formatRa(row.ra).padStart(12),
+        formatDec(row.dec).padStart(13),
+        row.raRate.toFixed(4).padStart(10),
+        row.decRate.toFixed(4).padStart(9),
+        row.delta.toFixed(6).padStart(10),
+        row.r.toFixed(6).padStart(9),
+        row.phase.toFixed(1).padStart(7),
+        row.elong.toFixed(1).padStart(7),
+        row.alt.toFixed(1).padStart(7),
+        row.az.toFixed(1).padStart(7),
+        (row.airmass === null ? '-' : row.airmass.toFixed(2)).padStart(8),
+        (row.mag === null ? '-' : row.mag.toFixed(1)).padStart(5),
+      ].join(' '),
+    );
+  }
+  return `${lines.join('\n')}\n`;
+}
+
+export const main: CommandMain = async (argv, io) => {
+  let values: Options;
+  try {
+    ({ values } = parseArgs({
+      args: argv,
+      options: {
+        notice: { type: 'string' },
+        site: { type: 'string' },
+        lat: { type: 'string' },
+        lon: { type: 'string' },
+        height: { type: 'string' },
+        times: { type: 'string' },
+        start: { type: 'string' },
+        end: { type: 'string' },
+        step: { type: 'string' },
+        json: { type: 'boolean' },
+        config: { type: 'string' },
+        help: { type: 'boolean', short: 'h' },
+      },
+    }));
+  } catch (err) {
+    throw new UsageError((err as Error).message);
+  }
+  if (values.help) {
+    io.stdout(`${HELP}\n`);
+    return 0;
+  }
+  if (values.notice === undefined) throw new UsageError('--notice FILE is required');
+  const times = requestedTimes(values);
+  const { location, label } = viewpoint(values, io);
+  const read = readNotice(values.notice, io.cwd);
+  if (!read.ok) {
+    io.stderr(`nightjar ephem: ${read.message}\n`);
+    return 1;
+  }
+  const notice = read.notice;
+  if (notice.orbit === undefined) {
+    io.stderr(
+      `nightjar ephem: notice ${notice.noticeId} (${notice.objectId}) carries observations but no orbit block; ` +
+        'estimating an orbit from a tracklet alone is not available yet, so no ephemeris is printed\n',
+    );
+    return EXIT_NO_ORBIT;
+  }
+  const { elements, epochTt } = elementsFromNoticeOrbit(notice.orbit);
+  const photometry = notice.orbit.H === undefined ? undefined : { hMag: notice.orbit.H, g: notice.orbit.G ?? 0.15 };
+  const rows = ephemerisFromElements(elements, epochTt, location, times, photometry ? { photometry } : {}).map(roundRow);
+  io.stdout(values.json ? `${JSON.stringify(rows, null, 2)}\n` : formatText(rows, notice, label));
+  return 0;
+};

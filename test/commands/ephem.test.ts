@@ -1,0 +1,135 @@
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join, resolve } from 'node:path';
+import { afterAll, describe, expect, it } from 'vitest';
+import { rmSync } from 'node:fs';
+import { UsageError, type CommandIo } from '../../src/commands/io.js';
+import { elementsFromNoticeOrbit, main } from '../../src/commands/ephem.js';
+import { ephemerisFromElements } from '../../src/orbit/ephemeris.js';
+import { loadConfig } from '../../src/config/load.js';
+
+function collectingIo(): CommandIo & { out: string[]; err: string[] } {
+  const out: string[] = [];
+  const err: string[] = [];
+  return { out, err, stdout: (t) => out.push(t), stderr: (t) => err.push(t), env: {}, cwd: process.cwd() };
+}
+
+// An invented object and sender; the elements are made up for the test.
+const orbitNotice = {
+  format: 'nightjar.notice.v1',
+  noticeId: 'test-orbit-0001',
+  objectId: 'LR27C1M',
+  issuedAt: '2027-03-04T05:00:00Z',
+  sender: 'Test sender (invented)',
+  observer: { lat: 32.87, lon: -105.48, height: 2790 },
+  observations: [
+    { t: '2027-03-04T04:00:00Z', ra: 150.1, dec: 10.2, sigma: 0.4 },
+    { t: '2027-03-04T04:30:00Z', ra: 150.2, dec: 10.25, sigma: 0.4 },
+  ],
+  orbit: { epoch: '2027-03-04T00:00:00Z', q: 0.95, e: 0.25, i: 4, node: 163, peri: 200, tp: '2027-02-20T06:00:00Z', H: 24.5, G: 0.2 },
+};
+
+const dir = mkdtempSync(join(tmpdir(), 'nightjar-ephem-'));
+afterAll(() => rmSync(dir, { recursive: true, force: true }));
+const write = (name: string, body: unknown) => {
+  const path = join(dir, name);
+  writeFileSync(path, typeof body === 'string' ? body : JSON.stringify(body));
+  return path;
+};
+const orbitPath = write('orbit.json', orbitNotice);
+const trackletOnlyPath = resolve('config/demo/notices/0001-HF26K0A.json');
+
+interface Row {
+  t: string; ra: number; dec: number; raRate: number; decRate: number; unc: unknown; mag: number | null; magSigma: unknown;
+  delta: number; r: number; phase: number; elong: number; alt: number; az: number; airmass: number | null;
+}
+
+describe('nightjar ephem', () => {
+  it('prints one JSON row per requested time with exactly the documented fields', async () => {
+    const io = collectingIo();
+    const code = await main(['--notice', orbitPath, '--site', 'lantern-ridge', '--times', '2027-03-05T03:00:00Z,2027-03-05T04:00:00Z', '--json'], io);
+    expect(code).toBe(0);
+    const rows = JSON.parse(io.out.join('')) as Row[];
+    expect(rows).toHaveLength(2);
+    expect(Object.keys(rows[0]!)).toEqual(['t', 'ra', 'dec', 'raRate', 'decRate', 'unc', 'mag', 'magSigma', 'delta', 'r', 'phase', 'elong', 'alt', 'az', 'airmass']);
+    expect(rows[0]!.t).toBe('2027-03-05T03:00:00.000Z');
+    expect(rows[0]!.unc).toBeNull();
+  });
+
+  it('gives the same numbers as the orbit module for the site in the configuration, to the printed precision', async () => {
+    const io = collectingIo();
+    await main(['--notice', orbitPath, '--site', 'lantern-ridge', '--times', '2027-03-05T03:00:00Z', '--json'], io);
+    const [row] = JSON.parse(io.out.join('')) as Row[];
+    const site = loadConfig({ env: {} }).sites.find((s) => s.id === 'lantern-ridge')!;
+    const { elements, epochTt } = elementsFromNoticeOrbit(orbitNotice.orbit);
+    const [direct] = ephemerisFromElements(elements, epochTt, site.location, [new Date('2027-03-05T03:00:00Z')], { photometry: { hMag: 24.5, g: 0.2 } });
+    expect(row!.ra).toBeCloseTo(direct!.ra, 6);
+    expect(row!.dec).toBeCloseTo(direct!.dec, 6);
+    expect(row!.mag).toBeCloseTo(direct!.mag!, 2);
+    expect(row!.delta).toBeCloseTo(direct!.delta, 9);
+  });
+
+  it('builds a time grid from --start, --end and --step, both ends included', async () => {
+    const io = collectingIo();
+    await main(['--notice', orbitPath, '--lat', '34.2', '--lon=-107.6', '--height', '2300', '--start', '2027-03-05T00:00:00Z', '--end', '2027-03-05T02:00:00Z', '--step', '30', '--json'], io);
+    const rows = JSON.parse(io.out.join('')) as Row[];
+    expect(rows.map((r) => r.t)).toEqual(['00:00', '00:30', '01:00', '01:30', '02:00'].map((hm) => `2027-03-05T${hm}:00.000Z`));
+  });
+
+  it('prints a table for people without --json', async () => {
+    const io = collectingIo();
+    expect(await main(['--notice', orbitPath, '--site', 'kestrel-hollow', '--times', '2027-03-05T03:00:00Z'], io)).toBe(0);
+    const text = io.out.join('');
+    expect(text).toMatch(/^ephemeris of LR27C1M \(notice test-orbit-0001\) from kestrel-hollow/);
+    expect(text).toMatch(/\n2027-03-05T03:00:00Z +\d{2} \d{2} \d{2}\.\d{2} +[+-]\d{2} \d{2} \d{2}\.\d/);
+  });
+
+  it('exits 2 without numbers when the notice has only a tracklet', async () => {
+    const io = collectingIo();
+    expect(await main(['--notice', trackletOnlyPath, '--site', 'lantern-ridge', '--times', '2026-11-30T06:00:00Z', '--json'], io)).toBe(2);
+    expect(io.out.join('')).toBe('');
+    expect(io.err.join('')).toMatch(/no orbit block; estimating an orbit from a tracklet alone is not available yet/);
+  });
+
+  it('does not check the age of a notice: a notice from the future is accepted', async () => {
+    const future = write('future.json', { ...orbitNotice, issuedAt: '2099-01-01T00:00:00Z' });
+    expect(await main(['--notice', future, '--site', 'lantern-ridge', '--times', '2027-03-05T03:00:00Z', '--json'], collectingIo())).toBe(0);
+  });
+
+  it('exits 1 and lists every problem by path for an invalid notice', async () => {
+    const bad = write('bad.json', { ...orbitNotice, orbit: { ...orbitNotice.orbit, q: -1 } });
+    const io = collectingIo();
+    expect(await main(['--notice', bad, '--site', 'lantern-ridge', '--times', '2027-03-05T03:00:00Z'], io)).toBe(1);
+    expect(io.err.join('')).toMatch(/orbit\.q: expected a number > 0/);
+  });
+
+  it('refuses an unknown site, listing the configured ones', async () => {
+    await expect(main(['--notice', orbitPath, '--site', 'nowhere', '--times', '2027-03-05T03:00:00Z'], collectingIo())).rejects.toThrow(
+      /unknown site "nowhere" \(configured: lantern-ridge, kestrel-hollow\)/,
+    );
+  });
+
+  it('refuses a site given both by id and by coordinates', async () => {
+    await expect(main(['--notice', orbitPath, '--site', 'lantern-ridge', '--lat', '10', '--times', '2027-03-05T03:00:00Z'], collectingIo())).rejects.toThrow(UsageError);
+  });
+
+  it('names the option of an out-of-range ad-hoc latitude', async () => {
+    await expect(main(['--notice', orbitPath, '--lat', '95', '--lon', '10', '--height', '0', '--times', '2027-03-05T03:00:00Z'], collectingIo())).rejects.toThrow(/^--lat: /);
+  });
+
+  it('refuses a time without a zone, saying what is expected', async () => {
+    await expect(main(['--notice', orbitPath, '--site', 'lantern-ridge', '--times', '2027-03-05T03:00:00'], collectingIo())).rejects.toThrow(
+      /--times: "2027-03-05T03:00:00" is not an ISO-8601 UTC time/,
+    );
+  });
+
+  it('refuses a grid with a non-positive step', async () => {
+    await expect(
+      main(['--notice', orbitPath, '--site', 'lantern-ridge', '--start', '2027-03-05T00:00:00Z', '--end', '2027-03-05T01:00:00Z', '--step', '0'], collectingIo()),
+    ).rejects.toThrow(/--step: 0 minutes/);
+  });
+
+  it('reads the demo notice file it points at in its tracklet-only test', () => {
+    expect(JSON.parse(readFileSync(trackletOnlyPath, 'utf8'))).not.toHaveProperty('orbit');
+  });
+});
