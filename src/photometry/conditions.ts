@@ -94,3 +94,13 @@ export type RequestKind = 'photometry' | 'colours' | 'spectrum';
 export class PlanConfigError extends Error {
   override readonly name = 'PlanConfigError';
 }
+
+/**
+ * Total sky-plane rate, arcsec/s, from raRate (already times cos Dec) and
+ * decRate: sqrt(raRate^2 + decRate^2) (small-field approximation).
+ */
+export function skyPlaneRateArcsecPerS(raRate: number, decRate: number): number {
+  if (!Number.isFinite(raRate)) throw new PhotometryInputError('raRate', raRate, 'expected a finite number (arcsec/s, times cos Dec)');
+  if (!Number.isFinite(decRate)) throw new PhotometryInputError('decRate', decRate, 'expected a finite number (arcsec/s)');
+  return Math.hypot(raRate, decRate);
+}

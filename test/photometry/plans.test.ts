@@ -159,3 +159,17 @@ describe('every plan', () => {
     expect(() => planExposure('spectrum', DEMO, { ...base, rateSigmaArcsecPerS: -1 })).toThrow(/rateSigmaArcsecPerS = -1/);
   });
 });
+
+describe('sky-plane rate', () => {
+  it('combines raRate (times cos Dec) and decRate in quadrature', async () => {
+    const { skyPlaneRateArcsecPerS } = await import('../../src/photometry/conditions.js');
+    expect(skyPlaneRateArcsecPerS(0.03, -0.04)).toBeCloseTo(0.05, 15);
+    expect(() => skyPlaneRateArcsecPerS(Number.NaN, 0)).toThrow(/raRate = NaN/);
+  });
+
+  it('exposes every plan function through the folder index', async () => {
+    const index = await import('../../src/photometry/index.js');
+    expect(typeof index.planExposure).toBe('function');
+    expect(typeof index.apparentMagnitudeHG).toBe('function');
+  });
+});
