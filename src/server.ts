@@ -7,6 +7,8 @@ import { feedSourceName } from './intake/feed.js';
 import { ensureInboxFolders, seedInbox } from './intake/inbox.js';
 import { createIntake } from './intake/ingest.js';
 import { intakeJobs } from './jobs/intake-jobs.js';
+import { requestJobs } from './jobs/request-jobs.js';
+import { createServiceMetrics } from './telemetry/metrics.js';
 import { createJobRunner, type JobRunner } from './jobs/scheduler.js';
 import { openStore, type Store } from './store/index.js';
 
@@ -48,25 +50,27 @@ export async function startService(options: StartOptions): Promise<RunningServic
     if (seeded.length > 0) logger.info({ inbox: inbox.path, files: seeded }, 'demo inbox seeded');
   }
 
-  const intake = createIntake({ notices: store.notices, clock, futureToleranceMin: config.service.futureToleranceMin });
+  const metrics = createServiceMetrics();
+  const intake = createIntake({
+    notices: store.notices,
+    clock,
+    futureToleranceMin: config.service.futureToleranceMin,
+    observe: (source, r) => metrics.noticesReceived.inc({ source: source.split(':')[0] ?? source, result: r.status }),
+  });
   const app = await buildApp({
     config,
     store,
     clock,
     migrationsDir,
     intake,
+    metrics,
     logger: logger.child({ part: 'api' }),
     sourceNames: ['inbox', ...config.service.feeds.map(feedSourceName)],
   });
   const jobLog = logger.child({ part: 'jobs' });
+  const log = { info: (o: object, m: string) => jobLog.info(o, m), warn: (o: object, m: string) => jobLog.warn(o, m) };
   const jobs = createJobRunner(
-    intakeJobs({
-      config,
-      store,
-      intake,
-      clock,
-      log: { info: (o, m) => jobLog.info(o, m), warn: (o, m) => jobLog.warn(o, m) },
-    }),
+    [...intakeJobs({ config, store, intake, clock, log, metrics }), ...requestJobs({ config, store, clock, log })],
     (job, err) => jobLog.error({ job, err }, 'job failed'),
   );
   let address: string;

@@ -1,13 +1,19 @@
+import { createHash } from 'node:crypto';
 import Fastify, { type FastifyBaseLogger, type FastifyInstance } from 'fastify';
 import { z } from 'zod';
 import type { Config } from '../config/schema.js';
-import { toValidationIssues } from '../config/issues.js';
-import { createIntake, summarise, type Intake } from '../intake/ingest.js';
-import { isWritable } from '../store/database.js';
+import { createIntake, type Intake } from '../intake/ingest.js';
 import type { Store } from '../store/index.js';
-import { migrationsCurrent } from '../store/migrations.js';
-import { requireRole } from './auth.js';
+import { createServiceMetrics, type ServiceMetrics } from '../telemetry/metrics.js';
+import type { ApiContext } from './context.js';
+import { CAUTIONS, renderDocsPage } from './docs-page.js';
 import { ApiError, errorBody } from './errors.js';
+import { createRateLimiter } from './rate-limit.js';
+import { defineRoute, openApiDocument, registerRoutes, type AnyRouteSpec } from './route-spec.js';
+import { noticeRoutes } from './routes/notices.js';
+import { objectRoutes } from './routes/objects.js';
+import { requestRoutes } from './routes/requests.js';
+import { serviceRoutes } from './routes/service.js';
 
 export interface AppOptions {
   config: Config;
@@ -19,38 +25,58 @@ export interface AppOptions {
   /** A pino logger for request logs; none in tests unless given. */
   logger?: FastifyBaseLogger;
   intake?: Intake;
+  metrics?: ServiceMetrics;
+  /** Extra routes from other parts of the service (e.g. on-demand ephemeris). */
+  extraRoutes?: (ctx: ApiContext) => AnyRouteSpec[];
 }
 
-const pageQuery = z
-  .object({
-    cursor: z.coerce.number().int().positive().optional(),
-    limit: z.coerce.number().int().min(1).max(500).default(50),
-    object: z.string().min(1).max(64).optional(),
-  })
-  .strict();
+export const API_VERSION = '1.0.0';
 
-function parseQuery<T extends z.ZodType>(schema: T, query: unknown): z.infer<T> {
-  const r = schema.safeParse(query);
-  if (!r.success) throw new ApiError(400, 'bad_request', 'invalid query parameters', toValidationIssues(r.error));
-  return r.data;
-}
-
-/** Builds the fastify app (routes, auth, error shape) without listening; tests call `inject` on it. */
+/** Builds the fastify app (routes, auth, error shape, OpenAPI) without listening; tests call `inject` on it. */
 export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
   const { config, store, clock } = options;
   const service = config.service;
+  const metrics = options.metrics ?? createServiceMetrics();
   const intake =
-    options.intake ?? createIntake({ notices: store.notices, clock, futureToleranceMin: service.futureToleranceMin });
+    options.intake ??
+    createIntake({
+      notices: store.notices,
+      clock,
+      futureToleranceMin: service.futureToleranceMin,
+      observe: (source, r) => metrics.noticesReceived.inc({ source: source.split(':')[0] ?? source, result: r.status }),
+    });
+  const ctx: ApiContext = {
+    config,
+    store,
+    intake,
+    clock,
+    metrics,
+    migrationsDir: options.migrationsDir,
+    sourceNames: options.sourceNames ?? ['inbox', ...service.feeds.map((f) => `feed:${f.id}`)],
+  };
+
   const app = Fastify({
     ...(options.logger ? { loggerInstance: options.logger } : { logger: false }),
     bodyLimit: service.bodyLimitBytes,
     requestTimeout: 30_000,
+    connectionTimeout: 60_000,
     return503OnClosing: true,
   });
 
-  // Keep the body as text: notices are stored verbatim and parse errors become kept rejections.
+  // Keep bodies as text: notices are stored verbatim and parse errors become kept rejections.
   app.addContentTypeParser(['application/json', 'application/x-ndjson'], { parseAs: 'string' }, (_req, body, done) => {
     done(null, body);
+  });
+
+  const limiter = createRateLimiter(service.rateLimitPerMinute);
+  app.addHook('onRequest', async (request, reply) => {
+    const auth = request.headers.authorization;
+    const key = typeof auth === 'string' ? `t:${createHash('sha256').update(auth).digest('hex')}` : `ip:${request.ip}`;
+    const wait = limiter.take(key);
+    if (wait > 0) {
+      reply.header('retry-after', String(wait));
+      throw new ApiError(429, 'rate_limited', `too many requests; retry in ${wait} s`, { retryAfterS: wait });
+    }
   });
 
   app.setErrorHandler((err, request, reply) => {
@@ -71,64 +97,51 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
     return reply.status(404).send(errorBody('not_found', `no route ${request.method} ${request.url.split('?')[0]}`));
   });
 
-  app.get('/healthz', async () => ({ status: 'ok', time: clock().toISOString() }));
-
-  app.get('/readyz', async (_request, reply) => {
-    const writable = isWritable(store.db);
-    const migrations = migrationsCurrent(store.db, options.migrationsDir);
-    const states = store.sources.all();
-    const sources = (options.sourceNames ?? states.map((s) => s.source)).map((name) => {
-      const s = states.find((x) => x.source === name);
-      return {
-        source: name,
-        lastAttemptAt: s?.lastAttemptAt ?? null,
-        lastSuccessAt: s?.lastSuccessAt ?? null,
-        consecutiveFailures: s?.consecutiveFailures ?? 0,
-        nextAttemptAt: s?.nextAttemptAt ?? null,
-        lastError: s?.lastError ?? null,
-      };
-    });
-    const ready = writable && migrations.ok;
-    return reply.status(ready ? 200 : 503).send({
-      status: ready ? 'ready' : 'not ready',
-      database: { writable },
-      migrations,
-      sources,
-      work: store.work.counts(),
-    });
-  });
-
-  app.post('/v1/notices', async (request, reply) => {
-    const caller = requireRole(request, service.tokens, 'feeder');
-    const text = typeof request.body === 'string' ? request.body : '';
-    const source = `http:${caller.name}`;
-    const contentType = String(request.headers['content-type'] ?? '');
-    const results = contentType.includes('ndjson') ? intake.ingestNdjson(text, source) : intake.ingestJson(text, source);
-    const counts = summarise(results);
-    const status = counts.rejected === results.length ? 422 : 202;
-    return reply.status(status).send({ ...counts, results });
-  });
-
-  app.get('/v1/notices', async (request) => {
-    requireRole(request, service.tokens, 'reader', { openOnLoopback: service.openReadsOnLoopback });
-    const q = parseQuery(pageQuery, request.query);
-    const rows = store.notices.listNotices({
-      limit: q.limit,
-      ...(q.cursor !== undefined ? { beforeId: q.cursor } : {}),
-      ...(q.object !== undefined ? { objectId: q.object } : {}),
-    });
-    const items = rows.map(({ raw, ...rest }) => ({ ...rest, notice: JSON.parse(raw) as unknown }));
-    const last = rows[rows.length - 1];
-    return { items, nextCursor: rows.length === q.limit && last ? String(last.id) : null };
-  });
-
-  app.get('/v1/rejections', async (request) => {
-    requireRole(request, service.tokens, 'reader', { openOnLoopback: service.openReadsOnLoopback });
-    const q = parseQuery(pageQuery.omit({ object: true }), request.query);
-    const rows = store.notices.listRejections({ limit: q.limit, ...(q.cursor !== undefined ? { beforeId: q.cursor } : {}) });
-    const last = rows[rows.length - 1];
-    return { items: rows, nextCursor: rows.length === q.limit && last ? String(last.id) : null };
-  });
-
+  const routes: AnyRouteSpec[] = [
+    ...serviceRoutes(ctx),
+    ...noticeRoutes(ctx),
+    ...requestRoutes(ctx),
+    ...objectRoutes(ctx),
+    ...(options.extraRoutes ? options.extraRoutes(ctx) : []),
+  ];
+  const info = {
+    title: 'nightjar',
+    version: API_VERSION,
+    description: `Observation requests for newly found near-Earth objects, for the observatory's queue software.\n\n${CAUTIONS.join('\n\n')}`,
+  };
+  const docRoutes: AnyRouteSpec[] = [
+    defineRoute({
+      method: 'GET',
+      url: '/v1/openapi.json',
+      tag: 'service',
+      summary: 'This API as an OpenAPI 3.1 document',
+      role: null,
+      responses: { 200: { description: 'the document', schema: z.object({}).passthrough() } },
+      handler: async () => openApiDocument([...routes, ...docRoutes], info),
+    }),
+    defineRoute({
+      method: 'GET',
+      url: '/v1/docs',
+      tag: 'service',
+      summary: 'This API as a readable page, with the cautions',
+      role: null,
+      produces: 'text/html',
+      responses: { 200: { description: 'HTML', schema: z.string() } },
+      handler: async ({ reply }) =>
+        reply.type('text/html; charset=utf-8').send(renderDocsPage(openApiDocument([...routes, ...docRoutes], info) as Parameters<typeof renderDocsPage>[0])),
+    }),
+  ];
+  metrics.registry.gauge('nightjar_queue_depth', 'Queued requests per site.', () =>
+    config.sites.map((s) => ({ labels: { site: s.id }, value: store.requests.queueDepth().find((d) => d.siteId === s.id)?.n ?? 0 })),
+  );
+  metrics.registry.gauge('nightjar_notices_stored', 'Notices stored in the database.', () => [{ labels: {}, value: store.notices.counts().notices }]);
+  metrics.registry.gauge('nightjar_rejections_stored', 'Rejected payloads kept in the database.', () => [{ labels: {}, value: store.notices.counts().rejections }]);
+  metrics.registry.gauge('nightjar_work_items', 'Work queue items by state.', () =>
+    Object.entries(store.work.counts()).map(([state, n]) => ({ labels: { state }, value: n })),
+  );
+  metrics.registry.gauge('nightjar_source_consecutive_failures', 'Consecutive failures per polled source (backoff while > 0).', () =>
+    store.sources.all().map((s) => ({ labels: { source: s.source }, value: s.consecutiveFailures })),
+  );
+  registerRoutes(app, [...routes, ...docRoutes], { tokens: service.tokens, openReadsOnLoopback: service.openReadsOnLoopback });
   return app;
 }

@@ -43,15 +43,16 @@ export function isLoopback(ip: string): boolean {
 }
 
 /**
- * Checks the caller has `role`. 401 without a token or with an unknown one, 403 with
- * a token lacking the role. Reads may be open on loopback when configured.
+ * Checks the caller has `role` (or one of them). 401 without a token or with an unknown
+ * one, 403 with a token lacking the role. Reads may be open on loopback when configured.
  */
 export function requireRole(
   request: FastifyRequest,
   tokens: readonly TokenEntry[],
-  role: Role,
+  role: Role | readonly Role[],
   options: { openOnLoopback?: boolean } = {},
 ): Caller {
+  const wanted: readonly Role[] = typeof role === 'string' ? [role] : role;
   const bearer = bearerOf(request);
   if (bearer === null) {
     if (options.openOnLoopback && isLoopback(request.ip)) return { name: 'loopback', roles: ['reader'] };
@@ -59,7 +60,10 @@ export function requireRole(
   }
   const caller = identify(tokens, bearer);
   if (!caller) throw new ApiError(401, 'unauthenticated', 'unknown token');
-  if (!caller.roles.includes(role))
-    throw new ApiError(403, 'forbidden', `this token (${caller.name}) lacks the "${role}" role`, { required: role, has: caller.roles });
+  if (!wanted.some((r) => caller.roles.includes(r)))
+    throw new ApiError(403, 'forbidden', `this token (${caller.name}) lacks the ${wanted.map((r) => `"${r}"`).join(' or ')} role`, {
+      required: wanted,
+      has: caller.roles,
+    });
   return caller;
 }

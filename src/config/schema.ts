@@ -186,6 +186,8 @@ export const serviceSchema = z
     /** Leave GET endpoints open to callers on the loopback interface. */
     openReadsOnLoopback: z.boolean().default(false),
     bodyLimitBytes: z.number().int().min(1024).max(64 * 1024 * 1024).default(4 * 1024 * 1024),
+    /** Requests per minute allowed per token (or per address without one); 429 beyond. */
+    rateLimitPerMinute: z.number().int().min(1).max(1_000_000).default(1200),
     /** Clock skew allowed for notice times in the future, minutes. */
     futureToleranceMin: finite().min(0).max(1440).default(5),
   })

@@ -21,6 +21,8 @@ export interface IntakeOptions {
   notices: NoticeStore;
   clock: () => Date;
   futureToleranceMin: number;
+  /** Called once per notice with its source (e.g. `inbox:file.json`) and what happened, for metrics. */
+  observe?: (source: string, result: IntakeResult) => void;
 }
 
 /** Flattens a validated notice into the store's input. */
@@ -63,6 +65,12 @@ export function createIntake(options: IntakeOptions) {
   const { notices, clock } = options;
 
   function ingestItem(item: PayloadItem, source: string): IntakeResult {
+    const result = classify(item, source);
+    options.observe?.(source, result);
+    return result;
+  }
+
+  function classify(item: PayloadItem, source: string): IntakeResult {
     const now = clock();
     if (!item.ok) {
       const rejectionId = notices.recordRejection({

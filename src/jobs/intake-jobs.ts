@@ -4,6 +4,7 @@ import { processInbox } from '../intake/inbox.js';
 import type { Intake } from '../intake/ingest.js';
 import { summarise } from '../intake/ingest.js';
 import type { Store } from '../store/index.js';
+import type { ServiceMetrics } from '../telemetry/metrics.js';
 import type { JobSpec } from './scheduler.js';
 
 export interface IntakeJobDeps {
@@ -13,6 +14,7 @@ export interface IntakeJobDeps {
   clock: () => Date;
   log: { info: (obj: object, msg: string) => void; warn: (obj: object, msg: string) => void };
   fetchFn?: typeof fetch;
+  metrics?: ServiceMetrics;
 }
 
 /** The inbox scan and one poll job per configured feed. */
@@ -43,7 +45,10 @@ export function intakeJobs(deps: IntakeJobDeps): JobSpec[] {
           now: clock,
           ...(deps.fetchFn ? { fetchFn: deps.fetchFn } : {}),
         });
-        if (outcome.status === 'failed') log.warn({ feed: feedSourceName(feed), ...outcome }, 'feed poll failed');
+        if (outcome.status === 'failed') {
+          deps.metrics?.pollFailures.inc({ feed: feed.id });
+          log.warn({ feed: feedSourceName(feed), ...outcome }, 'feed poll failed');
+        }
         else if (outcome.status === 'fetched') log.info({ feed: feedSourceName(feed), ...outcome }, 'feed polled');
       },
     });

@@ -111,7 +111,7 @@ describe('review and health routes', () => {
     const { app } = await setup();
     const res = await app.inject({ url: '/v1/notices?limit=0', headers: bearer(DEMO_TOKENS.reader) });
     expect(res.statusCode).toBe(400);
-    expect(res.json().error.details[0]).toEqual({ path: 'limit', message: 'expected a number >= 1' });
+    expect(res.json().error.details[0]).toEqual({ path: 'query.limit', message: 'expected a number >= 1' });
   });
 
   it('answers unknown routes with 404 in the error shape', async () => {

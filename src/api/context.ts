@@ -1,0 +1,15 @@
+import type { Config } from '../config/schema.js';
+import type { Intake } from '../intake/ingest.js';
+import type { Store } from '../store/index.js';
+import type { ServiceMetrics } from '../telemetry/metrics.js';
+
+/** What every route may use. */
+export interface ApiContext {
+  config: Config;
+  store: Store;
+  intake: Intake;
+  clock: () => Date;
+  metrics: ServiceMetrics;
+  migrationsDir: string;
+  sourceNames: string[];
+}

@@ -1,0 +1,267 @@
+import { z } from 'zod';
+import { NOTICE_BANDS, NOTICE_FORMAT } from '../../intake/notice.js';
+import type { LeaseCheck, RequestKind, RequestState } from '../../store/requests.js';
+import type { ApiContext } from '../context.js';
+import { ApiError } from '../errors.js';
+import { defineRoute, type AnyRouteSpec } from '../route-spec.js';
+import { errorSchema, idParams, isoTime, kindSchema, limitParam, pageOf, requestView, stateSchema, toRequestView } from '../schemas.js';
+
+const MAX_LEASE_S = 6 * 3600;
+
+const leaseBody = z
+  .object({
+    holder: z.string().min(1).max(120).describe('who takes it, e.g. the queue software instance'),
+    seconds: z.number().int().min(10).max(MAX_LEASE_S).describe('lease length, 10 s to 6 h'),
+  })
+  .strict();
+
+const renewBody = z
+  .object({
+    leaseToken: z.string().min(1).max(200),
+    seconds: z.number().int().min(10).max(MAX_LEASE_S),
+  })
+  .strict();
+
+const astrometryRow = z
+  .object({
+    t: isoTime(),
+    ra: z.number().min(0).lt(360).describe('deg, astrometric ICRS from the site'),
+    dec: z.number().min(-90).max(90).describe('deg'),
+    sigma: z.number().gt(0).max(3600).describe('1-sigma per axis, arcsec'),
+    mag: z.number().min(-5).max(35).optional(),
+    band: z.enum(NOTICE_BANDS).optional(),
+  })
+  .strict();
+
+const outcomeBody = z
+  .object({
+    leaseToken: z.string().min(1).max(200),
+    result: z.enum(['done', 'failed']),
+    observedAt: isoTime(),
+    notes: z.string().max(4000).optional(),
+    astrometry: z.array(astrometryRow).max(2000).optional().describe('positions measured at the site; fed back as a notice so the orbit improves'),
+  })
+  .strict();
+
+const withdrawBody = z.object({ reason: z.string().min(1).max(1000) }).strict();
+
+const queueQuery = z
+  .object({
+    site: z.string().min(1).max(32).describe('site id from the configuration'),
+    from: isoTime().optional().describe('default: now'),
+    to: isoTime().optional().describe('default: from + 12 h'),
+    kind: kindSchema.optional(),
+    limit: limitParam,
+  })
+  .strict();
+
+const listQuery = z
+  .object({
+    state: stateSchema.optional(),
+    site: z.string().min(1).max(32).optional(),
+    object: z.string().min(1).max(64).optional(),
+    cursor: z.string().max(200).optional(),
+    limit: limitParam,
+  })
+  .strict();
+
+const requestWithHistory = requestView.extend({
+  history: z.array(z.object({ at: z.string(), fromState: z.string().nullable(), toState: z.string(), detail: z.string().nullable() })),
+});
+
+function leaseFailure(check: Exclude<LeaseCheck, { status: 'ok' }>, id: string): ApiError {
+  switch (check.status) {
+    case 'not_found':
+      return new ApiError(404, 'not_found', `no request ${id}`);
+    case 'not_leased':
+      return new ApiError(409, 'not_leased', `request ${id} is ${check.state}, not leased`, { state: check.state });
+    case 'bad_token':
+      return new ApiError(409, 'stale_lease', `the lease token does not match the current lease of ${id}; lease it again`);
+    case 'expired':
+      return new ApiError(409, 'lease_expired', `the lease of ${id} ran out at ${check.at}; lease it again`, { expiredAt: check.at });
+  }
+}
+
+function encodeCursor(createdAt: string, id: string): string {
+  return Buffer.from(`${createdAt}|${id}`).toString('base64url');
+}
+
+function decodeCursor(cursor: string): { createdAt: string; id: string } {
+  const text = Buffer.from(cursor, 'base64url').toString('utf8');
+  const [createdAt, id] = text.split('|');
+  if (!createdAt || !id) throw new ApiError(400, 'bad_request', 'invalid cursor', [{ path: 'query.cursor', message: 'not a cursor this API gave out' }]);
+  return { createdAt, id };
+}
+
+export function requestRoutes(ctx: ApiContext): AnyRouteSpec[] {
+  const { store, clock, config } = ctx;
+  const siteIds = new Set(config.sites.map((s) => s.id));
+  const checkSite = (site: string) => {
+    if (!siteIds.has(site))
+      throw new ApiError(400, 'bad_request', `unknown site "${site}"`, [{ path: 'query.site', message: `expected one of ${[...siteIds].join(', ')}` }]);
+  };
+
+  return [
+    defineRoute({
+      method: 'GET',
+      url: '/v1/queue',
+      tag: 'queue',
+      summary: 'Queued requests for a site, best score first',
+      description: 'Requests whose window is open at `from` or opens before `to`, each with its exposure sequence, tracking rates and ephemeris table.',
+      role: ['scheduler', 'reader'],
+      readsOpenOnLoopback: true,
+      query: queueQuery,
+      responses: { 200: { description: 'the queue', schema: z.object({ site: z.string(), from: z.string(), to: z.string(), items: z.array(requestView) }) }, 400: { description: 'bad query', schema: errorSchema } },
+      handler: async ({ query }) => {
+        checkSite(query.site);
+        const from = query.from ?? clock().toISOString();
+        const to = query.to ?? new Date(Date.parse(from) + 12 * 3600_000).toISOString();
+        const items = store.requests.queue({ siteId: query.site, from, to, limit: query.limit, ...(query.kind ? { kind: query.kind as RequestKind } : {}) });
+        return { site: query.site, from, to, items: items.map(toRequestView) };
+      },
+    }),
+    defineRoute({
+      method: 'POST',
+      url: '/v1/requests/:id/lease',
+      tag: 'queue',
+      summary: 'Take a request for execution',
+      description: 'Atomic: exactly one caller wins. The lease token in the answer is needed to renew it and to report the outcome. A lease that runs out returns the request to the queue.',
+      role: 'scheduler',
+      params: idParams,
+      body: leaseBody,
+      responses: {
+        200: { description: 'leased', schema: z.object({ leaseToken: z.string(), leaseExpiresAt: z.string(), request: requestView }) },
+        404: { description: 'no such request', schema: errorSchema },
+        409: { description: 'another holder has it (details: holder, until), or it is no longer leasable', schema: errorSchema },
+      },
+      handler: async ({ params, body }) => {
+        const r = store.requests.lease(params.id, body.holder, body.seconds, clock());
+        switch (r.status) {
+          case 'leased':
+            return { leaseToken: r.leaseToken, leaseExpiresAt: r.request.leaseExpiresAt, request: toRequestView(r.request) };
+          case 'not_found':
+            throw new ApiError(404, 'not_found', `no request ${params.id}`);
+          case 'conflict':
+            ctx.metrics.leaseConflicts.inc({ site: store.requests.get(params.id)?.siteId ?? 'unknown' });
+            throw new ApiError(409, 'lease_conflict', `request ${params.id} is leased by ${r.holder} until ${r.until}`, { holder: r.holder, until: r.until });
+          case 'not_leasable':
+            throw new ApiError(409, 'not_leasable', `request ${params.id} cannot be leased: ${r.reason}`, { state: r.state });
+        }
+      },
+    }),
+    defineRoute({
+      method: 'POST',
+      url: '/v1/requests/:id/lease/renew',
+      tag: 'queue',
+      summary: 'Extend a lease you hold',
+      role: 'scheduler',
+      params: idParams,
+      body: renewBody,
+      responses: {
+        200: { description: 'renewed', schema: z.object({ leaseExpiresAt: z.string(), request: requestView }) },
+        404: { description: 'no such request', schema: errorSchema },
+        409: { description: 'not leased, stale token or expired lease', schema: errorSchema },
+      },
+      handler: async ({ params, body }) => {
+        const r = store.requests.renew(params.id, body.leaseToken, body.seconds, clock());
+        if (r.status !== 'ok') throw leaseFailure(r, params.id);
+        return { leaseExpiresAt: r.request.leaseExpiresAt, request: toRequestView(r.request) };
+      },
+    }),
+    defineRoute({
+      method: 'POST',
+      url: '/v1/requests/:id/outcome',
+      tag: 'queue',
+      summary: 'Report a leased request done or failed',
+      description:
+        'Needs the current lease token. Astrometry measured at the site is stored as a new notice for the object (sender `site:<id>`), which puts the object back on the work queue so its orbit and remaining requests are recomputed.',
+      role: 'scheduler',
+      params: idParams,
+      body: outcomeBody,
+      responses: {
+        200: { description: 'recorded', schema: z.object({ request: requestView, astrometry: z.unknown().nullable() }) },
+        404: { description: 'no such request', schema: errorSchema },
+        409: { description: 'not leased, stale token or expired lease', schema: errorSchema },
+      },
+      handler: async ({ params, body }) => {
+        const now = clock();
+        const r = store.requests.recordOutcome(params.id, body.leaseToken, { result: body.result, observedAt: body.observedAt, notes: body.notes ?? null }, now);
+        if (r.status !== 'ok') throw leaseFailure(r, params.id);
+        let astrometry: unknown = null;
+        if (body.astrometry && body.astrometry.length > 0) {
+          const site = config.sites.find((s) => s.id === r.request.siteId);
+          const notice = {
+            format: NOTICE_FORMAT,
+            noticeId: `outcome-${r.request.id}`,
+            objectId: r.request.objectId,
+            issuedAt: now.toISOString(),
+            sender: `site:${r.request.siteId}`,
+            observer: site
+              ? { lat: site.location.latDeg, lon: site.location.lonDeg > 180 ? site.location.lonDeg - 360 : site.location.lonDeg, height: site.location.heightM }
+              : { lat: 0, lon: 0, height: 0 },
+            observations: [...body.astrometry].sort((a, b) => Date.parse(a.t) - Date.parse(b.t)),
+          };
+          const [result] = ctx.intake.ingestValue(notice, JSON.stringify(notice), `outcome:${r.request.id}`);
+          astrometry = result ?? null;
+        }
+        return { request: toRequestView(r.request), astrometry };
+      },
+    }),
+    defineRoute({
+      method: 'POST',
+      url: '/v1/requests/:id/withdraw',
+      tag: 'review',
+      summary: 'Withdraw a queued or leased request (operator)',
+      role: 'operator',
+      params: idParams,
+      body: withdrawBody,
+      responses: {
+        200: { description: 'withdrawn', schema: requestView },
+        404: { description: 'no such request', schema: errorSchema },
+        409: { description: 'already in a final state', schema: errorSchema },
+      },
+      handler: async ({ params, body, caller }) => {
+        const r = store.requests.withdraw(params.id, `withdrawn by ${caller?.name ?? 'operator'}: ${body.reason}`, clock());
+        if ('status' in r && r.status === 'not_found') throw new ApiError(404, 'not_found', `no request ${params.id}`);
+        if ('status' in r && r.status === 'final') throw new ApiError(409, 'final_state', `request ${params.id} is already ${r.state}`, { state: r.state });
+        return toRequestView(r as Exclude<typeof r, { status: string }>);
+      },
+    }),
+    defineRoute({
+      method: 'GET',
+      url: '/v1/requests/:id',
+      tag: 'review',
+      summary: 'One request with its history',
+      role: ['reader', 'scheduler', 'operator'],
+      readsOpenOnLoopback: true,
+      params: idParams,
+      responses: { 200: { description: 'the request', schema: requestWithHistory }, 404: { description: 'no such request', schema: errorSchema } },
+      handler: async ({ params }) => {
+        const r = store.requests.get(params.id);
+        if (!r) throw new ApiError(404, 'not_found', `no request ${params.id}`);
+        return { ...toRequestView(r), history: store.requests.history(r.id) };
+      },
+    }),
+    defineRoute({
+      method: 'GET',
+      url: '/v1/requests',
+      tag: 'review',
+      summary: 'Requests, newest first, filtered by state, site and object',
+      role: ['reader', 'scheduler', 'operator'],
+      readsOpenOnLoopback: true,
+      query: listQuery,
+      responses: { 200: { description: 'a page', schema: pageOf(requestView) }, 400: { description: 'bad query', schema: errorSchema } },
+      handler: async ({ query }) => {
+        const rows = store.requests.list({
+          limit: query.limit,
+          ...(query.state ? { state: query.state as RequestState } : {}),
+          ...(query.site ? { siteId: query.site } : {}),
+          ...(query.object ? { objectId: query.object } : {}),
+          ...(query.cursor ? { before: decodeCursor(query.cursor) } : {}),
+        });
+        const last = rows[rows.length - 1];
+        return { items: rows.map(toRequestView), nextCursor: rows.length === query.limit && last ? encodeCursor(last.createdAt, last.id) : null };
+      },
+    }),
+  ];
+}
