@@ -156,82 +156,48 @@ export function absoluteMagnitudeFromObserved(
 
 // ---- H, G12 (Muinonen et al. 2010) ----
 
-interface ClampedSpline {
+/** A piecewise cubic Hermite curve: values and first derivatives (per radian) at nodes (radians). */
+interface HermiteTable {
   readonly x: readonly number[];
   readonly y: readonly number[];
-  readonly m: readonly number[];
+  readonly dy: readonly number[];
 }
 
-/** Second derivatives of a cubic spline with given end slopes (clamped), by the tridiagonal system. */
-function buildClampedSpline(x: readonly number[], y: readonly number[], slopeStart: number, slopeEnd: number): ClampedSpline {
-  const n = x.length;
-  const h: number[] = [];
-  for (let i = 0; i < n - 1; i++) h.push((x[i + 1] as number) - (x[i] as number));
-  const sub = new Array<number>(n).fill(0);
-  const diag = new Array<number>(n).fill(0);
-  const sup = new Array<number>(n).fill(0);
-  const rhs = new Array<number>(n).fill(0);
-  const at = (a: readonly number[], i: number): number => a[i] as number;
-  diag[0] = 2 * at(h, 0);
-  sup[0] = at(h, 0);
-  rhs[0] = 6 * ((at(y, 1) - at(y, 0)) / at(h, 0) - slopeStart);
-  for (let i = 1; i < n - 1; i++) {
-    sub[i] = at(h, i - 1);
-    diag[i] = 2 * (at(h, i - 1) + at(h, i));
-    sup[i] = at(h, i);
-    rhs[i] = 6 * ((at(y, i + 1) - at(y, i)) / at(h, i) - (at(y, i) - at(y, i - 1)) / at(h, i - 1));
-  }
-  sub[n - 1] = at(h, n - 2);
-  diag[n - 1] = 2 * at(h, n - 2);
-  rhs[n - 1] = 6 * (slopeEnd - (at(y, n - 1) - at(y, n - 2)) / at(h, n - 2));
-  // Thomas algorithm.
-  for (let i = 1; i < n; i++) {
-    const w = at(sub, i) / at(diag, i - 1);
-    diag[i] = at(diag, i) - w * at(sup, i - 1);
-    rhs[i] = at(rhs, i) - w * at(rhs, i - 1);
-  }
-  const m = new Array<number>(n).fill(0);
-  m[n - 1] = at(rhs, n - 1) / at(diag, n - 1);
-  for (let i = n - 2; i >= 0; i--) m[i] = (at(rhs, i) - at(sup, i) * at(m, i + 1)) / at(diag, i);
-  return Object.freeze({ x: Object.freeze([...x]), y: Object.freeze([...y]), m: Object.freeze(m) });
-}
-
-function evaluateSpline(s: ClampedSpline, xv: number): number {
+/** Cubic Hermite interpolation between the bracketing nodes (the basis functions are defined this way). */
+function evaluateHermite(table: HermiteTable, xv: number): number {
   let i = 0;
-  while (i < s.x.length - 2 && xv > (s.x[i + 1] as number)) i++;
-  const x0 = s.x[i] as number;
-  const x1 = s.x[i + 1] as number;
-  const y0 = s.y[i] as number;
-  const y1 = s.y[i + 1] as number;
-  const m0 = s.m[i] as number;
-  const m1 = s.m[i + 1] as number;
+  while (i < table.x.length - 2 && xv > (table.x[i + 1] as number)) i++;
+  const x0 = table.x[i] as number;
+  const x1 = table.x[i + 1] as number;
+  const y0 = table.y[i] as number;
+  const y1 = table.y[i + 1] as number;
   const h = x1 - x0;
-  const a = x1 - xv;
-  const b = xv - x0;
-  return (m0 * a ** 3 + m1 * b ** 3) / (6 * h) + (y0 / h - (m0 * h) / 6) * a + (y1 / h - (m1 * h) / 6) * b;
+  const d0 = (table.dy[i] as number) * h;
+  const d1 = (table.dy[i + 1] as number) * h;
+  const t = (xv - x0) / h;
+  const t2 = t * t;
+  const t3 = t2 * t;
+  return (2 * t3 - 3 * t2 + 1) * y0 + (t3 - 2 * t2 + t) * d0 + (-2 * t3 + 3 * t2) * y1 + (t3 - t2) * d1;
 }
 
-const rad = (degrees: readonly number[]): number[] => degrees.map((d) => d * DEG);
+const rad = (degrees: readonly number[]): readonly number[] => Object.freeze(degrees.map((d) => d * DEG));
 
-// Nodes, values and end slopes (per radian) of the basis functions, Muinonen et al. (2010), Icarus 209, 542, table 1.
-const PHI1_SPLINE = buildClampedSpline(
-  rad([7.5, 30, 60, 90, 120]),
-  [7.5e-1, 3.3486016e-1, 1.341056e-1, 5.1104756e-2, 2.1465687e-2],
-  -1.9098593,
-  -9.1328612e-2,
-);
-const PHI2_SPLINE = buildClampedSpline(
-  rad([7.5, 30, 60, 90, 120]),
-  [9.25e-1, 6.2884169e-1, 3.1755495e-1, 1.2716367e-1, 2.2373903e-2],
-  -5.729578e-1,
-  -8.6573138e-8,
-);
-const PHI3_SPLINE = buildClampedSpline(
-  rad([0, 0.3, 1, 2, 4, 8, 12, 20, 30]),
-  [1, 8.3381185e-1, 5.7735424e-1, 4.2144772e-1, 2.317423e-1, 1.0348178e-1, 6.1733473e-2, 1.6107006e-2, 0],
-  -1.0630097e-1,
-  0,
-);
+// Node values and derivatives (per radian) of the basis functions, Muinonen et al. (2010), Icarus 209, 542, appendix tables.
+const PHI1_TABLE: HermiteTable = Object.freeze({
+  x: rad([7.5, 30, 60, 90, 120, 150]),
+  y: Object.freeze([7.5e-1, 3.3486016e-1, 1.341056e-1, 5.1104756e-2, 2.1465687e-2, 3.6396989e-3]),
+  dy: Object.freeze([-1.9098593, -5.5463432e-1, -2.4404599e-1, -9.4980438e-2, -2.1411424e-2, -9.1328612e-2]),
+});
+const PHI2_TABLE: HermiteTable = Object.freeze({
+  x: rad([7.5, 30, 60, 90, 120, 150]),
+  y: Object.freeze([9.25e-1, 6.2884169e-1, 3.1755495e-1, 1.2716367e-1, 2.2373903e-2, 1.6505689e-4]),
+  dy: Object.freeze([-5.729578e-1, -7.6705367e-1, -4.5665789e-1, -2.8071809e-1, -1.1173257e-1, -8.6573138e-8]),
+});
+const PHI3_TABLE: HermiteTable = Object.freeze({
+  x: rad([0, 0.3, 1, 2, 4, 8, 12, 20, 30]),
+  y: Object.freeze([1, 8.3381185e-1, 5.7735424e-1, 4.2144772e-1, 2.317423e-1, 1.0348178e-1, 6.1733473e-2, 1.6107006e-2, 0]),
+  dy: Object.freeze([-1.0630097e-1, -4.1180439e1, -1.0366915e1, -7.5784615, -3.696095, -7.8605652e-1, -4.6527012e-1, -2.0459545e-1, 0]),
+});
 
 /** The three basis functions of the H,G1,G2 system at one phase angle (Muinonen et al. 2010). */
 export interface PhaseFunctionsHG1G2 {
@@ -242,20 +208,18 @@ export interface PhaseFunctionsHG1G2 {
 
 /**
  * Basis functions Phi1, Phi2, Phi3 of the H,G1,G2 system (Muinonen et al.
- * 2010, Icarus 209, 542): clamped cubic splines through the published nodes;
- * below 7.5 deg Phi1 = 1 - 6 alpha/pi and Phi2 = 1 - 9 alpha/(5 pi) (alpha in
- * rad); Phi3 is 0 beyond 30 deg. Defined for phase 0-150 deg (beyond 120 deg
- * Phi1 and Phi2 continue the last spline piece, as the published system does not
- * go further; treat such values as rough).
+ * 2010, Icarus 209, 542): cubic Hermite pieces through the published node values
+ * and derivatives; below 7.5 deg Phi1 = 1 - 6 alpha/pi and Phi2 = 1 - 9
+ * alpha/(5 pi) (alpha in rad); Phi3 is 0 beyond 30 deg. Defined for phase 0-150 deg.
  */
 export function phaseFunctionsHG1G2(phaseDeg: number): PhaseFunctionsHG1G2 {
   requireInRange('phaseDeg (Sun-object-observer angle, deg)', phaseDeg, 0, 150);
   const alpha = phaseDeg * DEG;
   const linearPart = phaseDeg < 7.5;
   return {
-    phi1: linearPart ? 1 - (6 * alpha) / Math.PI : Math.max(0, evaluateSpline(PHI1_SPLINE, alpha)),
-    phi2: linearPart ? 1 - (9 * alpha) / (5 * Math.PI) : Math.max(0, evaluateSpline(PHI2_SPLINE, alpha)),
-    phi3: phaseDeg >= 30 ? 0 : evaluateSpline(PHI3_SPLINE, alpha),
+    phi1: linearPart ? 1 - (6 * alpha) / Math.PI : evaluateHermite(PHI1_TABLE, alpha),
+    phi2: linearPart ? 1 - (9 * alpha) / (5 * Math.PI) : evaluateHermite(PHI2_TABLE, alpha),
+    phi3: phaseDeg >= 30 ? 0 : evaluateHermite(PHI3_TABLE, alpha),
   };
 }
 

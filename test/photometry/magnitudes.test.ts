@@ -87,12 +87,24 @@ describe('IAU H-G magnitudes (Bowell et al. 1989)', () => {
 });
 
 describe('H, G12 magnitudes (Muinonen et al. 2010)', () => {
-  it('passes through the published spline nodes', () => {
-    // Node values of Muinonen et al. (2010), table 1 (quoted from memory).
+  it('passes through the published nodes', () => {
+    // Node values of Muinonen et al. (2010), appendix tables.
     expect(phaseFunctionsHG1G2(30).phi1).toBeCloseTo(0.33486016, 7);
     expect(phaseFunctionsHG1G2(60).phi2).toBeCloseTo(0.31755495, 7);
     expect(phaseFunctionsHG1G2(1).phi3).toBeCloseTo(0.57735424, 7);
     expect(phaseFunctionsHG1G2(8).phi3).toBeCloseTo(0.10348178, 7);
+  });
+
+  it('has the published derivatives at the nodes (per radian)', () => {
+    const slope = (f: (a: number) => number, aDeg: number): number => (f(aDeg + 1e-4) - f(aDeg - 1e-4)) / ((2e-4 * Math.PI) / 180);
+    expect(slope((a) => phaseFunctionsHG1G2(a).phi1, 30)).toBeCloseTo(-5.5463432e-1, 4);
+    expect(slope((a) => phaseFunctionsHG1G2(a).phi2, 90)).toBeCloseTo(-2.8071809e-1, 4);
+    expect(slope((a) => phaseFunctionsHG1G2(a).phi3, 4)).toBeCloseTo(-3.696095, 3);
+  });
+
+  it('reaches the last published node at 150 deg', () => {
+    expect(phaseFunctionsHG1G2(150).phi1).toBeCloseTo(3.6396989e-3, 9);
+    expect(phaseFunctionsHG1G2(150).phi2).toBeCloseTo(1.6505689e-4, 9);
   });
 
   it('joins the linear part of Phi1 and Phi2 continuously at 7.5 deg', () => {
