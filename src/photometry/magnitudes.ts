@@ -45,8 +45,8 @@ export function phaseFunctionsHG(phaseDeg: number): PhaseFunctionsHG {
  * W = exp(-90.56 tan^2(alpha/2)), of a smooth part 1 - C sin(alpha)/(0.119 +
  * 1.341 sin(alpha) - 0.754 sin^2(alpha)) near opposition and the exponential
  * part with A1 = 3.332, B1 = 0.631, C1 = 0.986, A2 = 1.862, B2 = 1.218, C2 = 0.238.
- * Coefficients as given by Bowell et al. (1989), quoted from memory; used to
- * bound the error of the approximation in phaseFunctionsHG.
+ * Bowell et al. (1989), eq. A4; used to bound the error of the approximation
+ * in phaseFunctionsHG.
  */
 export function phaseFunctionsHGFull(phaseDeg: number): PhaseFunctionsHG {
   requireInRange('phaseDeg (Sun-object-observer angle, deg)', phaseDeg, 0, MAX_PHASE_DEG);
