@@ -177,7 +177,8 @@ export function roundRow(row: EphemerisRow): EphemerisRow {
 }
 
 function formatRa(deg: number): string {
-  const totalS = (deg / 15) * 3600;
+  const rounded = Math.round((deg / 15) * 3600 * 100) / 100; // round first so 59.999 s never prints as 60.00
+  const totalS = rounded >= 86_400 ? rounded - 86_400 : rounded;
   const h = Math.floor(totalS / 3600);
   const m = Math.floor((totalS - h * 3600) / 60);
   const s = totalS - h * 3600 - m * 60;
@@ -186,7 +187,7 @@ function formatRa(deg: number): string {
 
 function formatDec(deg: number): string {
   const sign = deg < 0 ? '-' : '+';
-  const totalS = Math.abs(deg) * 3600;
+  const totalS = Math.round(Math.abs(deg) * 3600 * 10) / 10;
   const d = Math.floor(totalS / 3600);
   const m = Math.floor((totalS - d * 3600) / 60);
   const s = totalS - d * 3600 - m * 60;

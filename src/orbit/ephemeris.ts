@@ -6,7 +6,7 @@ import { PhotometryInputError } from '../photometry/errors.js';
 import { ARCSEC_PER_RAD, DEG_PER_RAD, GM_SUN_AU3_PER_DAY2, LIGHT_AU_PER_DAY, SECONDS_PER_DAY } from './constants.js';
 import { stateFromPerihelionElements, type HeliocentricState, type PerihelionElements } from './elements.js';
 import { OrbitConvergenceError, OrbitInputError, requireFinite } from './errors.js';
-import { propagateEnsemble, type EnsembleTrajectory, type PropagationOptions } from './propagate.js';
+import { streamEnsemble, type EnsembleTrajectory, type PropagationOptions } from './propagate.js';
 import { ttFromUtc } from './time.js';
 import type { Vec3 } from './vector.js';
 
@@ -90,23 +90,46 @@ const LIGHT_TIME_MAX_ITERATIONS = 10;
  * contracts by |v|/c ~ 1e-4 per step.
  */
 export function astrometricPlace(r: Vec3, v: Vec3, observer: ObserverGeometry): AstrometricPlace {
+  const out = new Float64Array(PLACE_FIELDS);
+  placeInto(r.x, r.y, r.z, v.x, v.y, v.z, observer, out);
+  return {
+    raDeg: out[0]!,
+    decDeg: out[1]!,
+    raRateArcsecPerS: out[2]!,
+    decRateArcsecPerS: out[3]!,
+    deltaAu: out[4]!,
+    rAu: out[5]!,
+    phaseDeg: out[6]!,
+    elongationDeg: out[7]!,
+    lightTimeDays: out[8]!,
+    lightTimeIterations: out[9]!,
+  };
+}
+
+/** Number of values placeInto writes: ra, dec, raRate, decRate, delta, r, phase, elong, light time, iterations. */
+const PLACE_FIELDS = 10;
+const TO_ARCSEC_PER_S = ARCSEC_PER_RAD / SECONDS_PER_DAY;
+
+/** The allocation-free core of astrometricPlace; writes PLACE_FIELDS numbers into `out` (same units). */
+function placeInto(rx: number, ry: number, rz: number, vx: number, vy: number, vz: number, observer: ObserverGeometry, out: Float64Array): void {
   const o = observer.position;
-  const rn = Math.hypot(r.x, r.y, r.z);
+  const rn = Math.sqrt(rx * rx + ry * ry + rz * rz);
   const kSun = GM_SUN_AU3_PER_DAY2 / (2 * rn * rn * rn);
   const sv = observer.sunBarycentricVelocity;
-  let tau = Math.hypot(r.x - o.x, r.y - o.y, r.z - o.z) / LIGHT_AU_PER_DAY;
-  let ex = 0, ey = 0, ez = 0, px = 0, py = 0, pz = 0, rho = 0;
+  let px = rx - o.x, py = ry - o.y, pz = rz - o.z;
+  let tau = Math.sqrt(px * px + py * py + pz * pz) / LIGHT_AU_PER_DAY;
+  let ex = 0, ey = 0, ez = 0, rho = 0;
   let iterations = 0;
   for (;;) {
     iterations++;
     const q = kSun * tau * tau;
-    ex = r.x - v.x * tau - q * r.x;
-    ey = r.y - v.y * tau - q * r.y;
-    ez = r.z - v.z * tau - q * r.z;
+    ex = rx - vx * tau - q * rx;
+    ey = ry - vy * tau - q * ry;
+    ez = rz - vz * tau - q * rz;
     px = ex - o.x - sv.x * tau;
     py = ey - o.y - sv.y * tau;
     pz = ez - o.z - sv.z * tau;
-    rho = Math.hypot(px, py, pz);
+    rho = Math.sqrt(px * px + py * py + pz * pz);
     const next = rho / LIGHT_AU_PER_DAY;
     const change = Math.abs(next - tau);
     tau = next;
@@ -117,7 +140,7 @@ export function astrometricPlace(r: Vec3, v: Vec3, observer: ObserverGeometry): 
   }
   // Velocity at emission: v - a_sun tau.
   const ka = 2 * kSun * tau;
-  const vex = v.x + ka * r.x, vey = v.y + ka * r.y, vez = v.z + ka * r.z;
+  const vex = vx + ka * rx, vey = vy + ka * ry, vez = vz + ka * rz;
   const ux = px / rho, uy = py / rho, uz = pz / rho;
   const wx = vex - observer.velocity.x, wy = vey - observer.velocity.y, wz = vez - observer.velocity.z;
   const sx = vex + sv.x, sy = vey + sv.y, sz = vez + sv.z;
@@ -125,34 +148,25 @@ export function astrometricPlace(r: Vec3, v: Vec3, observer: ObserverGeometry): 
   const dx = wx - sx * tauDot, dy = wy - sy * tauDot, dz = wz - sz * tauDot;
   const rxy2 = px * px + py * py;
   const rxy = Math.sqrt(rxy2);
-  const raRad = Math.atan2(py, px);
-  const decRad = Math.atan2(pz, rxy);
   // d(RA)/dt cos(Dec) = (x y' - y x') / (rxy rho); d(Dec)/dt = (z' rxy^2 - z (x x' + y y')) / (rho^2 rxy).
-  const raRate = (px * dy - py * dx) / (rxy * rho);
-  const decRate = (dz * rxy2 - pz * (px * dx + py * dy)) / (rho * rho * rxy);
-  const toArcsecPerS = ARCSEC_PER_RAD / SECONDS_PER_DAY;
-  const rAu = Math.hypot(ex, ey, ez);
-  // Phase: angle at the object between the Sun (-e) and the observer (-rho): cos = e.rho/(|e||rho|).
-  const phaseDeg = angleDeg(ex, ey, ez, px, py, pz);
+  const raDeg = Math.atan2(py, px) * DEG_PER_RAD;
+  out[0] = raDeg < 0 ? raDeg + 360 : raDeg;
+  out[1] = Math.atan2(pz, rxy) * DEG_PER_RAD;
+  out[2] = ((px * dy - py * dx) / (rxy * rho)) * TO_ARCSEC_PER_S;
+  out[3] = ((dz * rxy2 - pz * (px * dx + py * dy)) / (rho * rho * rxy)) * TO_ARCSEC_PER_S;
+  out[4] = rho;
+  out[5] = Math.sqrt(ex * ex + ey * ey + ez * ez);
+  // Phase: angle at the object between the Sun (-e) and the observer (-rho).
+  out[6] = angleDeg(ex, ey, ez, px, py, pz);
   // Elongation: angle at the observer between the Sun (-o) and the object (rho).
-  const elongationDeg = angleDeg(-o.x, -o.y, -o.z, px, py, pz);
-  return {
-    raDeg: ((raRad * DEG_PER_RAD) % 360 + 360) % 360,
-    decDeg: decRad * DEG_PER_RAD,
-    raRateArcsecPerS: raRate * toArcsecPerS,
-    decRateArcsecPerS: decRate * toArcsecPerS,
-    deltaAu: rho,
-    rAu,
-    phaseDeg,
-    elongationDeg,
-    lightTimeDays: tau,
-    lightTimeIterations: iterations,
-  };
+  out[7] = angleDeg(-o.x, -o.y, -o.z, px, py, pz);
+  out[8] = tau;
+  out[9] = iterations;
 }
 
 function angleDeg(ax: number, ay: number, az: number, bx: number, by: number, bz: number): number {
   const cx = ay * bz - az * by, cy = az * bx - ax * bz, cz = ax * by - ay * bx;
-  return Math.atan2(Math.hypot(cx, cy, cz), ax * bx + ay * by + az * bz) * DEG_PER_RAD;
+  return Math.atan2(Math.sqrt(cx * cx + cy * cy + cz * cz), ax * bx + ay * by + az * bz) * DEG_PER_RAD;
 }
 
 /** Places of every ensemble member at every time; index timeIndex * memberCount + member. */
@@ -169,11 +183,78 @@ export interface EnsemblePlaces {
   readonly elongationDeg: Float64Array;
 }
 
+/** Places of all members at one time (arrays of length memberCount, reused between calls). */
+export interface PlacesAtTime {
+  readonly raDeg: Float64Array;
+  readonly decDeg: Float64Array;
+  readonly raRateArcsecPerS: Float64Array;
+  readonly decRateArcsecPerS: Float64Array;
+  readonly deltaAu: Float64Array;
+  readonly rAu: Float64Array;
+  readonly phaseDeg: Float64Array;
+  readonly elongationDeg: Float64Array;
+}
+
+function convertTimes(timesUtc: readonly Date[]): number[] {
+  return timesUtc.map((d, i) => {
+    if (!(d instanceof Date) || !Number.isFinite(d.getTime())) throw new OrbitInputError(`timesUtc[${i}]`, d, 'expected a valid Date');
+    return ttFromUtc(d);
+  });
+}
+
+/**
+ * Light-time corrected astrometric places of many orbits, streamed: one
+ * perturbed propagation for all members (streamEnsemble), one observer
+ * geometry per instant, and `sink(timeIndex, places)` per requested instant
+ * with arrays reused between calls (copy what must outlive the call). Order of
+ * calls: as streamEnsemble. Memory stays at a few arrays of members.
+ */
+export function streamEnsemblePlaces(
+  states: readonly HeliocentricState[],
+  viewpoint: Viewpoint,
+  timesUtc: readonly Date[],
+  sink: (timeIndex: number, places: PlacesAtTime) => void,
+  options: PropagationOptions = {},
+): { stepCount: number; perturberNodeCount: number } {
+  const timesTt = convertTimes(timesUtc);
+  const n = states.length;
+  const places: PlacesAtTime = {
+    raDeg: new Float64Array(n),
+    decDeg: new Float64Array(n),
+    raRateArcsecPerS: new Float64Array(n),
+    decRateArcsecPerS: new Float64Array(n),
+    deltaAu: new Float64Array(n),
+    rAu: new Float64Array(n),
+    phaseDeg: new Float64Array(n),
+    elongationDeg: new Float64Array(n),
+  };
+  const scratch = new Float64Array(PLACE_FIELDS);
+  return streamEnsemble(
+    states,
+    timesTt,
+    (k, pos, vel) => {
+      const observer = observerGeometry(viewpoint, timesUtc[k]!);
+      for (let m = 0; m < n; m++) {
+        placeInto(pos[3 * m]!, pos[3 * m + 1]!, pos[3 * m + 2]!, vel[3 * m]!, vel[3 * m + 1]!, vel[3 * m + 2]!, observer, scratch);
+        places.raDeg[m] = scratch[0]!;
+        places.decDeg[m] = scratch[1]!;
+        places.raRateArcsecPerS[m] = scratch[2]!;
+        places.decRateArcsecPerS[m] = scratch[3]!;
+        places.deltaAu[m] = scratch[4]!;
+        places.rAu[m] = scratch[5]!;
+        places.phaseDeg[m] = scratch[6]!;
+        places.elongationDeg[m] = scratch[7]!;
+      }
+      sink(k, places);
+    },
+    options,
+  );
+}
+
 /**
  * Light-time corrected astrometric places of many orbits (states at one epoch,
- * heliocentric EQJ) from one viewpoint at the given UTC instants: one
- * perturbed propagation for all members (propagateEnsemble), then one
- * observer geometry per instant shared by all members.
+ * heliocentric EQJ) from one viewpoint at the given UTC instants, collected
+ * into arrays indexed timeIndex * memberCount + member (streamEnsemblePlaces).
  */
 export function ensemblePlaces(
   states: readonly HeliocentricState[],
@@ -181,12 +262,28 @@ export function ensemblePlaces(
   timesUtc: readonly Date[],
   options: PropagationOptions = {},
 ): EnsemblePlaces {
-  const timesTt = timesUtc.map((d, i) => {
-    if (!(d instanceof Date) || !Number.isFinite(d.getTime())) throw new OrbitInputError(`timesUtc[${i}]`, d, 'expected a valid Date');
-    return ttFromUtc(d);
-  });
-  const trajectory = propagateEnsemble(states, timesTt, options);
-  return placesFromTrajectory(trajectory, viewpoint, timesUtc);
+  const n = states.length;
+  const size = timesUtc.length * n;
+  const out = {
+    raDeg: new Float64Array(size),
+    decDeg: new Float64Array(size),
+    raRateArcsecPerS: new Float64Array(size),
+    decRateArcsecPerS: new Float64Array(size),
+    deltaAu: new Float64Array(size),
+    rAu: new Float64Array(size),
+    phaseDeg: new Float64Array(size),
+    elongationDeg: new Float64Array(size),
+  };
+  streamEnsemblePlaces(
+    states,
+    viewpoint,
+    timesUtc,
+    (k, p) => {
+      for (const key of Object.keys(out) as (keyof PlacesAtTime)[]) out[key].set(p[key], k * n);
+    },
+    options,
+  );
+  return { timesUtc, memberCount: n, ...out };
 }
 
 /** Astrometric places from an already propagated trajectory whose times are `timesUtc` (same order). */
@@ -205,23 +302,20 @@ export function placesFromTrajectory(trajectory: EnsembleTrajectory, viewpoint: 
   };
   const pos = trajectory.positionsAu;
   const vel = trajectory.velocitiesAuPerDay;
+  const scratch = new Float64Array(PLACE_FIELDS);
   timesUtc.forEach((timeUtc, k) => {
     const observer = observerGeometry(viewpoint, timeUtc);
     for (let m = 0; m < n; m++) {
       const j = k * n + m;
-      const p = astrometricPlace(
-        { x: pos[3 * j]!, y: pos[3 * j + 1]!, z: pos[3 * j + 2]! },
-        { x: vel[3 * j]!, y: vel[3 * j + 1]!, z: vel[3 * j + 2]! },
-        observer,
-      );
-      out.raDeg[j] = p.raDeg;
-      out.decDeg[j] = p.decDeg;
-      out.raRateArcsecPerS[j] = p.raRateArcsecPerS;
-      out.decRateArcsecPerS[j] = p.decRateArcsecPerS;
-      out.deltaAu[j] = p.deltaAu;
-      out.rAu[j] = p.rAu;
-      out.phaseDeg[j] = p.phaseDeg;
-      out.elongationDeg[j] = p.elongationDeg;
+      placeInto(pos[3 * j]!, pos[3 * j + 1]!, pos[3 * j + 2]!, vel[3 * j]!, vel[3 * j + 1]!, vel[3 * j + 2]!, observer, scratch);
+      out.raDeg[j] = scratch[0]!;
+      out.decDeg[j] = scratch[1]!;
+      out.raRateArcsecPerS[j] = scratch[2]!;
+      out.decRateArcsecPerS[j] = scratch[3]!;
+      out.deltaAu[j] = scratch[4]!;
+      out.rAu[j] = scratch[5]!;
+      out.phaseDeg[j] = scratch[6]!;
+      out.elongationDeg[j] = scratch[7]!;
     }
   });
   return { timesUtc, memberCount: n, ...out };

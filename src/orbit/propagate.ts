@@ -110,6 +110,46 @@ function stepLimit(n: number, r: Float64Array, v: Float64Array, bodyR: Float64Ar
  * epoch) under the force model above. One perturber table serves all members.
  */
 export function propagateEnsemble(states: readonly HeliocentricState[], timesTt: readonly number[], options: PropagationOptions = {}): EnsembleTrajectory {
+  const size = 3 * states.length;
+  const positions = new Float64Array(timesTt.length * size);
+  const velocities = new Float64Array(timesTt.length * size);
+  const counts = streamEnsemble(
+    states,
+    timesTt,
+    (k, p, v) => {
+      positions.set(p, k * size);
+      velocities.set(v, k * size);
+    },
+    options,
+  );
+  return {
+    timesTt: Float64Array.from(timesTt),
+    memberCount: states.length,
+    positionsAu: positions,
+    velocitiesAuPerDay: velocities,
+    ...counts,
+  };
+}
+
+/**
+ * Receives the states of all members at one requested time: `timeIndex` into the
+ * requested times, positions (au) and velocities (au/day) as x, y, z per member.
+ * The arrays are reused for the next time: copy what must outlive the call.
+ */
+export type EnsembleStateSink = (timeIndex: number, positionsAu: Float64Array, velocitiesAuPerDay: Float64Array) => void;
+
+/**
+ * propagateEnsemble without materialising every state: hands each requested
+ * time's states to `sink` as soon as they are known (times at or after the
+ * epoch in increasing order, then earlier times in decreasing order), so memory
+ * stays at a few arrays of 3 x members whatever the number of times.
+ */
+export function streamEnsemble(
+  states: readonly HeliocentricState[],
+  timesTt: readonly number[],
+  sink: EnsembleStateSink,
+  options: PropagationOptions = {},
+): { stepCount: number; perturberNodeCount: number } {
   const n = states.length;
   if (n === 0) throw new OrbitInputError('states', '[]', 'expected at least one state');
   const epoch = states[0]!.tt;
@@ -130,23 +170,14 @@ export function propagateEnsemble(states: readonly HeliocentricState[], timesTt:
   const omitted = new Set(options.omitBodies ?? []);
   const gms = Float64Array.from(PERTURBING_BODIES.map((p) => (omitted.has(p.body) ? 0 : p.gm)));
   const table = new PerturberTable(options.perturberNodeDays ?? 0.125);
-  const positions = new Float64Array(timesTt.length * n * 3);
-  const velocities = new Float64Array(timesTt.length * n * 3);
   const order = timesTt.map((t, i) => ({ t, i }));
   const forward = order.filter((o) => o.t >= epoch).sort((a, b) => a.t - b.t);
   const backward = order.filter((o) => o.t < epoch).sort((a, b) => b.t - a.t);
   let steps = 0;
   for (const run of [forward, backward]) {
-    if (run.length > 0) steps += integrateRun(states, epoch, run, table, gms, fraction, maxStep, minStep, positions, velocities);
+    if (run.length > 0) steps += integrateRun(states, epoch, run, table, gms, fraction, maxStep, minStep, sink);
   }
-  return {
-    timesTt: Float64Array.from(timesTt),
-    memberCount: n,
-    positionsAu: positions,
-    velocitiesAuPerDay: velocities,
-    stepCount: steps,
-    perturberNodeCount: table.nodeEvaluations,
-  };
+  return { stepCount: steps, perturberNodeCount: table.nodeEvaluations };
 }
 
 /** Integrates from the epoch through `run` (monotonic in time away from the epoch), writing states at each. */
@@ -159,8 +190,7 @@ function integrateRun(
   fraction: number,
   maxStep: number,
   minStep: number,
-  outR: Float64Array,
-  outV: Float64Array,
+  sink: EnsembleStateSink,
 ): number {
   const n = states.length;
   const size = 3 * n;
@@ -179,12 +209,13 @@ function integrateRun(
   let next = 0;
   let steps = 0;
 
+  const outR = new Float64Array(size), outV = new Float64Array(size);
   const emit = (tOut: number, slot: number, tA: number, h: number): void => {
     // Cubic Hermite between (r0, v0) at tA and (r, v) at tA + h.
-    const base = slot * size;
     if (h === 0) {
-      outR.set(r, base);
-      outV.set(v, base);
+      outR.set(r);
+      outV.set(v);
+      sink(slot, outR, outV);
       return;
     }
     const s = (tOut - tA) / h;
@@ -192,9 +223,10 @@ function integrateRun(
     const h00 = 2 * s3 - 3 * s2 + 1, h10 = (s3 - 2 * s2 + s) * h, h01 = -2 * s3 + 3 * s2, h11 = (s3 - s2) * h;
     const d00 = (6 * s2 - 6 * s) / h, d10 = 3 * s2 - 4 * s + 1, d01 = (-6 * s2 + 6 * s) / h, d11 = 3 * s2 - 2 * s;
     for (let j = 0; j < size; j++) {
-      outR[base + j] = h00 * r0[j]! + h10 * v0[j]! + h01 * r[j]! + h11 * v[j]!;
-      outV[base + j] = d00 * r0[j]! + d10 * v0[j]! + d01 * r[j]! + d11 * v[j]!;
+      outR[j] = h00 * r0[j]! + h10 * v0[j]! + h01 * r[j]! + h11 * v[j]!;
+      outV[j] = d00 * r0[j]! + d10 * v0[j]! + d01 * r[j]! + d11 * v[j]!;
     }
+    sink(slot, outR, outV);
   };
 
   while (next < run.length && run[next]!.t === epoch) emit(epoch, run[next++]!.i, epoch, 0);
