@@ -1,5 +1,5 @@
 import * as Astronomy from 'astronomy-engine';
-import { angleBetweenDeg, apparentFromEqd, type ApparentTarget, type SiteFrame, type Vec3 } from './site.js';
+import { angleBetweenDeg, apparentFromEqd, rotateVector, type ApparentTarget, type ExactSiteFrame, type Vec3 } from './site.js';
 
 /**
  * Topocentric apparent Sun and Moon in a site frame, from astronomy-engine's Sun (VSOP87,
@@ -19,15 +19,6 @@ export interface MoonInFrame extends ApparentTarget {
   illuminatedFraction: number;
 }
 
-function rotate(rotation: Astronomy.RotationMatrix, v: Vec3): Vec3 {
-  const r = rotation.rot;
-  return [
-    r[0]![0]! * v[0] + r[1]![0]! * v[1] + r[2]![0]! * v[2],
-    r[0]![1]! * v[0] + r[1]![1]! * v[1] + r[2]![1]! * v[2],
-    r[0]![2]! * v[0] + r[1]![2]! * v[1] + r[2]![2]! * v[2],
-  ];
-}
-
 function unit(v: Vec3): Vec3 {
   const n = Math.hypot(v[0], v[1], v[2]);
   return [v[0] / n, v[1] / n, v[2] / n];
@@ -38,14 +29,14 @@ function unit(v: Vec3): Vec3 {
  * 'normal'), geometric altitude (used for twilight, which by convention is unrefracted),
  * azimuth from north through east, apparent direction of date, and the Moon's phase angle.
  */
-export function moonAndSunInFrame(frame: SiteFrame): { sun: SunInFrame; moon: MoonInFrame } {
+export function moonAndSunInFrame(frame: ExactSiteFrame): { sun: SunInFrame; moon: MoonInFrame } {
   const o = frame.observerGeocentricAu;
   const sunGeo = Astronomy.GeoVector(Astronomy.Body.Sun, frame.time, true);
   const moonGeo = Astronomy.GeoMoon(frame.time);
   const sunTopo: Vec3 = [sunGeo.x - o[0], sunGeo.y - o[1], sunGeo.z - o[2]];
   const moonTopo: Vec3 = [moonGeo.x - o[0], moonGeo.y - o[1], moonGeo.z - o[2]];
-  const sun = apparentFromEqd(frame, unit(rotate(frame.eqjToEqd, sunTopo)), true);
-  const moon = apparentFromEqd(frame, unit(rotate(frame.eqjToEqd, moonTopo)), true);
+  const sun = apparentFromEqd(frame, unit(rotateVector(frame.eqjToEqd, sunTopo)), true);
+  const moon = apparentFromEqd(frame, unit(rotateVector(frame.eqjToEqd, moonTopo)), true);
   // Phase angle at the Moon between the directions to the Sun and to the observer.
   const moonToSun: Vec3 = [sunTopo[0] - moonTopo[0], sunTopo[1] - moonTopo[1], sunTopo[2] - moonTopo[2]];
   const moonToObserver: Vec3 = [-moonTopo[0], -moonTopo[1], -moonTopo[2]];

@@ -1,7 +1,9 @@
 import type { Site, SiteLimits } from '../config/schema.js';
 import { SkyInputError, requireDate, requireFinite } from './errors.js';
-import { moonAndSunInFrame, type MoonInFrame, type SunInFrame } from './bodies.js';
-import { airmassKastenYoung, altitudeForAirmassDeg, angleBetweenDeg, apparentInFrame, siteFrameAt, type ApparentTarget, type SiteFrame } from './site.js';
+import { airmassKastenYoung, altitudeForAirmassDeg, angleBetweenDeg, apparentInFrame, type ApparentTarget, type SiteFrame } from './site.js';
+import { skyAt, type SkyAt } from './timeline.js';
+
+export type { SkyAt } from './timeline.js';
 
 /**
  * Hard limits of a site for a target at an instant. Each check says whether it holds and by
@@ -39,13 +41,13 @@ export const LIMIT_ORDER: readonly LimitName[] = [
 export type MarginUnit = 'deg' | 'h' | 'arcsec/s';
 
 export interface LimitCheck {
-  limit: LimitName;
-  ok: boolean;
+  readonly limit: LimitName;
+  readonly ok: boolean;
   /** How far inside the limit (negative: outside), in `unit`. */
-  margin: number;
-  unit: MarginUnit;
+  readonly margin: number;
+  readonly unit: MarginUnit;
   /** e.g. 'altitude 31.2 deg, limit 25 deg'. */
-  detail: string;
+  readonly detail: string;
 }
 
 /** A target at an instant: astrometric ICRS position seen from the site, degrees; rates in arcsec/s (RA rate x cos Dec). */
@@ -70,6 +72,44 @@ export interface LimitReport {
 
 /** Smallest Moon separation limit when it scales with illumination, degrees (schema: "at least 3 deg"). */
 export const MIN_SCALED_MOON_SEPARATION_DEG = 3;
+
+/**
+ * A check whose detail text is only formatted when read: windows evaluate thousands of checks and
+ * read a few. A class (prototype getter) keeps object creation fast; toJSON includes the detail.
+ */
+class Check implements LimitCheck {
+  private text: string | undefined;
+  constructor(
+    readonly limit: LimitName,
+    readonly ok: boolean,
+    readonly margin: number,
+    readonly unit: MarginUnit,
+    private readonly describe: () => string,
+  ) {}
+  get detail(): string {
+    this.text ??= this.describe();
+    return this.text;
+  }
+  toJSON(): { limit: LimitName; ok: boolean; margin: number; unit: MarginUnit; detail: string } {
+    return { limit: this.limit, ok: this.ok, margin: this.margin, unit: this.unit, detail: this.detail };
+  }
+}
+
+function makeCheck(limit: LimitName, ok: boolean, margin: number, unit: MarginUnit, describe: () => string): LimitCheck {
+  return new Check(limit, ok, margin, unit, describe);
+}
+
+/** Per-site constants of the limits, computed once per site and reused for every evaluation. */
+export interface PreparedLimits {
+  /** Apparent altitude where the Kasten & Young airmass equals maxAirmass, degrees (undefined without the limit). */
+  maxAirmassAltitudeDeg: number | undefined;
+}
+
+/** Computes the per-site constants of the limits (see PreparedLimits). */
+export function prepareLimits(site: Site): PreparedLimits {
+  const max = site.limits.maxAirmass;
+  return { maxAirmassAltitudeDeg: max === undefined ? undefined : altitudeForAirmassDeg(max) };
+}
 
 const f1 = (x: number) => x.toFixed(1);
 const f2 = (x: number) => x.toFixed(2);
@@ -132,22 +172,8 @@ export function checkTargetState(target: TargetState, where = 'target'): TargetS
   return target;
 }
 
-/** Site-only geometry at an instant, shared by every target checked at that instant. */
-export interface SkyAt {
-  frame: SiteFrame;
-  sun: SunInFrame;
-  moon: MoonInFrame;
-}
-
-/** Builds the site frame and the Sun and Moon at an instant. */
-export function skyAt(site: Site, timeUtc: Date): SkyAt {
-  const frame = siteFrameAt(site.location, timeUtc);
-  const { sun, moon } = moonAndSunInFrame(frame);
-  return { frame, sun, moon };
-}
-
 /** Evaluates every hard limit for a target in a prepared sky (see evaluateLimits). */
-export function evaluateLimitsInSky(site: Site, sky: SkyAt, target: TargetState): LimitReport {
+export function evaluateLimitsInSky(site: Site, sky: SkyAt, target: TargetState, prepared: PreparedLimits = prepareLimits(site)): LimitReport {
   const limits = site.limits;
   const apparent: ApparentTarget = apparentInFrame(sky.frame, target.raDeg, target.decDeg);
   const alt = apparent.altDeg;
@@ -155,119 +181,75 @@ export function evaluateLimitsInSky(site: Site, sky: SkyAt, target: TargetState)
 
   const sunAlt = sky.sun.geometricAltDeg;
   const nightMargin = limits.nightSunAltitudeDeg - sunAlt;
-  checks.push({
-    limit: 'night',
-    ok: nightMargin >= 0,
-    margin: nightMargin,
-    unit: 'deg',
-    detail: `Sun at ${f1(sunAlt)} deg, night needs it below ${limits.nightSunAltitudeDeg} deg`,
-  });
+  checks.push(
+    makeCheck('night', nightMargin >= 0, nightMargin, 'deg', () => `Sun at ${f1(sunAlt)} deg, night needs it below ${limits.nightSunAltitudeDeg} deg`),
+  );
 
   const sunSep = angleBetweenDeg(apparent.eqdUnit, sky.sun.eqdUnit);
-  checks.push({
-    limit: 'sunAvoidance',
-    ok: sunSep >= limits.sunAvoidanceDeg,
-    margin: sunSep - limits.sunAvoidanceDeg,
-    unit: 'deg',
-    detail: `Sun ${f1(sunSep)} deg away, limit ${limits.sunAvoidanceDeg} deg`,
-  });
+  checks.push(
+    makeCheck('sunAvoidance', sunSep >= limits.sunAvoidanceDeg, sunSep - limits.sunAvoidanceDeg, 'deg', () => `Sun ${f1(sunSep)} deg away, limit ${limits.sunAvoidanceDeg} deg`),
+  );
 
-  checks.push({
-    limit: 'minAltitude',
-    ok: alt >= limits.minAltitudeDeg,
-    margin: alt - limits.minAltitudeDeg,
-    unit: 'deg',
-    detail: `altitude ${f1(alt)} deg, limit ${limits.minAltitudeDeg} deg`,
-  });
+  checks.push(
+    makeCheck('minAltitude', alt >= limits.minAltitudeDeg, alt - limits.minAltitudeDeg, 'deg', () => `altitude ${f1(alt)} deg, limit ${limits.minAltitudeDeg} deg`),
+  );
 
   if (limits.horizonMask !== undefined && limits.horizonMask.length > 0) {
     const maskAlt = horizonMaskAltitudeDeg(limits, apparent.azDeg);
-    checks.push({
-      limit: 'horizonMask',
-      ok: alt >= maskAlt,
-      margin: alt - maskAlt,
-      unit: 'deg',
-      detail: `altitude ${f1(alt)} deg at azimuth ${f1(apparent.azDeg)} deg, mask ${f1(maskAlt)} deg there`,
-    });
+    checks.push(
+      makeCheck('horizonMask', alt >= maskAlt, alt - maskAlt, 'deg', () => `altitude ${f1(alt)} deg at azimuth ${f1(apparent.azDeg)} deg, mask ${f1(maskAlt)} deg there`),
+    );
   }
 
   let airmass: number | null = null;
   if (limits.maxAirmass !== undefined) {
-    const limitAlt = altitudeForAirmassDeg(limits.maxAirmass);
+    const limitAlt = prepared.maxAirmassAltitudeDeg ?? altitudeForAirmassDeg(limits.maxAirmass);
     airmass = alt >= 0 ? airmassKastenYoung(Math.min(alt, 90)) : null;
-    checks.push({
-      limit: 'maxAirmass',
-      ok: alt >= limitAlt,
-      margin: alt - limitAlt,
-      unit: 'deg',
-      detail:
+    checks.push(
+      makeCheck('maxAirmass', alt >= limitAlt, alt - limitAlt, 'deg', () =>
         airmass === null
           ? `below the horizon (altitude ${f1(alt)} deg), airmass limit ${limits.maxAirmass} (altitude ${f1(limitAlt)} deg)`
-          : `airmass ${f2(airmass)}, limit ${limits.maxAirmass} (altitude ${f1(alt)} deg, limit ${f1(limitAlt)} deg)`,
-    });
+          : `airmass ${f2(airmass)}, limit ${limits.maxAirmass} (altitude ${f1(alt)} deg, limit ${f1(limitAlt)} deg)`),
+    );
   } else if (alt >= 0) {
     airmass = airmassKastenYoung(Math.min(alt, 90));
   }
 
   if (site.mount === 'altaz') {
     const maxAlt = 90 - limits.zenithKeepOutDeg;
-    checks.push({
-      limit: 'zenithKeepOut',
-      ok: alt <= maxAlt,
-      margin: maxAlt - alt,
-      unit: 'deg',
-      detail: `altitude ${f1(alt)} deg, alt-az mount keeps below ${f1(maxAlt)} deg`,
-    });
+    checks.push(
+      makeCheck('zenithKeepOut', alt <= maxAlt, maxAlt - alt, 'deg', () => `altitude ${f1(alt)} deg, alt-az mount keeps below ${f1(maxAlt)} deg`),
+    );
   }
 
   const ha = apparent.hourAngleH;
   const haMargin = Math.min(ha - limits.hourAngleH.min, limits.hourAngleH.max - ha);
-  checks.push({
-    limit: 'hourAngle',
-    ok: haMargin >= 0,
-    margin: haMargin,
-    unit: 'h',
-    detail: `hour angle ${f2(ha)} h, allowed ${limits.hourAngleH.min}..${limits.hourAngleH.max} h`,
-  });
+  checks.push(
+    makeCheck('hourAngle', haMargin >= 0, haMargin, 'h', () => `hour angle ${f2(ha)} h, allowed ${limits.hourAngleH.min}..${limits.hourAngleH.max} h`),
+  );
 
   const decMargin = Math.min(target.decDeg - limits.decDeg.min, limits.decDeg.max - target.decDeg);
-  checks.push({
-    limit: 'declination',
-    ok: decMargin >= 0,
-    margin: decMargin,
-    unit: 'deg',
-    detail: `declination ${f1(target.decDeg)} deg, allowed ${limits.decDeg.min}..${limits.decDeg.max} deg`,
-  });
+  checks.push(
+    makeCheck('declination', decMargin >= 0, decMargin, 'deg', () => `declination ${f1(target.decDeg)} deg, allowed ${limits.decDeg.min}..${limits.decDeg.max} deg`),
+  );
 
   const moonSep = angleBetweenDeg(apparent.eqdUnit, sky.moon.eqdUnit);
   const moonNeed = requiredMoonSeparationDeg(limits, sky.moon.illuminatedFraction);
-  checks.push({
-    limit: 'moonSeparation',
-    ok: moonSep >= moonNeed,
-    margin: moonSep - moonNeed,
-    unit: 'deg',
-    detail:
+  checks.push(
+    makeCheck('moonSeparation', moonSep >= moonNeed, moonSep - moonNeed, 'deg', () =>
       `Moon ${f1(moonSep)} deg away, limit ${f1(moonNeed)} deg` +
-      (limits.moonSeparationScalesWithIllumination ? ` (${limits.minMoonSeparationDeg} deg x illuminated ${f2(sky.moon.illuminatedFraction)})` : ''),
-  });
+      (limits.moonSeparationScalesWithIllumination ? ` (${limits.minMoonSeparationDeg} deg x illuminated ${f2(sky.moon.illuminatedFraction)})` : '')),
+  );
 
   if (target.raRateArcsecPerS !== undefined || target.decRateArcsecPerS !== undefined) {
     const rate = Math.hypot(target.raRateArcsecPerS ?? 0, target.decRateArcsecPerS ?? 0);
-    checks.push({
-      limit: 'maxRate',
-      ok: rate <= limits.maxRateArcsecPerS,
-      margin: limits.maxRateArcsecPerS - rate,
-      unit: 'arcsec/s',
-      detail: `rate ${f2(rate)} arcsec/s, limit ${limits.maxRateArcsecPerS} arcsec/s`,
-    });
+    checks.push(
+      makeCheck('maxRate', rate <= limits.maxRateArcsecPerS, limits.maxRateArcsecPerS - rate, 'arcsec/s', () => `rate ${f2(rate)} arcsec/s, limit ${limits.maxRateArcsecPerS} arcsec/s`),
+    );
   } else {
-    checks.push({
-      limit: 'maxRate',
-      ok: true,
-      margin: limits.maxRateArcsecPerS,
-      unit: 'arcsec/s',
-      detail: `no rate given (taken as sidereal), limit ${limits.maxRateArcsecPerS} arcsec/s`,
-    });
+    checks.push(
+      makeCheck('maxRate', true, limits.maxRateArcsecPerS, 'arcsec/s', () => `no rate given (taken as sidereal), limit ${limits.maxRateArcsecPerS} arcsec/s`),
+    );
   }
 
   const failing = checks.filter((c) => !c.ok).map((c) => c.limit);

@@ -66,9 +66,8 @@ export function raDecFromVector(v: Vec3): { raDeg: number; decDeg: number } {
   return { raDeg, decDeg };
 }
 
-function rotate(rotation: Astronomy.RotationMatrix, v: Vec3): Vec3 {
-  const r = rotation.rot;
-  // Same index order as Astronomy.RotateVector.
+/** Applies a rotation given in astronomy-engine's layout (same index order as Astronomy.RotateVector). */
+export function rotateVector(r: ReadonlyArray<ReadonlyArray<number>>, v: Vec3): Vec3 {
   return [
     r[0]![0]! * v[0] + r[1]![0]! * v[1] + r[2]![0]! * v[2],
     r[0]![1]! * v[0] + r[1]![1]! * v[1] + r[2]![1]! * v[2],
@@ -98,33 +97,38 @@ export function angularSeparationDeg(ra1Deg: number, dec1Deg: number, ra2Deg: nu
 }
 
 /**
- * Everything about a site at one instant that does not depend on the target:
- * the rotations ICRS(J2000) -> true equator of date -> horizon, the observer's
- * barycentric velocity for aberration, and the local apparent sidereal time.
- * Build it once per instant and reuse it for many targets (windows do).
+ * Everything about a site at one instant that does not depend on the target: the rotation
+ * ICRS(J2000) -> true equator of date, the observer's barycentric velocity for aberration,
+ * the local apparent sidereal time and the geodetic latitude (which together give the
+ * horizon). Plain data, so a frame can also be interpolated between exact ones (windows do).
  */
 export interface SiteFrame {
   readonly timeUtc: Date;
-  readonly time: Astronomy.AstroTime;
-  readonly location: GeodeticLocation;
-  readonly observer: Astronomy.Observer;
-  readonly eqjToEqd: Astronomy.RotationMatrix;
-  readonly eqdToHor: Astronomy.RotationMatrix;
-  /** Observer's barycentric velocity (Earth + rotation), ICRS axes, in units of c. */
-  readonly velocityOverC: Vec3;
-  /** Observer's geocentric position, ICRS axes, au. */
-  readonly observerGeocentricAu: Vec3;
+  /** Geodetic latitude, degrees (the local vertical, as astronomy-engine's horizon uses). */
+  readonly latDeg: number;
   /** Local apparent sidereal time, hours [0, 24). */
   readonly localSiderealTimeH: number;
+  /** Precession-nutation matrix, astronomy-engine layout (rot[i][j]: column i, row j). */
+  readonly eqjToEqd: ReadonlyArray<ReadonlyArray<number>>;
+  /** Observer's barycentric velocity (Earth + rotation), ICRS axes, in units of c. */
+  readonly velocityOverC: Vec3;
+}
+
+/** An exact frame from astronomy-engine, with what the Sun and Moon computations also need. */
+export interface ExactSiteFrame extends SiteFrame {
+  readonly time: Astronomy.AstroTime;
+  readonly observer: Astronomy.Observer;
+  /** Observer's geocentric position, ICRS axes, au. */
+  readonly observerGeocentricAu: Vec3;
 }
 
 /**
  * Builds the site frame at `timeUtc`. Methods: precession (IAU 2006) and nutation (IAU 2000B)
- * and Earth rotation from astronomy-engine (Rotation_EQJ_EQD, Rotation_EQD_HOR); the
- * observer's velocity is the Earth's barycentric velocity (BaryState) plus the diurnal
+ * and Greenwich apparent sidereal time from astronomy-engine (Rotation_EQJ_EQD, SiderealTime);
+ * the observer's velocity is the Earth's barycentric velocity (BaryState) plus the diurnal
  * velocity of the site (ObserverState).
  */
-export function siteFrameAt(location: GeodeticLocation, timeUtc: Date): SiteFrame {
+export function siteFrameAt(location: GeodeticLocation, timeUtc: Date): ExactSiteFrame {
   const observer = observerFromLocation(location);
   const time = astroTimeFromUtc(timeUtc);
   const earth = Astronomy.BaryState(Astronomy.Body.Earth, time);
@@ -133,14 +137,13 @@ export function siteFrameAt(location: GeodeticLocation, timeUtc: Date): SiteFram
   const lstH = wrapHours24(Astronomy.SiderealTime(time) + observer.longitude * HOURS_PER_DEG);
   return {
     timeUtc,
-    time,
-    location,
-    observer,
-    eqjToEqd: Astronomy.Rotation_EQJ_EQD(time),
-    eqdToHor: Astronomy.Rotation_EQD_HOR(time, observer),
-    velocityOverC: [(earth.vx + site.vx) / c, (earth.vy + site.vy) / c, (earth.vz + site.vz) / c],
-    observerGeocentricAu: [site.x, site.y, site.z],
+    latDeg: observer.latitude,
     localSiderealTimeH: lstH,
+    eqjToEqd: Astronomy.Rotation_EQJ_EQD(time).rot,
+    velocityOverC: [(earth.vx + site.vx) / c, (earth.vy + site.vy) / c, (earth.vz + site.vz) / c],
+    time,
+    observer,
+    observerGeocentricAu: [site.x, site.y, site.z],
   };
 }
 
@@ -194,13 +197,22 @@ export function apparentInFrame(frame: SiteFrame, raDeg: number, decDeg: number,
   requireFinite('raDeg', raDeg);
   requireFinite('decDeg', decDeg, -90, 90);
   const astrometric = unitVectorFromRaDec(raDeg, decDeg);
-  const eqdUnit = rotate(frame.eqjToEqd, aberrate(astrometric, frame.velocityOverC));
+  const eqdUnit = rotateVector(frame.eqjToEqd, aberrate(astrometric, frame.velocityOverC));
   return apparentFromEqd(frame, eqdUnit, options.refraction ?? true);
 }
 
 /** Horizontal coordinates and hour angle of an apparent direction of date (unit vector) in a site frame. */
 export function apparentFromEqd(frame: SiteFrame, eqdUnit: Vec3, refraction: boolean): ApparentTarget {
-  const horUnit = rotate(frame.eqdToHor, eqdUnit);
+  // Horizon basis in the equator of date: zenith at (RA = LAST, Dec = geodetic latitude), north, west
+  // (the same vectors astronomy-engine's Rotation_EQD_HOR spins by Greenwich sidereal time).
+  const last = frame.localSiderealTimeH * 15 * DEG;
+  const phi = frame.latDeg * DEG;
+  const cl = Math.cos(last);
+  const sl = Math.sin(last);
+  const cp = Math.cos(phi);
+  const sp = Math.sin(phi);
+  const [x, y, z] = eqdUnit;
+  const horUnit: Vec3 = [-sp * cl * x - sp * sl * y + cp * z, sl * x - cl * y, cp * cl * x + cp * sl * y + sp * z];
   const { raDeg: raOfDateDeg, decDeg: decOfDateDeg } = raDecFromVector(eqdUnit);
   const geometricAltDeg = Math.atan2(horUnit[2], Math.hypot(horUnit[0], horUnit[1])) / DEG;
   // Horizon frame: x north, y west; azimuth eastward from north.

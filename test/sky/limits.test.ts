@@ -43,6 +43,18 @@ describe('evaluateLimits', () => {
     expect(report.checks.find((c) => c.limit === 'maxRate')!.unit).toBe('arcsec/s');
   });
 
+  it('includes each detail when serialised to JSON', () => {
+    const report = evaluateLimits(lanternRidge, midnight, { raDeg: 186, decDeg: 30 });
+    const json = JSON.parse(JSON.stringify(report)) as { checks: Array<{ limit: string; detail: string; unit: string }> };
+    expect(json.checks.find((c) => c.limit === 'declination')).toEqual({
+      limit: 'declination',
+      ok: true,
+      margin: 59,
+      unit: 'deg',
+      detail: 'declination 30.0 deg, allowed -35..89 deg',
+    });
+  });
+
   it('uses the same apparent altitude as horizontalFromIcrs', () => {
     const report = evaluateLimits(lanternRidge, midnight, { raDeg: 186, decDeg: 30 });
     expect(report.target.altDeg).toBeCloseTo(horizontalFromIcrs(lanternRidge.location, midnight, 186, 30).altDeg, 9);

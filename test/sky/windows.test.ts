@@ -1,0 +1,139 @@
+import fc from 'fast-check';
+import { describe, expect, it } from 'vitest';
+import type { Site } from '../../src/config/schema.js';
+import { loadConfig } from '../../src/config/load.js';
+import { evaluateLimits, type TargetState } from '../../src/sky/limits.js';
+import { nightAt } from '../../src/sky/night.js';
+import { buildSkyTimeline } from '../../src/sky/timeline.js';
+import { observableWindows } from '../../src/sky/windows.js';
+
+const config = loadConfig({ env: {} });
+const lanternRidge = config.sites.find((s) => s.id === 'lantern-ridge')!;
+const kestrelHollow = config.sites.find((s) => s.id === 'kestrel-hollow')!;
+const night = nightAt(lanternRidge, '2027-03-15');
+const dark = night.dark!;
+const fixed = (raDeg: number, decDeg: number) => (): TargetState => ({ raDeg, decDeg });
+const minutes = (a: Date, b: Date) => Math.abs(a.getTime() - b.getTime()) / 60_000;
+/** lantern-ridge with the whole hour-angle range allowed, so only the sky decides. */
+const anyHourAngle: Site = { ...lanternRidge, limits: { ...lanternRidge.limits, hourAngleH: { min: -12, max: 12 } } };
+
+describe('observableWindows', () => {
+  const spanStart = new Date(dark.start.getTime() - 2 * 3_600_000);
+  const spanEnd = new Date(dark.end.getTime() + 2 * 3_600_000);
+
+  it('keeps a target near the north celestial pole up for the whole dark interval, edged by dusk and dawn', () => {
+    const result = observableWindows(anyHourAngle, spanStart, spanEnd, fixed(40, 85));
+    expect(result.windows).toHaveLength(1);
+    const w = result.windows[0]!;
+    expect(minutes(w.start, dark.start)).toBeLessThan(1);
+    expect(minutes(w.end, dark.end)).toBeLessThan(1);
+    expect(w.starts).toMatchObject({ limit: 'night', detail: 'dusk: Sun at -12 deg' });
+    expect(w.ends).toMatchObject({ limit: 'night', detail: 'dawn: Sun at -12 deg' });
+  });
+
+  it('finds nothing for Dec -80 from latitude +34 and says why, with the highest altitude', () => {
+    const result = observableWindows(anyHourAngle, spanStart, spanEnd, fixed(200, -80));
+    expect(result.windows).toEqual([]);
+    expect(result.reasons.join('\n')).toMatch(/never above 25 deg during the night: highest altitude -\d+\.\d deg/);
+    expect(result.reasons.join('\n')).toMatch(/declination never holds during the night: best declination -80\.0 deg, allowed -35\.\.89 deg/);
+  });
+
+  it('explains an interval with no night', () => {
+    const noon = new Date('2027-03-16T19:00:00Z');
+    const result = observableWindows(lanternRidge, noon, new Date(noon.getTime() + 3_600_000), fixed(0, 0));
+    expect(result.reasons).toEqual([expect.stringMatching(/^no night in the interval: the Sun never gets below -12 deg \(lowest \d+\.\d deg\)$/)]);
+  });
+
+  it('puts a rising edge within 1 minute of the true crossing found by a 10-second scan, labelled by altitude', () => {
+    // RA 12.5 h, Dec +10 rises in the east during the dark at lantern-ridge.
+    const target = fixed(190, 10);
+    const result = observableWindows(anyHourAngle, spanStart, spanEnd, target);
+    const w = result.windows[0]!;
+    expect(w.starts.limit).not.toBe('night');
+    let firstOk: Date | null = null;
+    for (let t = dark.start.getTime(); t < dark.end.getTime(); t += 10_000) {
+      if (evaluateLimits(anyHourAngle, new Date(t), target()).ok) {
+        firstOk = new Date(t);
+        break;
+      }
+    }
+    expect(firstOk).not.toBeNull();
+    expect(minutes(w.start, firstOk!)).toBeLessThan(1);
+    expect(['minAltitude', 'horizonMask', 'maxAirmass']).toContain(w.starts.limit);
+  });
+
+  it('labels hour-angle edges on a site that limits the hour angle', () => {
+    const result = observableWindows(lanternRidge, spanStart, spanEnd, fixed(40, 85));
+    const labels = result.windows.flatMap((w) => [w.starts.limit, w.ends.limit]);
+    expect(labels).toContain('hourAngle');
+    expect(result.windows.map((w) => w.starts.detail).concat(result.windows.map((w) => w.ends.detail)).join(' ')).toMatch(/hour angle (reaches -5\.5|passes 5\.5) h/);
+  });
+
+  it('gives the same windows with a prepared sky timeline', () => {
+    const timeline = buildSkyTimeline(lanternRidge, spanStart, spanEnd);
+    const a = observableWindows(lanternRidge, spanStart, spanEnd, fixed(150, 20));
+    const b = observableWindows(lanternRidge, spanStart, spanEnd, fixed(150, 20), { timeline });
+    expect(b.windows).toEqual(a.windows);
+  });
+
+  it('labels an edge at the requested interval when the target is observable there', () => {
+    const inside = new Date(dark.start.getTime() + 3_600_000);
+    const result = observableWindows(anyHourAngle, inside, new Date(inside.getTime() + 3_600_000), fixed(40, 85));
+    expect(result.windows[0]!.starts).toMatchObject({ limit: 'interval', detail: 'start of the requested interval' });
+    expect(result.windows[0]!.ends).toMatchObject({ limit: 'interval', detail: 'end of the requested interval' });
+  });
+
+  it('refuses an interval that ends before it starts', () => {
+    expect(() => observableWindows(lanternRidge, spanEnd, spanStart, fixed(0, 0))).toThrow(/endUtc = .*: must be after startUtc/);
+  });
+
+  it('refuses a target function that returns a non-finite RA, naming the time', () => {
+    expect(() => observableWindows(lanternRidge, spanStart, spanEnd, () => ({ raDeg: Number.NaN, decDeg: 0 }))).toThrow(
+      /targetAt\(\d{4}-\d{2}-\d{2}T[\d:.]+Z\)\.raDeg = NaN/,
+    );
+  });
+
+  // Property: over random sites, targets (with linear motion) and dates, no minute inside any window violates a limit,
+  // and every window edge is a passing time.
+  it('never contains a minute that violates a limit (fast-check over targets and sites)', () => {
+    const baseSites = [lanternRidge, kestrelHollow];
+    fc.assert(
+      fc.property(
+        fc.record({
+          siteIndex: fc.integer({ min: 0, max: 1 }),
+          latDeg: fc.double({ min: -60, max: 60, noNaN: true }),
+          lonDeg: fc.double({ min: -180, max: 180, noNaN: true }),
+          raDeg: fc.double({ min: 0, max: 359.99, noNaN: true }),
+          decDeg: fc.double({ min: -70, max: 80, noNaN: true }),
+          raRate: fc.double({ min: -0.05, max: 0.05, noNaN: true }),
+          decRate: fc.double({ min: -0.05, max: 0.05, noNaN: true }),
+          dayOffset: fc.integer({ min: 0, max: 364 }),
+        }),
+        (p) => {
+          const base = baseSites[p.siteIndex]!;
+          const site: Site = { ...base, location: { latDeg: p.latDeg, lonDeg: p.lonDeg, heightM: 1000 } };
+          const start = new Date(Date.UTC(2027, 0, 1) + p.dayOffset * 86_400_000);
+          const end = new Date(start.getTime() + 18 * 3_600_000);
+          const t0 = start.getTime();
+          const targetAt = (t: Date): TargetState => {
+            const dtS = (t.getTime() - t0) / 1000;
+            const decDeg = Math.max(-89, Math.min(89, p.decDeg + (p.decRate * dtS) / 3600));
+            const raDeg = (((p.raDeg + (p.raRate * dtS) / 3600 / Math.cos((decDeg * Math.PI) / 180)) % 360) + 360) % 360;
+            return { raDeg, decDeg, raRateArcsecPerS: p.raRate, decRateArcsecPerS: p.decRate };
+          };
+          const result = observableWindows(site, start, end, targetAt);
+          for (const w of result.windows) {
+            expect(evaluateLimits(site, w.start, targetAt(w.start)).ok).toBe(true);
+            expect(evaluateLimits(site, w.end, targetAt(w.end)).ok).toBe(true);
+            for (let t = w.start.getTime(); t <= w.end.getTime(); t += 60_000) {
+              const report = evaluateLimits(site, new Date(t), targetAt(new Date(t)));
+              if (!report.ok) throw new Error(`violation at ${new Date(t).toISOString()}: ${report.failing.join(', ')}`);
+            }
+          }
+          if (result.windows.length === 0) expect(result.reasons.length).toBeGreaterThan(0);
+        },
+      ),
+      { numRuns: 12, seed: 20270315 },
+    );
+  });
+});
