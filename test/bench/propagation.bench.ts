@@ -221,6 +221,9 @@ function accuracy(): void {
       console.log(`GravitySimulator ${label}, step ${h} d: ${vsOurs.toFixed(3)} arcsec from ours; change on halving ${change.toFixed(3)} arcsec`);
       previous = sim;
     }
+    const noMoon = oursAt(startAt, tEnd, { stepFraction: 0.0025, omitBodies: [Body.Moon] });
+    console.log(`ours without the Moon, ${label}: ${angle(geocentricDirection(noMoon, tEnd), geocentricDirection(reference, tEnd)).toFixed(3)} arcsec from ours with it; ` +
+      `${angle(geocentricDirection(noMoon, tEnd), geocentricDirection(simAt(startAt, tEnd, 0.01), tEnd)).toFixed(3)} arcsec from GravitySimulator (0.01 d)`);
   }
 
   console.log('== accuracy: topocentric RA/Dec vs an independent RK4 (10-min fixed steps), 3 days centred on closest approach ==');

@@ -178,6 +178,15 @@ describe('ensemble propagation', () => {
     });
   });
 
+  it('interpolates inside a 1-day step to within 2e-9 au (0.3 km) of a step that ends at that time', () => {
+    // With 1-day steps the output at +0.5 day falls inside a step and comes from the Hermite interpolant.
+    const inside = propagateEnsemble([members[0]!], [t0 + 0.5, t0 + 1], { stepFraction: 0.05 });
+    const landed = propagateEnsemble([members[0]!], [t0 + 0.5], { stepFraction: 0.05 });
+    expect(inside.stepCount).toBe(1);
+    for (let axis = 0; axis < 3; axis++) expect(Math.abs(inside.positionsAu[axis]! - landed.positionsAu[axis]!)).toBeLessThan(2e-9);
+    for (let axis = 0; axis < 3; axis++) expect(Math.abs(inside.velocitiesAuPerDay[axis]! - landed.velocitiesAuPerDay[axis]!)).toBeLessThan(1e-8);
+  });
+
   it('returns the starting state at the epoch and keeps the requested order of times', () => {
     const tr = propagateEnsemble(members, [t0 + 1, t0]);
     expect(tr.positionsAu[3 * members.length]).toBe(members[0]!.x);
