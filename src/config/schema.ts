@@ -144,6 +144,21 @@ export const feedSchema = z
   })
   .strict();
 
+export const webhookSchema = z
+  .object({
+    id: z.string().regex(/^[a-z0-9][a-z0-9-]{0,31}$/, 'expected lower-case letters, digits and hyphens'),
+    url: z.url(),
+    /** HMAC-SHA256 key for the signature header; at least 16 characters. */
+    secret: z.string().min(16).max(512),
+    /** Only requests scoring at least this (0-100) are pushed. */
+    minScore: finite().min(0).max(100).default(70),
+    /** Only these sites; all when absent. */
+    sites: z.array(z.string().min(1)).max(64).optional(),
+    timeoutMs: z.number().int().min(100).max(60_000).default(5000),
+    maxAttempts: z.number().int().min(1).max(100).default(12),
+  })
+  .strict();
+
 export const roleSchema = z.enum(['reader', 'scheduler', 'feeder', 'operator']);
 export type Role = z.infer<typeof roleSchema>;
 
@@ -174,11 +189,13 @@ export const serviceSchema = z
       .strict()
       .prefault({}),
     feeds: z.array(feedSchema).max(64).default([]),
+    webhooks: z.array(webhookSchema).max(64).default([]),
     schedules: z
       .object({
         replan: z.string().min(1).default('*/10 * * * *'),
         lapse: z.string().min(1).default('* * * * *'),
         expireLeases: z.string().min(1).default('*/30 * * * * *'),
+        deliverWebhooks: z.string().min(1).default('*/10 * * * * *'),
       })
       .strict()
       .prefault({}),
@@ -225,3 +242,4 @@ export type Filter = z.infer<typeof filterSchema>;
 export type Telescope = z.infer<typeof telescopeSchema>;
 export type GeodeticLocation = z.infer<typeof locationSchema>;
 export type FeedConfig = z.infer<typeof feedSchema>;
+export type WebhookConfig = z.infer<typeof webhookSchema>;

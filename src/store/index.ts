@@ -1,6 +1,7 @@
 import { openDatabase, type Db } from './database.js';
 import { migrate } from './migrations.js';
 import { createNoticeStore } from './notices.js';
+import { createDeliveryStore } from './deliveries.js';
 import { createObjectStore } from './objects.js';
 import { createRequestStore } from './requests.js';
 import { createSourceStore } from './sources.js';
@@ -14,6 +15,7 @@ export function createStore(db: Db) {
     objects: createObjectStore(db),
     work: createWorkStore(db),
     requests: createRequestStore(db),
+    deliveries: createDeliveryStore(db),
     sources: createSourceStore(db),
   };
 }

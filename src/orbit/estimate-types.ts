@@ -1,0 +1,64 @@
+import type { GeodeticLocation } from '../config/schema.js';
+import type { EphemerisRow } from './ephemeris.js';
+
+/**
+ * The contract between orbit estimation and planning: what the service knows
+ * about one object after fitting its tracklet (or taking its orbit block).
+ * Everything here is an estimate with its spread, never an impact prediction.
+ */
+
+/** One astrometric position of a tracklet, as estimation takes it (degrees, arcsec, ISO UTC). */
+export interface TrackletObservation {
+  t: string;
+  raDeg: number;
+  decDeg: number;
+  sigmaArcsec: number;
+  mag: number | null;
+  band: string | null;
+  observer: GeodeticLocation;
+}
+
+export interface Percentiles {
+  p5: number;
+  p50: number;
+  p95: number;
+}
+
+export interface ResidualRow {
+  t: string;
+  /** Observed minus computed, RA times cos Dec, arcsec. */
+  dRaArcsec: number;
+  dDecArcsec: number;
+  outlier: boolean;
+}
+
+export interface EstimateSummary {
+  /** 'orbit-block' when the notice carried elements; 'ranging' for a tracklet-only estimate. */
+  method: 'orbit-block' | 'ranging';
+  members: number;
+  /** Topocentric range at the tracklet's mean epoch, au. */
+  rangeAu: Percentiles;
+  /** Fractions of the virtual orbits by class (sum 1): NEO-like q < 1.3 au, main-belt-like, other. */
+  classFractions: { neo: number; mainBelt: number; other: number };
+  /** Absolute magnitude H (V band) across the ensemble; null when the tracklet has no magnitudes and no H was given. */
+  hMag: Percentiles | null;
+  /** Diameter range, m, for geometric albedo 0.25 (small end) to 0.05 (large end) at the median H. */
+  diameterM: { min: number; max: number } | null;
+  /** Minimum geocentric distance over the next `withinDays` days. */
+  minGeocentricDistance: { withinDays: number; au: Percentiles; lunarDistances: Percentiles };
+  /** True when the median minimum distance is inside 0.05 au (about 20 lunar distances): a close approach, not a hazard statement. */
+  closeApproach: boolean;
+  residuals: ResidualRow[];
+  rmsArcsec: number | null;
+  notes: string[];
+}
+
+/** An object's estimate: its summary and an ephemeris (nominal with uncertainty) for any viewpoint and times. */
+export interface ObjectEstimate {
+  objectId: string;
+  /** ISO UTC of the first observation (discovery), for freshness. */
+  firstObservedAt: string;
+  summary: EstimateSummary;
+  /** Nominal rows with `unc` (1-sigma ellipse, arcsec) and `magSigma` from the ensemble. */
+  ephemeris(location: GeodeticLocation, timesUtc: readonly Date[]): EphemerisRow[];
+}
