@@ -20,11 +20,17 @@ import { buildSkyTimeline, skyFromTimeline, type SkyTimeline } from './timeline.
  * Method: sample on a coarse grid (default 10 min); between two samples, refine by halving
  * wherever a limit could change sign inside the gap, judged from the margins at both ends and
  * an upper bound on how fast each margin can change (Earth rotation 15.04 deg/h, the target's
- * own rate, the Moon's motion; a Lipschitz bound); then bisect each pass/fail change to
+ * own motion, the Moon's motion: a Lipschitz bound); then bisect each pass/fail change to
  * `precisionS` (default 30 s), keeping the passing side as the window edge. Every window edge
  * is therefore a time that passes, within `precisionS` of the true crossing, and labelled with
- * the limit that fails just outside it. The Sun and Moon on the coarse grid can be built once
- * per site and reused across targets with `buildSkyTimeline`.
+ * the limit that fails just outside it.
+ *
+ * The site's sky (frame, Sun, Moon) comes from a timeline of exact nodes every 20 min with
+ * interpolation between them (timeline.ts); build it once per site with `buildSkyTimeline`
+ * and pass it in `options.timeline` for many targets. Window samples must pass each limit by a
+ * small guard margin (0.003 deg, 0.0002 h) that covers the interpolation error, so a window
+ * time also passes the exact `evaluateLimits`. Windows shorter than the refinement can resolve
+ * (about 30 s) may be missed.
  */
 
 const MS_PER_MIN = 60_000;
@@ -74,13 +80,6 @@ export interface WindowsResult {
   evaluations: number;
 }
 
-function gridTimes(startMs: number, endMs: number, stepMs: number): number[] {
-  const times: number[] = [];
-  for (let t = startMs; t < endMs; t += stepMs) times.push(t);
-  times.push(endMs);
-  return times;
-}
-
 function checkInterval(startUtc: Date, endUtc: Date, stepMinutes: number): { startMs: number; endMs: number; stepMs: number } {
   requireDate('startUtc', startUtc);
   requireDate('endUtc', endUtc);
@@ -106,44 +105,95 @@ function passesWithGuard(report: LimitReport): boolean {
 
 interface Sample {
   t: number;
+  target: TargetState;
   report: LimitReport;
   /** Passes every limit by at least the guard margin. */
   ok: boolean;
-  /** Upper bound on |d margin / dt| per limit, margin units per minute. */
-  slopes: Map<LimitName, number>;
 }
 
-/** Rate bounds of each margin at a sample, in the margin's unit per minute. */
-function marginSlopes(site: Site, target: TargetState, report: LimitReport, maskSlope: number): Map<LimitName, number> {
-  const motionDegPerMin = (Math.hypot(target.raRateArcsecPerS ?? 0, target.decRateArcsecPerS ?? 0) * 60) / 3600;
-  const altRate = ROTATION_DEG_PER_MIN + motionDegPerMin;
-  const cosAlt = Math.max(Math.cos((report.target.altDeg * Math.PI) / 180), 0.02);
-  const cosDec = Math.max(Math.cos((target.decDeg * Math.PI) / 180), 0.02);
-  const slopes = new Map<LimitName, number>();
-  slopes.set('night', ROTATION_DEG_PER_MIN);
-  slopes.set('sunAvoidance', motionDegPerMin + SUN_DEG_PER_MIN);
-  slopes.set('minAltitude', altRate);
-  // Mask margin changes with altitude and, through the mask's slope, with azimuth (az rate <= alt-rate / cos alt).
-  slopes.set('horizonMask', altRate * (1 + maskSlope / cosAlt));
-  slopes.set('maxAirmass', altRate);
-  slopes.set('zenithKeepOut', altRate);
+const DEG = Math.PI / 180;
+
+/** Angle between two RA/Dec positions, degrees (haversine). */
+function separationDeg(a: TargetState, b: TargetState): number {
+  const dDec = (b.decDeg - a.decDeg) * DEG;
+  const dRa = (b.raDeg - a.raDeg) * DEG;
+  const h = Math.sin(dDec / 2) ** 2 + Math.cos(a.decDeg * DEG) * Math.cos(b.decDeg * DEG) * Math.sin(dRa / 2) ** 2;
+  return (2 * Math.asin(Math.min(1, Math.sqrt(h)))) / DEG;
+}
+
+const rateDegPerMin = (t: TargetState) => (Math.hypot(t.raRateArcsecPerS ?? 0, t.decRateArcsecPerS ?? 0) * 60) / 3600;
+
+/**
+ * Upper bounds on |d margin / dt| over the gap between two samples, per limit, in the margin's unit
+ * per minute. The target's own motion is the larger of its stated rates and 1.5 x the motion seen
+ * between the two samples (so a target given without rates is still bounded).
+ */
+function gapSlopes(site: Site, a: Sample, b: Sample, maskSlope: number): (limit: LimitName) => number {
+  const dtMin = (b.t - a.t) / MS_PER_MIN;
+  const motion = Math.max(rateDegPerMin(a.target), rateDegPerMin(b.target), (1.5 * separationDeg(a.target, b.target)) / dtMin);
+  const altRate = ROTATION_DEG_PER_MIN + motion;
+  const highestAlt = Math.max(a.report.target.altDeg, b.report.target.altDeg) + altRate * dtMin;
+  const cosAlt = Math.max(Math.cos(Math.min(highestAlt, 90) * DEG), 0.02);
+  const cosDec = Math.max(Math.min(Math.cos(a.target.decDeg * DEG), Math.cos(b.target.decDeg * DEG)), 0.02);
   const haRange = site.limits.hourAngleH.max - site.limits.hourAngleH.min;
-  // A full 24 h range never fails; its margin only touches 0 at the +-12 h wrap.
-  slopes.set('hourAngle', haRange >= 24 ? 0 : 1.0028 / 60 + ((Math.abs(target.raRateArcsecPerS ?? 0) / cosDec) * 60) / 54_000);
-  slopes.set('declination', (Math.abs(target.decRateArcsecPerS ?? 0) * 60) / 3600);
-  // Scaled limit: illumination changes by < 0.0003 per minute; x minMoonSeparationDeg.
-  slopes.set('moonSeparation', motionDegPerMin + MOON_DEG_PER_MIN + 0.0003 * site.limits.minMoonSeparationDeg);
-  slopes.set('maxRate', 0); // rates are only known at samples
-  return slopes;
+  const rateMargin = (s: Sample) => s.report.checks.find((c) => c.limit === 'maxRate')?.margin ?? 0;
+  return (limit) => {
+    switch (limit) {
+      case 'night':
+        return ROTATION_DEG_PER_MIN;
+      case 'sunAvoidance':
+        return motion + SUN_DEG_PER_MIN;
+      case 'minAltitude':
+      case 'maxAirmass':
+      case 'zenithKeepOut':
+        return altRate;
+      case 'horizonMask':
+        // Altitude rate plus the mask's slope times the azimuth rate (<= altitude rate / cos alt).
+        return altRate * (1 + maskSlope / cosAlt);
+      case 'hourAngle':
+        // A full 24 h range never fails; its margin only touches 0 at the +-12 h wrap.
+        return haRange >= 24 ? 0 : 1.0028 / 60 + motion / cosDec / 15;
+      case 'declination':
+        return motion;
+      case 'moonSeparation':
+        // Scaled limit: the illuminated fraction changes by < 0.0003 per minute.
+        return motion + MOON_DEG_PER_MIN + 0.0003 * site.limits.minMoonSeparationDeg;
+      case 'maxRate':
+        // Rates are only known at samples: assume they change at most twice as fast as seen between them.
+        return (2 * Math.abs(rateMargin(b) - rateMargin(a))) / dtMin;
+    }
+  };
+}
+
+/** Fraction of the proven hold time used when striding, for safety. */
+const HOLD_SAFETY = 0.9;
+
+/**
+ * How long a failing sample provably keeps failing, minutes: the night limit (Sun altitude changes
+ * at most 0.2515 deg/min) and, for targets that state their rates, the altitude limit. 0 if passing.
+ */
+function failingHoldMinutes(s: Sample): number {
+  if (s.ok) return 0;
+  let hold = 0;
+  const hasRates = s.target.raRateArcsecPerS !== undefined || s.target.decRateArcsecPerS !== undefined;
+  for (const c of s.report.checks) {
+    if (c.margin >= GUARD[c.unit]) continue;
+    let slope = 0;
+    if (c.limit === 'night') slope = ROTATION_DEG_PER_MIN;
+    else if (c.limit === 'minAltitude' && hasRates) slope = ROTATION_DEG_PER_MIN + rateDegPerMin(s.target);
+    if (slope > 0) hold = Math.max(hold, (HOLD_SAFETY * (GUARD[c.unit] - c.margin)) / slope);
+  }
+  return hold;
 }
 
 /** Whether some limit's state could differ somewhere strictly inside (a, b), given both margins and rate bounds. */
-function mayChangeInside(a: Sample, b: Sample): boolean {
+function mayChangeInside(site: Site, a: Sample, b: Sample, maskSlope: number): boolean {
   const dtMin = (b.t - a.t) / MS_PER_MIN;
+  const slopeOf = gapSlopes(site, a, b, maskSlope);
   for (const ca of a.report.checks) {
     const cb = b.report.checks.find((c) => c.limit === ca.limit);
     if (cb === undefined) continue;
-    const slope = Math.max(a.slopes.get(ca.limit) ?? 0, b.slopes.get(ca.limit) ?? 0);
+    const slope = slopeOf(ca.limit);
     if (slope === 0) continue;
     const guard = GUARD[ca.unit];
     const okA = ca.margin >= guard;
@@ -291,16 +341,25 @@ export function observableWindows(
     const target = checkTargetState(targetAt(when), `targetAt(${when.toISOString()})`);
     const report = evaluateLimitsInSky(site, skyFromTimeline(timeline, when), target, prepared);
     evaluations++;
-    return { t, report, ok: passesWithGuard(report), slopes: marginSlopes(site, target, report, maskSlope) };
+    return { t, target, report, ok: passesWithGuard(report) };
   };
 
-  // 1. Coarse grid.
-  const coarse = gridTimes(startMs, endMs, stepMs).map((t) => sampleAt(t));
+  // 1. Coarse grid, striding over time that provably stays failing (daylight, target below the limit).
+  const coarse: Sample[] = [];
+  const provenFailing = new Set<Sample>(); // the gap after this sample cannot contain a passing time
+  for (let t = startMs; ; ) {
+    const s = sampleAt(t);
+    coarse.push(s);
+    if (t >= endMs) break;
+    const holdMs = failingHoldMinutes(s) * MS_PER_MIN;
+    if (holdMs > stepMs) provenFailing.add(s);
+    t = Math.min(t + Math.max(stepMs, Math.floor(holdMs)), endMs);
+  }
 
   // 2. Refine gaps where a limit could change sign between samples.
   const samples: Sample[] = [coarse[0]!];
   const refine = (a: Sample, b: Sample): void => {
-    if (b.t - a.t > MIN_REFINE_MS && mayChangeInside(a, b)) {
+    if (b.t - a.t > MIN_REFINE_MS && !provenFailing.has(a) && mayChangeInside(site, a, b, maskSlope)) {
       const mid = sampleAt(Math.round((a.t + b.t) / 2));
       refine(a, mid);
       refine(mid, b);
