@@ -8,6 +8,7 @@ import { ensureInboxFolders, seedInbox } from './intake/inbox.js';
 import { createIntake } from './intake/ingest.js';
 import { intakeJobs } from './jobs/intake-jobs.js';
 import { requestJobs } from './jobs/request-jobs.js';
+import { webhookJobs } from './jobs/webhooks.js';
 import { createServiceMetrics } from './telemetry/metrics.js';
 import { createJobRunner, type JobRunner } from './jobs/scheduler.js';
 import { openStore, type Store } from './store/index.js';
@@ -70,7 +71,7 @@ export async function startService(options: StartOptions): Promise<RunningServic
   const jobLog = logger.child({ part: 'jobs' });
   const log = { info: (o: object, m: string) => jobLog.info(o, m), warn: (o: object, m: string) => jobLog.warn(o, m) };
   const jobs = createJobRunner(
-    [...intakeJobs({ config, store, intake, clock, log, metrics }), ...requestJobs({ config, store, clock, log })],
+    [...intakeJobs({ config, store, intake, clock, log, metrics }), ...requestJobs({ config, store, clock, log }), ...webhookJobs({ config, store, clock, metrics, log })],
     (job, err) => jobLog.error({ job, err }, 'job failed'),
   );
   let address: string;

@@ -13,7 +13,7 @@ import { defineRoute, openApiDocument, registerRoutes, type AnyRouteSpec } from 
 import { noticeRoutes } from './routes/notices.js';
 import { objectRoutes } from './routes/objects.js';
 import { requestRoutes } from './routes/requests.js';
-import { serviceRoutes } from './routes/service.js';
+import { deliveryRoutes, serviceRoutes } from './routes/service.js';
 
 export interface AppOptions {
   config: Config;
@@ -102,6 +102,7 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
     ...noticeRoutes(ctx),
     ...requestRoutes(ctx),
     ...objectRoutes(ctx),
+    ...deliveryRoutes(ctx),
     ...(options.extraRoutes ? options.extraRoutes(ctx) : []),
   ];
   const info = {

@@ -28,15 +28,11 @@ export function createJobRunner(specs: readonly JobSpec[], onError: JobErrorHand
   function execute(spec: JobSpec): Promise<void> {
     const current = running.get(spec.name);
     if (current) return current;
-    const p = (async () => {
-      try {
-        await spec.run();
-      } catch (err) {
-        onError(spec.name, err);
-      } finally {
-        running.delete(spec.name);
-      }
-    })();
+    // Start on the next microtask so the entry is registered before a synchronous job finishes.
+    const p = Promise.resolve()
+      .then(() => spec.run())
+      .catch((err: unknown) => onError(spec.name, err))
+      .finally(() => running.delete(spec.name));
     running.set(spec.name, p);
     return p;
   }

@@ -71,3 +71,51 @@ export function serviceRoutes(ctx: ApiContext): AnyRouteSpec[] {
     }),
   ];
 }
+
+const deliveryView = z.object({
+  id: z.number().int(),
+  hookId: z.string(),
+  event: z.string(),
+  state: z.enum(['pending', 'delivered', 'failed']),
+  attempts: z.number().int(),
+  nextAttemptAt: z.string(),
+  createdAt: z.string(),
+  deliveredAt: z.string().nullable(),
+  payload: z.unknown(),
+  attemptLog: z.array(z.object({ at: z.string(), status: z.number().int().nullable(), error: z.string().nullable(), durationMs: z.number() })),
+});
+
+export function deliveryRoutes(ctx: ApiContext): AnyRouteSpec[] {
+  return [
+    defineRoute({
+      method: 'GET',
+      url: '/v1/deliveries',
+      tag: 'review',
+      summary: 'Webhook deliveries with every attempt, newest first',
+      role: ['operator', 'reader'],
+      readsOpenOnLoopback: true,
+      query: z
+        .object({
+          cursor: z.coerce.number().int().positive().optional(),
+          limit: z.coerce.number().int().min(1).max(500).default(50),
+          hook: z.string().max(32).optional(),
+          state: z.enum(['pending', 'delivered', 'failed']).optional(),
+        })
+        .strict(),
+      responses: { 200: { description: 'a page', schema: z.object({ items: z.array(deliveryView), nextCursor: z.string().nullable() }) } },
+      handler: async ({ query }) => {
+        const rows = ctx.store.deliveries.list({
+          limit: query.limit,
+          ...(query.cursor !== undefined ? { beforeId: query.cursor } : {}),
+          ...(query.hook ? { hookId: query.hook } : {}),
+          ...(query.state ? { state: query.state } : {}),
+        });
+        const last = rows[rows.length - 1];
+        return {
+          items: rows.map((r) => ({ ...r, payload: JSON.parse(r.payload) as unknown })),
+          nextCursor: rows.length === query.limit && last ? String(last.id) : null,
+        };
+      },
+    }),
+  ];
+}
