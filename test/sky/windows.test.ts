@@ -31,8 +31,11 @@ describe('observableWindows', () => {
     expect(w.ends).toMatchObject({ limit: 'night', detail: 'dawn: Sun at -12 deg' });
   });
 
-  it('finds nothing for Dec -80 from latitude +34 and says why, with the highest altitude', () => {
-    const result = observableWindows(anyHourAngle, spanStart, spanEnd, fixed(200, -80));
+  it('finds nothing for Dec -80 from latitude +40 and says why, with the highest altitude', () => {
+    const lat40: Site = { ...anyHourAngle, location: { ...anyHourAngle.location, latDeg: 40 } };
+    const result = observableWindows(lat40, spanStart, spanEnd, fixed(200, -80));
+    // Highest geometric altitude 90 - 40 - 80 = -30 deg.
+    expect(result.reasons.join('\n')).toMatch(/highest altitude -29\.\d deg/);
     expect(result.windows).toEqual([]);
     expect(result.reasons.join('\n')).toMatch(/never above 25 deg during the night: highest altitude -\d+\.\d deg/);
     expect(result.reasons.join('\n')).toMatch(/declination never holds during the night: best declination -80\.0 deg, allowed -35\.\.89 deg/);
