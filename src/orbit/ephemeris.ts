@@ -38,6 +38,7 @@ export interface ObserverGeometry {
  * both in EQJ axes.
  */
 export function observerGeometry(viewpoint: Viewpoint, timeUtc: Date): ObserverGeometry {
+  if (!(timeUtc instanceof Date) || !Number.isFinite(timeUtc.getTime())) throw new OrbitInputError('timeUtc', timeUtc, 'expected a valid Date');
   const time = MakeTime(timeUtc);
   const earth = HelioState(Body.Earth, time);
   const ssb = HelioState(Body.SSB, time);
@@ -90,6 +91,7 @@ const LIGHT_TIME_MAX_ITERATIONS = 10;
  * contracts by |v|/c ~ 1e-4 per step.
  */
 export function astrometricPlace(r: Vec3, v: Vec3, observer: ObserverGeometry): AstrometricPlace {
+  for (const [field, value] of [['r.x', r.x], ['r.y', r.y], ['r.z', r.z], ['v.x', v.x], ['v.y', v.y], ['v.z', v.z]] as const) requireFinite(field, value);
   const out = new Float64Array(PLACE_FIELDS);
   placeInto(r.x, r.y, r.z, v.x, v.y, v.z, observer, out);
   return {

@@ -1,7 +1,7 @@
 import type { Body } from 'astronomy-engine';
 import { GM_SUN_AU3_PER_DAY2 } from './constants.js';
 import type { HeliocentricState } from './elements.js';
-import { OrbitInputError, requireFinite, requirePositive } from './errors.js';
+import { OrbitConvergenceError, OrbitInputError, requireFinite, requirePositive } from './errors.js';
 import { PERTURBING_BODIES, PerturberTable } from './perturbers.js';
 
 /**
@@ -255,6 +255,13 @@ function integrateRun(
       const a1 = k1[j]!, a2 = k2[j]!, a3 = k3[j]!, a4 = k4[j]!;
       r[j] = r0[j]! + h * v0[j]! + ((h * h) / 6) * (a1 + a2 + a3);
       v[j] = v0[j]! + (h / 6) * (a1 + 2 * a2 + 2 * a3 + a4);
+    }
+    for (let j = 0; j < size; j++) {
+      if (!Number.isFinite(r[j]!) || !Number.isFinite(v[j]!)) {
+        throw new OrbitConvergenceError(
+          `member ${Math.floor(j / 3)}: the state became non-finite near TT ${t + h} (days since J2000); it passed through a body's centre`,
+        );
+      }
     }
     const tA = t;
     t = tA + h;

@@ -209,3 +209,12 @@ describe('ensemble propagation', () => {
     expect(() => propagateEnsemble(members, [t0, Number.NaN])).toThrow(/timesTt\[1\] = NaN/);
   });
 });
+
+describe('a trajectory through a body', () => {
+  it("stops with an error naming the member instead of returning NaN when an orbit starts at the Earth's centre", () => {
+    const tt = 9862; // a perturber-table node, where the table returns the library's Earth exactly
+    const earth = HelioState(Body.Earth, T(tt));
+    const start: HeliocentricState = { tt, x: earth.x, y: earth.y, z: earth.z, vx: earth.vx + 0.01, vy: earth.vy, vz: earth.vz };
+    expect(() => propagateEnsemble([start], [tt + 1])).toThrow(/member 0: the state became non-finite near TT/);
+  });
+});
