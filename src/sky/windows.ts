@@ -296,8 +296,21 @@ function emptyReasons(site: Site, samples: Sample[]): string[] {
       case 'moonSeparation':
         reasons.push(`always too close to the Moon during the night: best ${b.detail}`);
         break;
-      default:
-        reasons.push(`${name} never holds during the night: best ${b.detail}`);
+      case 'horizonMask':
+        reasons.push(`never clear of the horizon mask during the night: best ${b.detail}`);
+        break;
+      case 'zenithKeepOut':
+        reasons.push(`always inside the zenith keep-out during the night: best ${b.detail}`);
+        break;
+      case 'hourAngle':
+        reasons.push(`never within hour angle ${l.hourAngleH.min}..${l.hourAngleH.max} h during the night: best ${b.detail}`);
+        break;
+      case 'declination':
+        reasons.push(`declination outside ${l.decDeg.min}..${l.decDeg.max} deg throughout the night: best ${b.detail}`);
+        break;
+      case 'maxRate':
+        reasons.push(`always faster than ${l.maxRateArcsecPerS} arcsec/s during the night: best ${b.detail}`);
+        break;
     }
   }
   if (reasons.length === 0) {

@@ -38,7 +38,7 @@ describe('observableWindows', () => {
     expect(result.reasons.join('\n')).toMatch(/highest altitude -29\.\d deg/);
     expect(result.windows).toEqual([]);
     expect(result.reasons.join('\n')).toMatch(/never above 25 deg during the night: highest altitude -\d+\.\d deg/);
-    expect(result.reasons.join('\n')).toMatch(/declination never holds during the night: best declination -80\.0 deg, allowed -35\.\.89 deg/);
+    expect(result.reasons.join('\n')).toMatch(/declination outside -35\.\.89 deg throughout the night: best declination -80\.0 deg, allowed -35\.\.89 deg/);
   });
 
   it('explains an interval with no night', () => {
@@ -70,6 +70,21 @@ describe('observableWindows', () => {
     const labels = result.windows.flatMap((w) => [w.starts.limit, w.ends.limit]);
     expect(labels).toContain('hourAngle');
     expect(result.windows.map((w) => w.starts.detail).concat(result.windows.map((w) => w.ends.detail)).join(' ')).toMatch(/hour angle (reaches -5\.5|passes 5\.5) h/);
+  });
+
+  it('splits a window where an alt-az mount passes the zenith keep-out, labelling both edges', () => {
+    // kestrel-hollow (lat 36.08 N, keep-out 3 deg): Dec +36 passes within 0.1 deg of the zenith.
+    const start = new Date('2027-03-15T06:00:00Z');
+    const result = observableWindows(kestrelHollow, start, new Date(start.getTime() + 86_400_000), fixed(150, 36));
+    const edges = result.windows.flatMap((w) => [w.starts.detail, w.ends.detail]);
+    expect(edges).toContain('enters the zenith keep-out (above 87 deg)');
+    expect(edges).toContain('leaves the zenith keep-out (above 87 deg)');
+  });
+
+  it('explains a target that is always too fast, with its rate', () => {
+    const result = observableWindows(lanternRidge, spanStart, spanEnd, () => ({ raDeg: 190, decDeg: 10, raRateArcsecPerS: 70, decRateArcsecPerS: 0 }));
+    expect(result.windows).toEqual([]);
+    expect(result.reasons).toContain('always faster than 60 arcsec/s during the night: best rate 70.00 arcsec/s, limit 60 arcsec/s');
   });
 
   it('gives the same windows with a prepared sky timeline', () => {
