@@ -17,6 +17,7 @@ import { cross, dot, norm, type Vec3 } from './vector.js';
  * - perihelion ("cometary") elements of the notice orbit block
  *   {q, e, i, node, peri, tp}, heliocentric, ecliptic and mean equinox J2000,
  *   valid for every eccentricity.
+ * Vallado algorithm and equation numbers (4th ed.) are from memory.
  */
 
 /** Heliocentric state, equatorial J2000 (EQJ, ICRS-aligned) axes: au and au/day at TT `tt` (days since J2000.0). */

@@ -5,7 +5,9 @@ import type { Vec3 } from './vector.js';
  * Two-body tools: Kepler's equation in its elliptic, hyperbolic and parabolic
  * forms, and two-body propagation of a state by universal variables. Angles in
  * radians; lengths, times and GM in any consistent units (au, days and
- * au^3/day^2 in this project).
+ * au^3/day^2 in this project). Algorithm and section numbers cited below for
+ * Vallado (4th ed.) and Danby (2nd ed.) are from memory; the formulas are checked
+ * by the tests against worked examples and identities, not against the numbering.
  */
 
 const TWO_PI = 2 * Math.PI;

@@ -10,7 +10,8 @@ import { PERTURBING_BODIES, PerturberTable } from './perturbers.js';
  * Force model: point masses of the Sun, the eight planets and the Moon
  * (Earth and Moon separately), heliocentric frame with the indirect term,
  * a = -GM_S r/|r|^3 + sum_p GM_p [(r_p - r)/|r_p - r|^3 - r_p/|r_p|^3]
- * (e.g. Murray & Dermott, Solar System Dynamics, eq. 6.8). Not modelled:
+ * (the heliocentric equations of motion of Murray & Dermott, Solar System
+ * Dynamics, 1999, ch. 6; chapter from memory). Not modelled:
  * relativity, asteroid masses, Earth's oblateness, non-gravitational forces.
  *
  * Method: classical fourth-order Runge-Kutta over Float64Arrays, one step size

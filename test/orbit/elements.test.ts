@@ -36,7 +36,7 @@ describe('classical elements from a state (Vallado Example 2-5)', () => {
   it('gives true anomaly = 92.335 deg', () => expect(angleDiffDeg(el.trueAnomalyRad / DEG, 92.335)).toBeLessThan(0.001));
 });
 
-describe('state from classical elements (Vallado Example 2-6, the inverse of 2-5)', () => {
+describe('state from classical elements (the inverse of Vallado Example 2-5; Example 2-6 by memory)', () => {
   it('recovers the Example 2-5 position to 1 m and velocity to 1 mm/s', () => {
     const el = classicalFromState({ r: valladoR, v: valladoV }, MU_EARTH_KM3_S2);
     const { r, v } = stateFromClassical(el, MU_EARTH_KM3_S2);
