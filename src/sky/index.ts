@@ -39,6 +39,7 @@ export {
   FALLBACK_V_EXTINCTION_MAG_PER_AIRMASS,
   skyBrightnessKS,
   skyBrightnessAt,
+  skyBrightnessInSky,
   siteVExtinctionMagPerAirmass,
   nanolambertsFromVMag,
   vMagFromNanolamberts,

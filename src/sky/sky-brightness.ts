@@ -1,7 +1,7 @@
 import type { Site } from '../config/schema.js';
 import { SkyInputError, requireFinite } from './errors.js';
-import { moonAndSunInFrame } from './bodies.js';
-import { angleBetweenDeg, apparentInFrame, siteFrameAt } from './site.js';
+import { angleBetweenDeg, apparentInFrame } from './site.js';
+import { skyAt, type SkyAt } from './timeline.js';
 
 /**
  * Sky brightness in V by Krisciunas & Schaefer (1991), "A model of the brightness of
@@ -143,9 +143,13 @@ export function siteVExtinctionMagPerAirmass(site: Site): number {
  * Altitudes are apparent (refracted); the separation is between apparent directions.
  */
 export function skyBrightnessAt(site: Site, timeUtc: Date, raDeg: number, decDeg: number): SkyBrightnessAt {
-  const frame = siteFrameAt(site.location, timeUtc);
-  const target = apparentInFrame(frame, raDeg, decDeg);
-  const { moon } = moonAndSunInFrame(frame);
+  return skyBrightnessInSky(site, skyAt(site, timeUtc), raDeg, decDeg);
+}
+
+/** As skyBrightnessAt, in a prepared sky (exact `skyAt` or interpolated `skyFromTimeline`), for many positions. */
+export function skyBrightnessInSky(site: Site, sky: SkyAt, raDeg: number, decDeg: number): SkyBrightnessAt {
+  const target = apparentInFrame(sky.frame, raDeg, decDeg);
+  const moon = sky.moon;
   const moonSeparationDeg = angleBetweenDeg(target.eqdUnit, moon.eqdUnit);
   const extinctionMagPerAirmass = siteVExtinctionMagPerAirmass(site);
   const brightness = skyBrightnessKS({
