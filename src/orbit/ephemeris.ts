@@ -218,6 +218,22 @@ export function streamEnsemblePlaces(
   sink: (timeIndex: number, places: PlacesAtTime) => void,
   options: PropagationOptions = {},
 ): { stepCount: number; perturberNodeCount: number } {
+  return streamEnsemblePlacesForSites(states, [viewpoint], timesUtc, (k, _site, places) => sink(k, places), options);
+}
+
+/**
+ * As streamEnsemblePlaces for several viewpoints from one propagation:
+ * `sink(timeIndex, viewpointIndex, places)` for every viewpoint at every
+ * requested instant (the propagation, the dominant cost, is not repeated).
+ */
+export function streamEnsemblePlacesForSites(
+  states: readonly HeliocentricState[],
+  viewpoints: readonly Viewpoint[],
+  timesUtc: readonly Date[],
+  sink: (timeIndex: number, viewpointIndex: number, places: PlacesAtTime) => void,
+  options: PropagationOptions = {},
+): { stepCount: number; perturberNodeCount: number } {
+  if (viewpoints.length === 0) throw new OrbitInputError('viewpoints', '[]', 'expected at least one site or the geocentre');
   const timesTt = convertTimes(timesUtc);
   const n = states.length;
   const places: PlacesAtTime = {
@@ -235,19 +251,21 @@ export function streamEnsemblePlaces(
     states,
     timesTt,
     (k, pos, vel) => {
-      const observer = observerGeometry(viewpoint, timesUtc[k]!);
-      for (let m = 0; m < n; m++) {
-        placeInto(pos[3 * m]!, pos[3 * m + 1]!, pos[3 * m + 2]!, vel[3 * m]!, vel[3 * m + 1]!, vel[3 * m + 2]!, observer, scratch);
-        places.raDeg[m] = scratch[0]!;
-        places.decDeg[m] = scratch[1]!;
-        places.raRateArcsecPerS[m] = scratch[2]!;
-        places.decRateArcsecPerS[m] = scratch[3]!;
-        places.deltaAu[m] = scratch[4]!;
-        places.rAu[m] = scratch[5]!;
-        places.phaseDeg[m] = scratch[6]!;
-        places.elongationDeg[m] = scratch[7]!;
-      }
-      sink(k, places);
+      viewpoints.forEach((viewpoint, v) => {
+        const observer = observerGeometry(viewpoint, timesUtc[k]!);
+        for (let m = 0; m < n; m++) {
+          placeInto(pos[3 * m]!, pos[3 * m + 1]!, pos[3 * m + 2]!, vel[3 * m]!, vel[3 * m + 1]!, vel[3 * m + 2]!, observer, scratch);
+          places.raDeg[m] = scratch[0]!;
+          places.decDeg[m] = scratch[1]!;
+          places.raRateArcsecPerS[m] = scratch[2]!;
+          places.decRateArcsecPerS[m] = scratch[3]!;
+          places.deltaAu[m] = scratch[4]!;
+          places.rAu[m] = scratch[5]!;
+          places.phaseDeg[m] = scratch[6]!;
+          places.elongationDeg[m] = scratch[7]!;
+        }
+        sink(k, v, places);
+      });
     },
     options,
   );

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { AstroTime, Body, GravitySimulator, HelioState, HelioVector, MassProduct, ObserverVector, Observer, StateVector } from 'astronomy-engine';
 import { stateFromPerihelionElements, type HeliocentricState } from '../../src/orbit/elements.js';
-import { ensemblePlaces } from '../../src/orbit/ephemeris.js';
+import { ensemblePlaces, streamEnsemblePlacesForSites } from '../../src/orbit/ephemeris.js';
 import { propagateEnsemble } from '../../src/orbit/propagate.js';
 import { OrbitInputError } from '../../src/orbit/errors.js';
 import { ttFromTtIso, ttFromUtc, utcFromTt } from '../../src/orbit/time.js';
@@ -185,6 +185,19 @@ describe('ensemble propagation', () => {
     expect(inside.stepCount).toBe(1);
     for (let axis = 0; axis < 3; axis++) expect(Math.abs(inside.positionsAu[axis]! - landed.positionsAu[axis]!)).toBeLessThan(2e-9);
     for (let axis = 0; axis < 3; axis++) expect(Math.abs(inside.velocitiesAuPerDay[axis]! - landed.velocitiesAuPerDay[axis]!)).toBeLessThan(1e-8);
+  });
+
+  it('gives each site from one propagation the same places as a run for that site alone', () => {
+    const other = { latDeg: -30.2, lonDeg: 70.8, heightM: 2400 }; // an invented southern site
+    const timesUtc = times.map(utcFromTt);
+    const seen: number[][] = [[], []];
+    streamEnsemblePlacesForSites(members, [site, other], timesUtc, (k, v, p) => {
+      if (k === 3) seen[v]!.push(p.raDeg[1]!, p.decDeg[1]!);
+    });
+    for (const [v, where] of [site, other].entries()) {
+      const alone = ensemblePlaces(members, where, timesUtc);
+      expect(seen[v]).toEqual([alone.raDeg[3 * members.length + 1], alone.decDeg[3 * members.length + 1]]);
+    }
   });
 
   it('returns the starting state at the epoch and keeps the requested order of times', () => {

@@ -153,6 +153,8 @@ export function fitAttributable(observations: readonly PreparedObservation[]): A
     if (!result.fit) throw new EstimationInputError('observations', n, 'after removing outliers the times no longer determine a rate');
   }
 
+  // The leave-one-out fits moved the frame: refit the final set in its own frame.
+  result = solveWith(used);
   const fit = result.fit!;
   const [cx, cy] = fit.coefficients;
   let chiSquare = 0;
