@@ -68,3 +68,6 @@ CREATE TABLE delivery_attempts (
   duration_ms   REAL    NOT NULL
 );
 CREATE INDEX delivery_attempts_delivery ON delivery_attempts (delivery_id, id);
+
+-- Why an object was retired (no future window at any site), in words.
+ALTER TABLE objects ADD COLUMN retired_reason TEXT;

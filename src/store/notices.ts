@@ -82,14 +82,13 @@ export function createNoticeStore(db: Db) {
     VALUES (?, ?, ?, ?, ?, ?, ?)`);
   const touchObject = db.prepare(`UPDATE objects SET last_notice_at = ?, orbit = COALESCE(?, orbit) WHERE id = ?`);
   const retractObject = db.prepare(`UPDATE objects SET state = 'retracted', retraction_reason = ?, retracted_at = ?, last_notice_at = ? WHERE id = ?`);
-  const reviveObject = db.prepare(`UPDATE objects SET state = 'active', retraction_reason = NULL, retracted_at = NULL WHERE id = ?`);
+  const reviveObject = db.prepare(`UPDATE objects SET state = 'active', retraction_reason = NULL, retracted_at = NULL, retired_reason = NULL WHERE id = ?`);
   const insertObservation = db.prepare(`INSERT OR IGNORE INTO observations
     (object_id, notice_row, t, ra_deg, dec_deg, sigma_arcsec, mag, band, obs_lat_deg, obs_lon_deg, obs_height_m)
     VALUES (@objectId, @noticeRow, @t, @raDeg, @decDeg, @sigmaArcsec, @mag, @band, @obsLatDeg, @obsLonDeg, @obsHeightM)`);
   const enqueue = db.prepare(`INSERT INTO work (object_id, state, attempts, enqueued_at, updated_at) VALUES (?, 'waiting', 0, ?, ?)
     ON CONFLICT (object_id) DO UPDATE SET state = 'waiting', attempts = CASE WHEN work.state = 'running' THEN work.attempts ELSE 0 END,
       last_error = NULL, enqueued_at = excluded.enqueued_at, updated_at = excluded.updated_at`);
-  const dequeue = db.prepare(`DELETE FROM work WHERE object_id = ? AND state IN ('waiting', 'failed', 'done')`);
   const insertRejection = db.prepare(`INSERT INTO rejections (source, received_at, sender, notice_id, raw, reasons)
     VALUES (?, ?, ?, ?, ?, ?)`);
 
@@ -103,9 +102,10 @@ export function createNoticeStore(db: Db) {
     if (input.kind === 'retraction') {
       if (object) retractObject.run(input.retractionReason, input.issuedAt, input.receivedAt, input.objectId);
       else insertObject.run(input.objectId, 'retracted', input.receivedAt, input.receivedAt, input.retractionReason, input.issuedAt, input.orbitJson);
-      dequeue.run(input.objectId);
+      // The object stays on the work queue so the assessment runner withdraws its queued requests and announces it.
+      enqueue.run(input.objectId, input.receivedAt, input.receivedAt);
       markMerged.run(0, noticeRow);
-      return { status: 'accepted', noticeRow, observationsAdded: 0, objectState: 'retracted', queued: false, revived: false };
+      return { status: 'accepted', noticeRow, observationsAdded: 0, objectState: 'retracted', queued: true, revived: false };
     }
     if (!object) {
       insertObject.run(input.objectId, 'active', input.receivedAt, input.receivedAt, null, null, input.orbitJson);

@@ -9,6 +9,7 @@ export interface ObjectRow {
   retractionReason: string | null;
   retractedAt: string | null;
   orbit: string | null;
+  retiredReason: string | null;
 }
 
 export interface StoredObservation extends ObservationInput {
@@ -17,7 +18,7 @@ export interface StoredObservation extends ObservationInput {
 }
 
 const OBJECT_COLUMNS = `id, state, first_notice_at AS firstNoticeAt, last_notice_at AS lastNoticeAt,
-  retraction_reason AS retractionReason, retracted_at AS retractedAt, orbit`;
+  retraction_reason AS retractionReason, retracted_at AS retractedAt, orbit, retired_reason AS retiredReason`;
 
 /** Objects and their merged, deduplicated tracklets. */
 export function createObjectStore(db: Db) {
@@ -38,6 +39,14 @@ export function createObjectStore(db: Db) {
       return db
         .prepare(`SELECT ${OBJECT_COLUMNS} FROM objects ${where.length ? `WHERE ${where.join(' AND ')}` : ''} ORDER BY id LIMIT ?`)
         .all(...args, options.limit) as ObjectRow[];
+    },
+    /** An active object with no future window anywhere is retired; a new notice brings it back. */
+    retire(objectId: string, reason: string): boolean {
+      return db.prepare(`UPDATE objects SET state = 'retired', retired_reason = ? WHERE id = ? AND state = 'active'`).run(reason, objectId).changes === 1;
+    },
+    /** Active objects, for the periodic replan. */
+    activeIds(): string[] {
+      return (db.prepare(`SELECT id FROM objects WHERE state = 'active' ORDER BY id`).all() as { id: string }[]).map((r) => r.id);
     },
     /** The object's tracklet in time order. */
     observations(objectId: string): StoredObservation[] {

@@ -36,6 +36,13 @@ export function createWorkStore(db: Db) {
          WHERE object_id = ? AND state = 'running'`,
       ).run(maxAttempts, error.slice(0, 2000), now.toISOString(), objectId);
     },
+    /** Puts objects back on the queue unless they are already waiting or running (the periodic replan). */
+    enqueueIdle: db.transaction((objectIds: readonly string[], now: Date): void => {
+      const stmt = db.prepare(`INSERT INTO work (object_id, state, attempts, enqueued_at, updated_at) VALUES (?, 'waiting', 0, ?, ?)
+        ON CONFLICT (object_id) DO UPDATE SET state = 'waiting', attempts = 0, last_error = NULL, enqueued_at = excluded.enqueued_at,
+        updated_at = excluded.updated_at WHERE work.state IN ('done', 'failed')`);
+      for (const id of objectIds) stmt.run(id, now.toISOString(), now.toISOString());
+    }),
     /** After a crash, items left `running` are waiting again. */
     requeueRunning(now: Date): number {
       return db.prepare(`UPDATE work SET state = 'waiting', updated_at = ? WHERE state = 'running'`).run(now.toISOString()).changes;

@@ -99,14 +99,14 @@ describe('intake', () => {
     expect(intake.ingestJson(`\uFEFF${JSON.stringify(exampleNotice())}`, 'test')[0]?.status).toBe('accepted');
   });
 
-  it('marks a retracted object, drops its waiting work and keeps the reason', () => {
+  it('marks a retracted object, keeps the reason and queues it so its requests are withdrawn', () => {
     const { store, intake } = setup();
     intake.ingestJson(JSON.stringify(exampleNotice()), 'test');
     const retraction = exampleNotice({ noticeId: 'ex-r', issuedAt: '2027-03-04T05:40:00Z', retracted: true, reason: 'false detection: a diffraction spike' });
     delete retraction['observations'];
-    expect(intake.ingestJson(JSON.stringify(retraction), 'test')[0]).toMatchObject({ status: 'accepted', objectState: 'retracted', queued: false });
+    expect(intake.ingestJson(JSON.stringify(retraction), 'test')[0]).toMatchObject({ status: 'accepted', objectState: 'retracted' });
     expect(store.objects.getObject('ZX27A01')).toMatchObject({ state: 'retracted', retractionReason: 'false detection: a diffraction spike' });
-    expect(store.work.get('ZX27A01')).toBeNull();
+    expect(store.work.get('ZX27A01')?.state).toBe('waiting');
   });
 
   it('never queues a retracted object for a notice issued before the retraction', () => {
@@ -114,9 +114,11 @@ describe('intake', () => {
     const retraction = exampleNotice({ noticeId: 'ex-r', issuedAt: '2027-03-04T05:40:00Z', retracted: true, reason: 'identified with a known object' });
     delete retraction['observations'];
     intake.ingestJson(JSON.stringify(retraction), 'test');
+    store.work.claimNext(new Date('2027-03-04T06:00:00Z'));
+    store.work.finish('ZX27A01', new Date('2027-03-04T06:00:01Z'));
     const [r] = intake.ingestJson(JSON.stringify(followUp()), 'test');
     expect(r).toMatchObject({ status: 'accepted', objectState: 'retracted', queued: false });
-    expect(store.work.get('ZX27A01')).toBeNull();
+    expect(store.work.get('ZX27A01')?.state).toBe('done');
   });
 
   it('revives a retracted object when a later notice brings new observations', () => {

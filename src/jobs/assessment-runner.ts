@@ -1,0 +1,159 @@
+import type { Config } from '../config/schema.js';
+import type { TrackletObservation } from '../orbit/estimate-types.js';
+import type { Store } from '../store/index.js';
+import type { NewRequest } from '../store/requests.js';
+import type { ServiceMetrics } from '../telemetry/metrics.js';
+import { announce } from './webhooks.js';
+
+/** What an assessment needs, as plain data (it crosses into a worker thread). */
+export interface AssessInput {
+  objectId: string;
+  observations: TrackletObservation[];
+  /** The notice orbit block (ISO TT epoch and tp, degrees, au), when one was given. */
+  orbit: Record<string, unknown> | null;
+  nowIso: string;
+}
+
+/** What it returns: the stored summary, the proposed requests, and whether the object has no future anywhere. */
+export interface AssessOutput {
+  summary: unknown;
+  requests: NewRequest[];
+  /** Set when no site has any window within the horizon: the object is retired with this reason. */
+  retireReason: string | null;
+}
+
+export type Assessor = (input: AssessInput) => Promise<AssessOutput>;
+
+export interface RunnerDeps {
+  config: Config;
+  store: Store;
+  clock: () => Date;
+  assessor: Assessor;
+  /** Objects assessed at once (the worker pool size). */
+  concurrency: number;
+  metrics?: ServiceMetrics;
+  log?: { info: (o: object, m: string) => void; warn: (o: object, m: string) => void };
+}
+
+/** Builds the assessment input of one object from the store. */
+export function assessInputFor(store: Store, objectId: string, now: Date): AssessInput {
+  const object = store.objects.getObject(objectId);
+  return {
+    objectId,
+    nowIso: now.toISOString(),
+    orbit: object?.orbit ? (JSON.parse(object.orbit) as Record<string, unknown>) : null,
+    observations: store.objects.observations(objectId).map((o) => ({
+      t: o.t,
+      raDeg: o.raDeg,
+      decDeg: o.decDeg,
+      sigmaArcsec: o.sigmaArcsec,
+      mag: o.mag,
+      band: o.band,
+      observer: { latDeg: o.obsLatDeg, lonDeg: o.obsLonDeg, heightM: o.obsHeightM },
+    })),
+  };
+}
+
+/**
+ * Drains the work queue: each waiting object is assessed (in the worker pool)
+ * and its assessment, requests, superseded requests, webhook announcements and
+ * the work item's completion are written in one transaction. A crash at any
+ * point leaves the item waiting (or running, requeued at start), never half-written.
+ */
+export function createAssessmentRunner(deps: RunnerDeps) {
+  const { store, clock, config } = deps;
+  const hooks = config.service.webhooks;
+
+  function handleRetracted(objectId: string): void {
+    const object = store.objects.getObject(objectId);
+    const reason = object?.retractionReason ?? 'retracted by the sender';
+    const now = clock();
+    store.db.transaction(() => {
+      const withdrawn = store.requests.withdrawQueuedForObject(objectId, `object retracted: ${reason}`, now);
+      if (withdrawn.length > 0) announce(store, hooks, now, { event: 'object.retracted', objectId, reason, withdrawn });
+      store.work.finish(objectId, now);
+    })();
+    deps.log?.info({ objectId, reason }, 'retracted object: queued requests withdrawn');
+  }
+
+  async function assessOne(objectId: string): Promise<void> {
+    const object = store.objects.getObject(objectId);
+    if (!object || object.state === 'retracted') return handleRetracted(objectId);
+    const started = clock();
+    const t0 = performance.now();
+    let output: AssessOutput;
+    try {
+      output = await deps.assessor(assessInputFor(store, objectId, started));
+    } catch (err) {
+      const message = err instanceof Error ? err.message : String(err);
+      store.work.fail(objectId, message, clock());
+      deps.log?.warn({ objectId, error: message }, 'assessment failed');
+      return;
+    }
+    const seconds = (performance.now() - t0) / 1000;
+    deps.metrics?.assessmentSeconds.observe(seconds);
+    const now = clock();
+    const saved = store.db.transaction(() => {
+      // A retraction that arrived while we computed wins.
+      if (store.objects.getObject(objectId)?.state === 'retracted') return null;
+      const result = store.requests.saveAssessment({
+        objectId,
+        createdAt: now.toISOString(),
+        observations: store.objects.observations(objectId).length,
+        summary: output.summary,
+        requests: output.requests,
+      });
+      const queued = result.created.map((id) => {
+        const r = store.requests.get(id)!;
+        return { id, objectId, siteId: r.siteId, kind: r.kind, score: r.score, windowStart: r.windowStart, windowEnd: r.windowEnd };
+      });
+      for (const request of queued) announce(store, hooks, now, { event: 'request.queued', request });
+      if (result.superseded.length > 0)
+        announce(store, hooks, now, { event: 'object.replanned', objectId, assessmentId: result.assessmentId, queued, superseded: result.superseded });
+      if (output.retireReason !== null && result.created.length === 0) store.objects.retire(objectId, output.retireReason);
+      store.work.finish(objectId, now);
+      return result;
+    })();
+    if (saved === null) return handleRetracted(objectId);
+    deps.log?.info(
+      { objectId, assessmentId: saved.assessmentId, queued: saved.created.length, superseded: saved.superseded.length, seconds: Number(seconds.toFixed(3)) },
+      'object assessed',
+    );
+  }
+
+  let draining: Promise<number> | null = null;
+
+  return {
+    assessOne,
+    /** Assesses waiting objects until none is left; at most `concurrency` at once. Returns how many were handled. */
+    drain(): Promise<number> {
+      draining ??= (async () => {
+        let handled = 0;
+        const inFlight = new Set<Promise<void>>();
+        for (;;) {
+          while (inFlight.size < Math.max(1, deps.concurrency)) {
+            const item = store.work.claimNext(clock());
+            if (!item) break;
+            const p: Promise<void> = assessOne(item.objectId).finally(() => inFlight.delete(p));
+            inFlight.add(p);
+            handled += 1;
+          }
+          if (inFlight.size === 0) break;
+          await Promise.race(inFlight);
+        }
+        return handled;
+      })().finally(() => {
+        draining = null;
+      });
+      return draining;
+    },
+    /** Puts every active object back on the work queue (time moves; windows and scores change). */
+    enqueueActive(): number {
+      const ids = store.objects.activeIds();
+      store.work.enqueueIdle(ids, clock());
+      return ids.length;
+    },
+  };
+}
+
+export type AssessmentRunner = ReturnType<typeof createAssessmentRunner>;

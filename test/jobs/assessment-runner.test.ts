@@ -1,0 +1,109 @@
+import { describe, expect, it } from 'vitest';
+import { createAssessmentRunner, type AssessInput, type AssessOutput } from '../../src/jobs/assessment-runner.js';
+import { createIntake } from '../../src/intake/ingest.js';
+import { demoConfig, exampleNotice, memoryStore } from '../helpers.js';
+
+const T0 = Date.parse('2027-03-04T06:00:00Z');
+
+function setup(assessor: (input: AssessInput) => Promise<AssessOutput>, withHook = false) {
+  const now = { t: T0 };
+  const clock = () => new Date(now.t);
+  const store = memoryStore(clock);
+  const config = demoConfig((raw) => {
+    if (withHook) (raw['service'] as Record<string, unknown>)['webhooks'] = [{ id: 'desk', url: 'http://127.0.0.1:1/x', secret: 'sixteen-chars-or-more', minScore: 50 }];
+  });
+  const intake = createIntake({ notices: store.notices, clock, futureToleranceMin: 5 });
+  const runner = createAssessmentRunner({ config, store, clock, assessor, concurrency: 2 });
+  return { store, intake, runner, now };
+}
+
+const oneRequest = (score = 70): AssessOutput => ({
+  summary: { note: 'fake' },
+  retireReason: null,
+  requests: [
+    {
+      siteId: 'lantern-ridge',
+      kind: 'photometry',
+      score,
+      windowStart: '2027-03-04T07:00:00.000Z',
+      windowEnd: '2027-03-04T09:00:00.000Z',
+      recommendedStart: '2027-03-04T07:10:00.000Z',
+      expiresAt: '2027-03-04T09:00:00.000Z',
+      body: {},
+    },
+  ],
+});
+
+describe('assessment runner', () => {
+  it('assesses waiting objects and queues their requests with the tracklet as input', async () => {
+    const seen: AssessInput[] = [];
+    const { store, intake, runner } = setup(async (input) => (seen.push(input), oneRequest()), true);
+    intake.ingestJson(JSON.stringify(exampleNotice()), 'test');
+    expect(await runner.drain()).toBe(1);
+    expect(seen[0]?.observations).toHaveLength(2);
+    expect(seen[0]?.observations[0]?.observer).toEqual({ latDeg: 19.5, lonDeg: -155.2, heightM: 3000 });
+    expect(store.requests.list({ objectId: 'ZX27A01', limit: 10 }).map((r) => r.state)).toEqual(['queued']);
+    expect(store.work.get('ZX27A01')?.state).toBe('done');
+    expect(store.deliveries.list({ limit: 10 }).map((d) => d.event)).toEqual(['request.queued']);
+  });
+
+  it('supersedes the previous requests on a new assessment and announces the replan', async () => {
+    const { store, intake, runner } = setup(async () => oneRequest(80), true);
+    intake.ingestJson(JSON.stringify(exampleNotice()), 'test');
+    await runner.drain();
+    runner.enqueueActive();
+    await runner.drain();
+    expect(store.requests.list({ objectId: 'ZX27A01', limit: 10 }).map((r) => r.state).sort()).toEqual(['queued', 'superseded']);
+    expect(store.deliveries.list({ limit: 10 }).map((d) => d.event)).toContain('object.replanned');
+  });
+
+  it('keeps a failed assessment on the queue with its error, then gives up after three attempts', async () => {
+    const { store, intake, runner } = setup(async () => {
+      throw new Error('tracklet too short to fit');
+    });
+    intake.ingestJson(JSON.stringify(exampleNotice()), 'test');
+    await runner.drain();
+    expect(store.work.get('ZX27A01')).toMatchObject({ state: 'failed', attempts: 3, lastError: 'tracklet too short to fit' });
+  });
+
+  it('withdraws the queued requests of a retracted object with the reason and announces it', async () => {
+    const { store, intake, runner } = setup(async () => oneRequest(), true);
+    intake.ingestJson(JSON.stringify(exampleNotice()), 'test');
+    await runner.drain();
+    const retraction = exampleNotice({ noticeId: 'r', issuedAt: '2027-03-04T05:50:00Z', retracted: true, reason: 'identified with a known object' });
+    delete retraction['observations'];
+    intake.ingestJson(JSON.stringify(retraction), 'test');
+    await runner.drain();
+    const [r] = store.requests.list({ objectId: 'ZX27A01', limit: 10 });
+    expect(r).toMatchObject({ state: 'withdrawn', stateReason: 'object retracted: identified with a known object' });
+    expect(store.deliveries.list({ limit: 10 }).map((d) => d.event)).toContain('object.retracted');
+  });
+
+  it('retires an object with no future window anywhere, with the reason', async () => {
+    const { store, intake, runner } = setup(async () => ({ summary: {}, requests: [], retireReason: 'no window at any site in the next 36 h' }));
+    intake.ingestJson(JSON.stringify(exampleNotice()), 'test');
+    await runner.drain();
+    expect(store.objects.getObject('ZX27A01')).toMatchObject({ state: 'retired', retiredReason: 'no window at any site in the next 36 h' });
+  });
+
+  it('leaves the object waiting when a new notice arrives during its assessment', async () => {
+    let ingestDuring: () => void = () => {};
+    const { store, intake, runner } = setup(async () => {
+      ingestDuring();
+      return oneRequest();
+    });
+    intake.ingestJson(JSON.stringify(exampleNotice()), 'test');
+    ingestDuring = () => {
+      ingestDuring = () => {};
+      intake.ingestJson(
+        JSON.stringify(exampleNotice({ noticeId: 'late', observations: [
+          { t: '2027-03-04T05:00:00Z', ra: 151.3, dec: -12.3, sigma: 0.5 },
+          { t: '2027-03-04T05:20:00Z', ra: 151.31, dec: -12.3, sigma: 0.5 },
+        ] })),
+        'test',
+      );
+    };
+    await runner.assessOne((store.work.claimNext(new Date(T0)) ?? { objectId: '' }).objectId);
+    expect(store.work.get('ZX27A01')?.state).toBe('waiting');
+  });
+});
