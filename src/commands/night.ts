@@ -34,18 +34,22 @@ Options:
 function formatText(night: Night, siteName: string): string {
   const t = (d: Date | null) => (d === null ? '(none)' : d.toISOString().replace(/\.\d{3}Z$/, 'Z'));
   const h = (x: number) => `${x.toFixed(2)} h`;
+  const row = (label: string, value: string) => `  ${label.padEnd(22)}${value}`;
   const lines = [
     `night of ${night.localDate} at ${night.siteId} (${siteName})`,
-    `  sunset              ${t(night.sunset)}`,
-    `  dusk  (Sun ${night.nightSunAltitudeDeg} deg)  ${t(night.dusk)}`,
-    `  dawn  (Sun ${night.nightSunAltitudeDeg} deg)  ${t(night.dawn)}`,
-    `  sunrise             ${t(night.sunrise)}`,
-    `  dark                ${night.dark === null ? '(none)' : `${t(night.dark.start)} to ${t(night.dark.end)}, ${h(night.darkH)}`}`,
-    `  moon rises          ${night.moon.rises.length === 0 ? '(none)' : night.moon.rises.map(t).join(', ')}`,
-    `  moon sets           ${night.moon.sets.length === 0 ? '(none)' : night.moon.sets.map(t).join(', ')}`,
-    `  moon illuminated    ${(night.moon.illuminatedFraction * 100).toFixed(1)} % (phase angle ${night.moon.phaseAngleDeg.toFixed(1)} deg, at ${t(night.moon.evaluatedAt)})`,
-    `  moon up in dark     ${night.moon.upDuringDark.length === 0 ? '(never)' : night.moon.upDuringDark.map((i) => `${t(i.start)} to ${t(i.end)}`).join(', ')}`,
-    `  dark hours          ${h(night.darkH)} (${h(night.moon.moonFreeDarkH)} moon-free, ${h(night.moon.upDuringDarkH)} with the Moon up)`,
+    row('sunset', t(night.sunset)),
+    row(`dusk (Sun ${night.nightSunAltitudeDeg} deg)`, t(night.dusk)),
+    row(`dawn (Sun ${night.nightSunAltitudeDeg} deg)`, t(night.dawn)),
+    row('sunrise', t(night.sunrise)),
+    row('dark', night.dark === null ? '(none)' : `${t(night.dark.start)} to ${t(night.dark.end)}, ${h(night.darkH)}`),
+    row('moon rises', night.moon.rises.length === 0 ? '(none)' : night.moon.rises.map(t).join(', ')),
+    row('moon sets', night.moon.sets.length === 0 ? '(none)' : night.moon.sets.map(t).join(', ')),
+    row(
+      'moon illuminated',
+      `${(night.moon.illuminatedFraction * 100).toFixed(1)} % (phase angle ${night.moon.phaseAngleDeg.toFixed(1)} deg, at ${t(night.moon.evaluatedAt)})`,
+    ),
+    row('moon up in dark', night.moon.upDuringDark.length === 0 ? '(never)' : night.moon.upDuringDark.map((i) => `${t(i.start)} to ${t(i.end)}`).join(', ')),
+    row('dark hours', `${h(night.darkH)} (${h(night.moon.moonFreeDarkH)} moon-free, ${h(night.moon.upDuringDarkH)} with the Moon up)`),
   ];
   for (const note of night.notes) lines.push(`  note: ${note}`);
   return `${lines.join('\n')}\n`;

@@ -23,7 +23,7 @@ describe('nightjar night', () => {
   it('prints text for people by default', async () => {
     const io = collectingIo();
     expect(await main(['--site', 'kestrel-hollow', '--date', '2027-03-15'], io)).toBe(0);
-    expect(io.out.join('')).toMatch(/night of 2027-03-15 at kestrel-hollow[\s\S]*dusk +\(Sun -12 deg\)/);
+    expect(io.out.join('')).toMatch(/night of 2027-03-15 at kestrel-hollow[\s\S]*dusk \(Sun -12 deg\) +2027-03-15T09:49:\d\dZ/);
   });
 
   it('explains which night a date means in its help', async () => {
