@@ -1,0 +1,608 @@
+import type { Site } from '../config/schema.js';
+import type { ObjectEstimate } from '../orbit/estimate-types.js';
+import type { EphemerisRow } from '../orbit/ephemeris.js';
+import { DEFAULT_TARGET_SNR, planExposure, type ExposurePlan, type PlanResult } from '../photometry/plans.js';
+import type { NotFeasible, ObservingConditions, RequestKind } from '../photometry/conditions.js';
+import { buildSkyTimeline, skyFromTimeline, type SkyTimeline } from '../sky/timeline.js';
+import { observableWindows, type ObservableWindow } from '../sky/windows.js';
+import { airmassKastenYoung, angleBetweenDeg, apparentInFrame } from '../sky/site.js';
+import { siteVExtinctionMagPerAirmass, skyBrightnessKS } from '../sky/sky-brightness.js';
+import { PlanningInputError, requireDate, requireFinite } from './errors.js';
+import { DEFAULT_SCORE_WEIGHTS, scoreRequest, type Score, type ScoreWeights } from './score.js';
+import { searchPattern, type SearchPattern } from './search-pattern.js';
+import { buildTrack, type Track, type TrackPoint } from './track.js';
+
+/**
+ * The planner: for one assessed object and every configured site, either up to
+ * three requests (photometry, colours, spectrum) inside the site's observable
+ * windows, or the reasons in words and numbers why not.
+ *
+ * Method, per site: sample the estimate's nominal track every 10 min over the
+ * horizon (track.ts); find the observable windows with the sky module (every hard
+ * limit, Sun avoidance included, is the sky module's and never relaxed here);
+ * at the window edges and every grid time inside, work out the observing
+ * conditions (airmass by Kasten & Young 1989, V sky by Krisciunas & Schaefer
+ * 1991) and ask the photometry module whether each kind is feasible there; a
+ * request's window is the first run of feasible times inside a sky window (so it
+ * can only shrink a sky window, never extend it); check the 3-sigma uncertainty
+ * against the imager field (or propose a search pattern) and, for spectra, the
+ * acquisition field; score (score.ts); tabulate the exact ephemeris across the
+ * request window every 5 min.
+ */
+
+export const REQUEST_KINDS: readonly RequestKind[] = ['photometry', 'colours', 'spectrum'];
+/** Ephemeris table spacing in a request, minutes. */
+export const TABLE_STEP_MIN = 5;
+/** Shortest window worth a light curve, s (planning assumption: a few frames over 10 min). */
+export const MIN_PHOTOMETRY_WINDOW_S = 600;
+/** Most pointings a search pattern may have before the object needs astrometry first (planning assumption: 3 x 3). */
+export const DEFAULT_MAX_SEARCH_POINTINGS = 9;
+export const REQUEST_FORMAT = 'nightjar.request.v1';
+
+export interface PlannerOptions {
+  maxSearchPointings?: number;
+}
+
+export interface PlanObjectInput {
+  estimate: ObjectEstimate;
+  sites: Site[];
+  now: Date;
+  /** Planning horizon from now, hours (config planning.horizonH). */
+  horizonH: number;
+  weights?: Partial<ScoreWeights>;
+  options?: PlannerOptions;
+}
+
+export interface WindowSummary {
+  start: string;
+  end: string;
+  durationMin: number;
+  opensBecause: string;
+  closesBecause: string;
+}
+
+export interface TableRow {
+  t: string;
+  ra: number;
+  dec: number;
+  raRate: number;
+  decRate: number;
+  unc: { major: number; minor: number; pa: number } | null;
+  mag: number | null;
+  alt: number;
+  airmass: number | null;
+}
+
+export interface SequenceStep {
+  filter?: string;
+  slitArcsec?: number;
+  exposureS: number;
+  count: number;
+  expectedSnr: number;
+  snrPerExposure: number;
+  limitingFactor: string;
+}
+
+/** What the queue software executes; every quantity carries its unit in its name or in `units`. */
+export interface RequestBody {
+  format: typeof REQUEST_FORMAT;
+  objectId: string;
+  siteId: string;
+  kind: RequestKind;
+  plannedAtUtc: string;
+  windowStartUtc: string;
+  windowEndUtc: string;
+  windowOpensBecause: string;
+  windowClosesBecause: string;
+  recommendedStartUtc: string;
+  expectedDurationS: number;
+  expiresAtUtc: string;
+  target: {
+    raDeg: number;
+    decDeg: number;
+    vMag: number;
+    vMagSigma: number | null;
+    uncertainty1Sigma: { majorArcsec: number; minorArcsec: number; paDeg: number } | null;
+    region3SigmaAcrossArcsec: number | null;
+  };
+  sequence: {
+    steps: SequenceStep[];
+    cadenceS?: number;
+    filterCycle?: string[];
+    cycles?: number;
+    recentreEveryS?: number | null;
+    acquisitionS?: number;
+    resolvingPower?: number;
+    notes: string[];
+  };
+  tracking: { mode: 'non-sidereal'; atUtc: string; raRateArcsecPerS: number; decRateArcsecPerS: number; totalRateArcsecPerS: number };
+  conditionsAtStart: { altitudeDeg: number; airmass: number; skyVMagPerArcsec2: number; moonSeparationDeg: number };
+  searchPattern: SearchPattern | null;
+  ephemeris: { stepMin: number; frame: string; units: Record<keyof TableRow, string>; rows: TableRow[] };
+  score: Score;
+  assessment: {
+    method: string;
+    members: number;
+    firstObservedAtUtc: string;
+    hMagP50: number | null;
+    diameterM: { min: number; max: number } | null;
+    neoFraction: number;
+    closeApproach: boolean;
+    minDistanceLunarP50: number;
+    notes: string[];
+  };
+}
+
+/** A request as the store takes it (NewRequest's fields) plus its duration. */
+export interface PlannedRequest {
+  siteId: string;
+  kind: RequestKind;
+  score: number;
+  windowStart: string;
+  windowEnd: string;
+  recommendedStart: string;
+  expiresAt: string;
+  durationS: number;
+  body: RequestBody;
+}
+
+export interface SitePlan {
+  siteId: string;
+  siteName: string;
+  windows: WindowSummary[];
+  /** Ordered photometry, colours, spectrum (those feasible). */
+  requests: PlannedRequest[];
+  /** Why there is no request, or why a kind is missing ("spectrum: ..."), in words and numbers. */
+  reasons: string[];
+}
+
+export interface ObjectPlan {
+  objectId: string;
+  plannedAt: string;
+  horizonEnd: string;
+  horizonH: number;
+  sites: SitePlan[];
+}
+
+interface Conditions {
+  point: TrackPoint;
+  altDeg: number;
+  airmass: number;
+  skyV: number;
+  moonSepDeg: number;
+  observing: ObservingConditions | null;
+}
+
+const MS_PER_MIN = 60_000;
+const r = (x: number, digits: number) => Number(x.toFixed(digits));
+const fmt = (x: number, digits = 3) => Number(x.toPrecision(digits)).toString();
+
+/** Rate uncertainty, arcsec/s: how fast the 1-sigma major axis grows along the track (what tracking gets wrong). */
+function rateSigma(track: Track, tMs: number): number {
+  const a = track.at(Math.max(track.startMs, tMs - 300_000));
+  const b = track.at(Math.min(track.endMs, tMs + 300_000));
+  const dt = (b.tMs - a.tMs) / 1000;
+  if (a.uncMajor === null || b.uncMajor === null || dt <= 0) return 0;
+  return Math.abs(b.uncMajor - a.uncMajor) / dt;
+}
+
+function conditionsAt(site: Site, timeline: SkyTimeline, track: Track, tMs: number, diameter: ObservingConditions['diameterRangeM'] | undefined): Conditions {
+  const point = track.at(tMs);
+  const sky = skyFromTimeline(timeline, new Date(tMs));
+  const apparent = apparentInFrame(sky.frame, point.ra, point.dec);
+  const altDeg = apparent.altDeg;
+  const airmass = altDeg > 0 ? airmassKastenYoung(Math.min(altDeg, 90)) : 40;
+  const moonSepDeg = angleBetweenDeg(apparent.eqdUnit, sky.moon.eqdUnit);
+  const skyV = skyBrightnessKS({
+    darkZenithVMagPerArcsec2: site.darkSkyVMagPerArcsec2,
+    extinctionMagPerAirmass: siteVExtinctionMagPerAirmass(site),
+    moonPhaseAngleDeg: Math.min(180, Math.max(0, sky.moon.phaseAngleDeg)),
+    moonSeparationDeg: Math.min(180, moonSepDeg),
+    moonAltitudeDeg: sky.moon.altDeg,
+    targetAltitudeDeg: Math.max(0, Math.min(90, altDeg)),
+  }).vMagPerArcsec2;
+  const observing: ObservingConditions | null =
+    point.mag === null || altDeg <= 0
+      ? null
+      : {
+          vMag: point.mag,
+          rateArcsecPerS: Math.hypot(point.raRate, point.decRate),
+          rateSigmaArcsecPerS: rateSigma(track, tMs),
+          airmass: Math.min(40, airmass),
+          skyVMagPerArcsec2: Math.min(30, Math.max(5, skyV)),
+          ...(diameter === undefined ? {} : { diameterRangeM: diameter }),
+        };
+  return { point, altDeg, airmass, skyV, moonSepDeg, observing };
+}
+
+function planAt(kind: RequestKind, site: Site, c: Conditions, windowS: number): PlanResult {
+  if (c.observing === null) return { feasible: false, kind, reason: 'no predicted magnitude', figures: {} };
+  return planExposure(kind, site, c.observing, { windowS: Math.max(1, windowS) });
+}
+
+/** Faintest V for which the kind is feasible under these conditions, by bisection on V (null if none found). */
+function limitingV(kind: RequestKind, site: Site, c: Conditions, windowS: number): number | null {
+  if (c.observing === null) return null;
+  const feasibleAt = (v: number) => planExposure(kind, site, { ...c.observing!, vMag: v }, { windowS: Math.max(1, windowS) }).feasible;
+  let faint = c.observing.vMag;
+  if (feasibleAt(faint)) return faint;
+  let bright = faint - 12;
+  if (!feasibleAt(bright)) return null;
+  for (let k = 0; k < 30 && faint - bright > 0.01; k++) {
+    const mid = (faint + bright) / 2;
+    if (feasibleAt(mid)) bright = mid;
+    else faint = mid;
+  }
+  return bright;
+}
+
+interface Candidate {
+  tMs: number;
+  c: Conditions;
+  /** Feasible with the whole sky window available (brightness test). */
+  bright: PlanResult;
+}
+
+interface KindChoice {
+  kind: RequestKind;
+  window: ObservableWindow;
+  startMs: number;
+  endMs: number;
+  opensBecause: string;
+  closesBecause: string;
+  recommended: Candidate;
+  plan: ExposurePlan;
+}
+
+interface WindowRun {
+  startMs: number;
+  endMs: number;
+  opensBecause: string;
+  closesBecause: string;
+  members: Candidate[];
+}
+
+function candidatesIn(w: ObservableWindow, stepMs: number, originMs: number, make: (tMs: number) => Candidate): Candidate[] {
+  const s = w.start.getTime();
+  const e = w.end.getTime();
+  const times = [s];
+  for (let t = originMs + Math.ceil((s - originMs) / stepMs) * stepMs; t < e; t += stepMs) if (t > s) times.push(t);
+  if (e > s) times.push(e);
+  return times.map(make);
+}
+
+/** Maximal runs of bright-enough candidates; a run keeps the sky edge where it reaches the window's first or last time. */
+function brightRuns(w: ObservableWindow, cands: Candidate[]): WindowRun[] {
+  const runs: WindowRun[] = [];
+  let cur: Candidate[] = [];
+  const close = (lastIndex: number) => {
+    if (cur.length === 0) return;
+    const first = cur[0]!;
+    const last = cur[cur.length - 1]!;
+    const atStart = first.tMs === w.start.getTime();
+    const atEnd = lastIndex === cands.length - 1;
+    runs.push({
+      startMs: first.tMs,
+      endMs: last.tMs,
+      opensBecause: atStart ? w.starts.detail : 'bright enough from here (brightness and sky)',
+      closesBecause: atEnd ? w.ends.detail : 'too faint for this kind beyond here (brightness and sky)',
+      members: cur,
+    });
+    cur = [];
+  };
+  cands.forEach((cand, i) => {
+    if (cand.bright.feasible) cur.push(cand);
+    else close(i - 1);
+  });
+  close(cands.length - 1);
+  return runs;
+}
+
+function uncertaintyExtent(p: TrackPoint): number | null {
+  return p.uncMajor === null ? null : 6 * p.uncMajor;
+}
+
+function tableRow(row: EphemerisRow): TableRow {
+  return {
+    t: row.t,
+    ra: r(row.ra, 6),
+    dec: r(row.dec, 6),
+    raRate: r(row.raRate, 4),
+    decRate: r(row.decRate, 4),
+    unc: row.unc === null ? null : { major: r(row.unc.major, 1), minor: r(row.unc.minor, 1), pa: r(row.unc.pa, 1) },
+    mag: row.mag === null ? null : r(row.mag, 2),
+    alt: r(row.alt, 2),
+    airmass: row.airmass === null ? null : r(row.airmass, 3),
+  };
+}
+
+const TABLE_UNITS: Record<keyof TableRow, string> = {
+  t: 'ISO-8601 UTC',
+  ra: 'deg, astrometric ICRS seen from the site (light-time corrected, no aberration)',
+  dec: 'deg, astrometric ICRS seen from the site',
+  raRate: 'arcsec/s, dRA/dt x cos(Dec)',
+  decRate: 'arcsec/s',
+  unc: '1-sigma ellipse: major and minor semi-axes arcsec, position angle deg east of north',
+  mag: 'V mag (H-G)',
+  alt: 'deg, apparent with refraction',
+  airmass: 'Kasten & Young (1989)',
+};
+
+function sequenceOf(plan: ExposurePlan): RequestBody['sequence'] {
+  const steps = plan.steps.map((s) => ({
+    ...(s.filter === undefined ? {} : { filter: s.filter }),
+    ...(s.slitArcsec === undefined ? {} : { slitArcsec: s.slitArcsec }),
+    exposureS: s.exposureS,
+    count: s.count,
+    expectedSnr: r(s.snr, 1),
+    snrPerExposure: r(s.snrPerExposure, 1),
+    limitingFactor: s.limitingFactor,
+  }));
+  switch (plan.kind) {
+    case 'photometry':
+      return { steps, cadenceS: r(plan.cadenceS, 1), notes: plan.notes };
+    case 'colours':
+      return { steps, filterCycle: plan.cycle, cycles: plan.cycles, notes: plan.notes };
+    case 'spectrum':
+      return { steps, recentreEveryS: plan.recentreEveryS === null ? null : r(plan.recentreEveryS, 0), acquisitionS: plan.acquisitionS, resolvingPower: r(plan.resolvingPower, 0), notes: plan.notes };
+  }
+}
+
+/** Expected SNR of the weakest step over the photometry module's default target for the kind. */
+function snrRatioOf(plan: ExposurePlan): number {
+  return Math.min(...plan.steps.map((s) => s.snr)) / DEFAULT_TARGET_SNR[plan.kind];
+}
+
+function checkInput(input: PlanObjectInput): void {
+  requireDate('now', input.now);
+  requireFinite('horizonH', input.horizonH, 0.5, 240);
+  if (!Array.isArray(input.sites) || input.sites.length === 0) throw new PlanningInputError('sites', input.sites, 'expected at least one site');
+  if (typeof input.estimate?.ephemeris !== 'function') throw new PlanningInputError('estimate', input.estimate, 'expected an ObjectEstimate with an ephemeris function');
+  const first = Date.parse(input.estimate.firstObservedAt);
+  if (!Number.isFinite(first)) throw new PlanningInputError('estimate.firstObservedAt', input.estimate.firstObservedAt, 'expected an ISO-8601 UTC time');
+}
+
+/** Plans one object at every site (see the module note). Pure: the same inputs give the same plan. */
+export function planObject(input: PlanObjectInput): ObjectPlan {
+  checkInput(input);
+  const weights: ScoreWeights = { ...DEFAULT_SCORE_WEIGHTS, ...input.weights };
+  const startMs = input.now.getTime();
+  const endMs = startMs + Math.round(input.horizonH * 3_600_000);
+  return {
+    objectId: input.estimate.objectId,
+    plannedAt: input.now.toISOString(),
+    horizonEnd: new Date(endMs).toISOString(),
+    horizonH: input.horizonH,
+    sites: input.sites.map((site) => planSite(input, site, startMs, endMs, weights)),
+  };
+}
+
+function noWindowReason(reason: string, track: Track, site: Site, horizonH: number): string {
+  if (reason.startsWith('maxRate')) {
+    const slowest = Math.min(...track.rows.map((row) => Math.hypot(row.raRate, row.decRate)));
+    return `moves ${fmt(slowest)} arcsec/s at its slowest in the next ${fmt(horizonH)} h, mount limit ${site.limits.maxRateArcsecPerS} arcsec/s`;
+  }
+  return `${reason} (from this site in the next ${fmt(horizonH)} h)`;
+}
+
+function planSite(input: PlanObjectInput, site: Site, startMs: number, endMs: number, weights: ScoreWeights): SitePlan {
+  const { estimate, horizonH } = input;
+  const maxPointings = input.options?.maxSearchPointings ?? DEFAULT_MAX_SEARCH_POINTINGS;
+  const out: SitePlan = { siteId: site.id, siteName: site.name, windows: [], requests: [], reasons: [] };
+  const track = buildTrack(estimate, site.location, startMs, endMs);
+  const timeline = buildSkyTimeline(site, new Date(startMs), new Date(endMs));
+  const found = observableWindows(site, new Date(startMs), new Date(endMs), track.targetAt, { timeline });
+  out.windows = found.windows.map((w) => ({
+    start: w.start.toISOString(),
+    end: w.end.toISOString(),
+    durationMin: r(w.durationMin, 1),
+    opensBecause: w.starts.detail,
+    closesBecause: w.ends.detail,
+  }));
+  if (found.windows.length === 0) {
+    out.reasons = found.reasons.map((reason) => noWindowReason(reason, track, site, horizonH));
+    return out;
+  }
+  if (track.rows.every((row) => row.mag === null)) {
+    out.reasons = ['no predicted magnitude (H unknown): brightness and exposures cannot be planned'];
+    return out;
+  }
+  const summary = estimate.summary;
+  const hP50 = summary.hMag?.p50 ?? null;
+  const diameter = summary.diameterM === null ? undefined : { minM: summary.diameterM.min, maxM: summary.diameterM.max };
+
+  // Candidates per window, and the brightness test per kind at each.
+  const perWindow = found.windows.map((w) => {
+    const windowS = (w.end.getTime() - w.start.getTime()) / 1000;
+    const make = (tMs: number): Omit<Candidate, 'bright'> => ({ tMs, c: conditionsAt(site, timeline, track, tMs, diameter) });
+    const base = candidatesIn(w, track.stepMs, startMs, (t) => ({ ...make(t), bright: { feasible: false, kind: 'photometry', reason: '', figures: {} } }));
+    const byKind = new Map<RequestKind, Candidate[]>();
+    for (const kind of REQUEST_KINDS) {
+      if (kind === 'spectrum' && site.spectrograph === undefined) continue;
+      byKind.set(kind, base.map((b) => ({ ...b, bright: planAt(kind, site, b.c, windowS) })));
+    }
+    return { w, windowS, byKind };
+  });
+
+  // Runs where the light curve is feasible: they set urgency.
+  const photometryRuns = perWindow.flatMap(({ w, byKind }) => brightRuns(w, byKind.get('photometry') ?? []).filter((run) => run.endMs - run.startMs >= MIN_PHOTOMETRY_WINDOW_S * 1000));
+  const feasibleWindows = new Set(photometryRuns.map((run) => perWindow.findIndex((p) => run.startMs >= p.w.start.getTime() && run.endMs <= p.w.end.getTime()))).size;
+  const lastRun = photometryRuns[photometryRuns.length - 1];
+  const hoursLeft = lastRun === undefined ? 0 : lastRun.endMs >= endMs ? horizonH : (lastRun.endMs - startMs) / 3_600_000;
+
+  const choices: KindChoice[] = [];
+  for (const kind of REQUEST_KINDS) {
+    if (kind === 'spectrum' && site.spectrograph === undefined) {
+      out.reasons.push('spectrum: no spectrograph at this site');
+      continue;
+    }
+    let choice: KindChoice | null = null;
+    let fitFailure: string | null = null;
+    for (const { w, byKind } of perWindow) {
+      for (const run of brightRuns(w, byKind.get(kind) ?? [])) {
+        const runS = (run.endMs - run.startMs) / 1000;
+        if (kind === 'photometry' && runS < MIN_PHOTOMETRY_WINDOW_S) {
+          fitFailure ??= `window of ${fmt(runS / 60)} min is shorter than the ${MIN_PHOTOMETRY_WINDOW_S / 60} min a light curve needs`;
+          continue;
+        }
+        // Light curves start as early as possible (longest coverage); colours and spectra at the lowest airmass that still fits.
+        const order = kind === 'photometry' ? run.members : [...run.members].sort((a, b) => a.c.airmass - b.c.airmass || a.tMs - b.tMs);
+        for (const cand of order) {
+          const availableS = (run.endMs - cand.tMs) / 1000;
+          if (availableS <= 0) continue;
+          const plan = planAt(kind, site, cand.c, availableS);
+          if (plan.feasible && plan.totalS <= availableS + 1e-6) {
+            choice = { kind, window: w, startMs: run.startMs, endMs: run.endMs, opensBecause: run.opensBecause, closesBecause: run.closesBecause, recommended: cand, plan };
+            break;
+          }
+          if (!plan.feasible) fitFailure ??= plan.reason;
+        }
+        if (choice !== null) break;
+      }
+      if (choice !== null) break;
+    }
+    if (choice === null) {
+      out.reasons.push(`${kind}: ${fitFailure ?? faintReason(kind, site, perWindow.flatMap((p) => (p.byKind.get(kind) ?? []).map((cand) => ({ cand, windowS: p.windowS }))))}`);
+      continue;
+    }
+    choices.push(choice);
+  }
+
+  const fieldArcsec = Math.min(site.imager.fieldArcmin.width, site.imager.fieldArcmin.height) * 60;
+  for (const choice of choices) {
+    const p = choice.recommended.c.point;
+    const extent = uncertaintyExtent(p);
+    let pattern: SearchPattern | null = null;
+    if (extent !== null && extent > fieldArcsec) {
+      const across = `3-sigma region ${fmt(extent)} arcsec across exceeds the imager field ${fmt(fieldArcsec)} arcsec`;
+      if (choice.kind !== 'photometry') {
+        out.reasons.push(`${choice.kind}: ${across}: the object must be found first`);
+        continue;
+      }
+      const candidate = searchPattern({ raDeg: p.ra, decDeg: p.dec, majorArcsec: p.uncMajor ?? 0, minorArcsec: p.uncMinor ?? 0, paDeg: p.uncPa ?? 0, fieldArcsec });
+      if (candidate.pointings.length > maxPointings) {
+        out.reasons.push(`${choice.kind}: ${across}; covering it would take ${candidate.pointings.length} pointings (more than ${maxPointings}): needs astrometry first`);
+        continue;
+      }
+      pattern = candidate;
+    }
+    if (choice.kind === 'spectrum' && site.spectrograph !== undefined && extent !== null && extent > site.spectrograph.acquisitionFieldArcsec) {
+      out.reasons.push(`spectrum: 3-sigma region ${fmt(extent)} arcsec across exceeds the acquisition field ${fmt(site.spectrograph.acquisitionFieldArcsec)} arcsec`);
+      continue;
+    }
+    out.requests.push(buildRequest(input, site, choice, pattern, { feasibleWindows, hoursLeft, hP50 }, weights));
+  }
+  if (out.requests.length === 0 && out.reasons.length === 0) out.reasons.push('no request could be built');
+  return out;
+}
+
+/** "too faint: V 22.4 at best, limit 20.8" from the brightest candidate, else the photometry module's own reason. */
+function faintReason(kind: RequestKind, site: Site, cands: { cand: Candidate; windowS: number }[]): string {
+  const withMag = cands.filter((x) => x.cand.c.observing !== null);
+  if (withMag.length === 0) return 'no predicted magnitude inside the windows';
+  const best = withMag.reduce((a, b) => (b.cand.c.observing!.vMag + 0.2 * b.cand.c.airmass < a.cand.c.observing!.vMag + 0.2 * a.cand.c.airmass ? b : a));
+  const v = best.cand.c.observing!.vMag;
+  const limit = limitingV(kind, site, best.cand.c, best.windowS);
+  const why = best.cand.bright.feasible ? '' : ` (${(best.cand.bright as NotFeasible).reason})`;
+  if (limit === null || limit >= v) return `not feasible at the best time${why}`;
+  return `too faint: V ${v.toFixed(1)} at best, limit ${limit.toFixed(1)} at airmass ${best.cand.c.airmass.toFixed(2)} and sky V ${best.cand.c.skyV.toFixed(1)} mag/arcsec^2${why}`;
+}
+
+function buildRequest(
+  input: PlanObjectInput,
+  site: Site,
+  choice: KindChoice,
+  pattern: SearchPattern | null,
+  future: { feasibleWindows: number; hoursLeft: number; hP50: number | null },
+  weights: ScoreWeights,
+): PlannedRequest {
+  const { estimate } = input;
+  const rec = choice.recommended;
+  const plan = choice.plan;
+  const searchS = pattern === null ? 0 : pattern.pointings.length * (Math.min(60, plan.steps[0]?.exposureS ?? 30) + site.imager.readoutS);
+  const durationS = Math.round(plan.totalS + searchS);
+  const tableTimes: Date[] = [];
+  for (let t = choice.startMs; t < choice.endMs; t += TABLE_STEP_MIN * MS_PER_MIN) tableTimes.push(new Date(t));
+  tableTimes.push(new Date(choice.endMs));
+  const rows = estimate.ephemeris(site.location, [new Date(rec.tMs), ...tableTimes]);
+  const atStart = rows[0]!;
+  const table = rows.slice(1).map(tableRow);
+  // Without an airmass limit, the airmass at the lowest allowed altitude.
+  const maxAirmass = site.limits.maxAirmass ?? airmassKastenYoung(Math.max(site.limits.minAltitudeDeg, 1));
+  const summary = estimate.summary;
+  const score = scoreRequest(
+    {
+      horizonH: input.horizonH,
+      feasibleWindows: Math.max(1, future.feasibleWindows),
+      hoursLeft: future.hoursLeft,
+      hMag: future.hP50,
+      minDistanceLunar: summary.minGeocentricDistance.lunarDistances.p50,
+      neoFraction: summary.classFractions.neo,
+      snrRatio: snrRatioOf(plan),
+      windowS: (choice.endMs - choice.startMs) / 1000,
+      sequenceS: plan.totalS,
+      airmass: Math.max(1, rec.c.airmass),
+      maxAirmass,
+      hoursSinceDiscovery: (input.now.getTime() - Date.parse(estimate.firstObservedAt)) / 3_600_000,
+    },
+    weights,
+  );
+  const iso = (ms: number) => new Date(ms).toISOString();
+  const extent = uncertaintyExtent(rec.c.point);
+  const body: RequestBody = {
+    format: REQUEST_FORMAT,
+    objectId: estimate.objectId,
+    siteId: site.id,
+    kind: choice.kind,
+    plannedAtUtc: input.now.toISOString(),
+    windowStartUtc: iso(choice.startMs),
+    windowEndUtc: iso(choice.endMs),
+    windowOpensBecause: choice.opensBecause,
+    windowClosesBecause: choice.closesBecause,
+    recommendedStartUtc: iso(rec.tMs),
+    expectedDurationS: durationS,
+    expiresAtUtc: iso(choice.endMs),
+    target: {
+      raDeg: r(atStart.ra, 6),
+      decDeg: r(atStart.dec, 6),
+      vMag: r(rec.c.observing?.vMag ?? Number.NaN, 2),
+      vMagSigma: rec.c.point.magSigma === null ? null : r(rec.c.point.magSigma, 2),
+      uncertainty1Sigma: atStart.unc === null ? null : { majorArcsec: r(atStart.unc.major, 1), minorArcsec: r(atStart.unc.minor, 1), paDeg: r(atStart.unc.pa, 1) },
+      region3SigmaAcrossArcsec: extent === null ? null : r(extent, 1),
+    },
+    sequence: sequenceOf(plan),
+    tracking: {
+      mode: 'non-sidereal',
+      atUtc: iso(rec.tMs),
+      raRateArcsecPerS: r(atStart.raRate, 4),
+      decRateArcsecPerS: r(atStart.decRate, 4),
+      totalRateArcsecPerS: r(Math.hypot(atStart.raRate, atStart.decRate), 4),
+    },
+    conditionsAtStart: { altitudeDeg: r(rec.c.altDeg, 2), airmass: r(rec.c.airmass, 3), skyVMagPerArcsec2: r(rec.c.skyV, 2), moonSeparationDeg: r(rec.c.moonSepDeg, 1) },
+    searchPattern: pattern,
+    ephemeris: { stepMin: TABLE_STEP_MIN, frame: 'astrometric ICRS, topocentric at the site', units: TABLE_UNITS, rows: table },
+    score,
+    assessment: {
+      method: summary.method,
+      members: summary.members,
+      firstObservedAtUtc: estimate.firstObservedAt,
+      hMagP50: future.hP50,
+      diameterM: summary.diameterM,
+      neoFraction: summary.classFractions.neo,
+      closeApproach: summary.closeApproach,
+      minDistanceLunarP50: r(summary.minGeocentricDistance.lunarDistances.p50, 2),
+      notes: summary.notes,
+    },
+  };
+  return {
+    siteId: site.id,
+    kind: choice.kind,
+    score: score.total,
+    windowStart: body.windowStartUtc,
+    windowEnd: body.windowEndUtc,
+    recommendedStart: body.recommendedStartUtc,
+    expiresAt: body.expiresAtUtc,
+    durationS,
+    body,
+  };
+}
