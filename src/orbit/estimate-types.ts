@@ -61,4 +61,10 @@ export interface ObjectEstimate {
   summary: EstimateSummary;
   /** Nominal rows with `unc` (1-sigma ellipse, arcsec) and `magSigma` from the ensemble. */
   ephemeris(location: GeodeticLocation, timesUtc: readonly Date[]): EphemerisRow[];
+  /**
+   * Where each virtual orbit is seen from `location` at `timeUtc` (astrometric ICRS, degrees),
+   * for pictures of the uncertainty region; at most `maxMembers` of them. Absent when the
+   * estimate has no ensemble.
+   */
+  memberPositions?(location: GeodeticLocation, timeUtc: Date, maxMembers?: number): { raDeg: number; decDeg: number }[];
 }
