@@ -26,8 +26,10 @@ export interface AppOptions {
   logger?: FastifyBaseLogger;
   intake?: Intake;
   metrics?: ServiceMetrics;
-  /** Extra routes from other parts of the service (e.g. on-demand ephemeris). */
+  /** Extra routes from other parts of the service. */
   extraRoutes?: (ctx: ApiContext) => AnyRouteSpec[];
+  /** On-demand orbit estimate of a stored object (see ApiContext); none by default. */
+  estimateFor?: ApiContext['estimateFor'];
 }
 
 export const API_VERSION = '1.0.0';
@@ -53,6 +55,7 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
     metrics,
     migrationsDir: options.migrationsDir,
     sourceNames: options.sourceNames ?? ['inbox', ...service.feeds.map((f) => `feed:${f.id}`)],
+    estimateFor: options.estimateFor ?? (() => null),
   };
 
   const app = Fastify({
