@@ -190,8 +190,9 @@ export interface ApparentTarget {
 
 /**
  * Apparent place and horizontal coordinates of an astrometric ICRS direction in a site frame.
- * Method: aberration (see `aberrate`), then astronomy-engine's precession-nutation and
- * horizon rotations, then its 'normal' refraction (Saemundsson 1986 as in Meeus ch. 16).
+ * Method: aberration (see `aberrate`), astronomy-engine's precession-nutation matrix, the
+ * horizon from local apparent sidereal time and geodetic latitude (apparentFromEqd), then its
+ * 'normal' refraction (Saemundsson 1986 as in Meeus ch. 16).
  */
 export function apparentInFrame(frame: SiteFrame, raDeg: number, decDeg: number, options: RefractionOption = {}): ApparentTarget {
   requireFinite('raDeg', raDeg);

@@ -4,6 +4,7 @@ import { SkyInputError } from '../../src/sky/errors.js';
 import {
   airmassKastenYoung,
   altitudeForAirmassDeg,
+  apparentFromEqd,
   apparentInFrame,
   greenwichApparentSiderealTimeH,
   greenwichMeanSiderealTimeH,
@@ -15,6 +16,7 @@ import {
   parallacticAngleDeg,
   parallacticAngleFromHourAngleDeg,
   siteFrameAt,
+  unitVectorFromRaDec,
 } from '../../src/sky/site.js';
 
 const ARCSEC_DEG = 1 / 3600;
@@ -103,6 +105,21 @@ describe('horizontal coordinates', () => {
     const dAlt = ours.altDeg - lib.altitude;
     const dAz = (ours.azDeg - lib.azimuth) * Math.cos(ours.altDeg * (Math.PI / 180));
     expect(Math.hypot(dAlt, dAz)).toBeLessThan(1 * ARCSEC_DEG);
+  });
+
+  it('computes the same horizon as astronomy-engine Horizon for coordinates of date, within 1e-6 deg', () => {
+    for (const [iso, ra, dec] of [
+      ['2027-03-15T06:00:00Z', 10, 20],
+      ['2027-07-01T13:30:00Z', 250, -40],
+      ['2026-12-24T22:10:00Z', 359, 75],
+    ] as const) {
+      const t = new Date(iso);
+      const frame = siteFrameAt(demoSite, t);
+      const ours = apparentFromEqd(frame, unitVectorFromRaDec(ra, dec), false);
+      const lib = horizontalFromOfDate(demoSite, t, ra, dec, { refraction: false });
+      expect(Math.abs(ours.altDeg - lib.altDeg)).toBeLessThan(1e-6);
+      expect(Math.abs(ours.azDeg - lib.azDeg)).toBeLessThan(1e-6);
+    }
   });
 
   it('puts the north celestial pole at the site latitude due north', () => {
