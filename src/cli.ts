@@ -9,6 +9,7 @@ const COMMANDS: Record<string, { summary: string; load: () => Promise<{ main: Co
   serve: { summary: 'run the service (API, inbox, feeds, scheduled jobs)', load: () => import('./commands/serve.js') },
   migrate: { summary: 'apply pending database migrations', load: () => import('./commands/migrate.js') },
   'check-config': { summary: 'validate the configuration and list every problem', load: () => import('./commands/check-config.js') },
+  ephem: { summary: 'topocentric ephemeris of a notice from a site or a place', load: () => import('./commands/ephem.js') },
   night: { summary: "a site's night: Sun, twilight, Moon and dark hours", load: () => import('./commands/night.js') },
   exposure: { summary: 'exposure plan for a magnitude and rate at a site (imager or spectrograph)', load: () => import('./commands/exposure.js') },
 };
