@@ -50,7 +50,7 @@ function startServe(configPath: string): Child {
   return { proc, logs, url, exited };
 }
 
-async function until<T>(what: string, probe: () => Promise<T | null> | T | null, timeoutMs = 20_000): Promise<T> {
+async function until<T>(what: string, probe: () => Promise<T | null> | T | null, timeoutMs = 45_000): Promise<T> {
   const end = Date.now() + timeoutMs;
   for (;;) {
     const v = await probe();
