@@ -191,7 +191,7 @@ function conditionsAt(site: Site, timeline: SkyTimeline, track: Track, tMs: numb
   const sky = skyFromTimeline(timeline, new Date(tMs));
   const apparent = apparentInFrame(sky.frame, point.ra, point.dec);
   const altDeg = apparent.altDeg;
-  const airmass = altDeg > 0 ? airmassKastenYoung(Math.min(altDeg, 90)) : 40;
+  const airmass = altDeg > 0 ? Math.min(40, Math.max(1, airmassKastenYoung(Math.min(altDeg, 90)))) : 40;
   const moonSepDeg = angleBetweenDeg(apparent.eqdUnit, sky.moon.eqdUnit);
   const skyV = skyBrightnessKS({
     darkZenithVMagPerArcsec2: site.darkSkyVMagPerArcsec2,
@@ -215,15 +215,30 @@ function conditionsAt(site: Site, timeline: SkyTimeline, track: Track, tMs: numb
   return { point, altDeg, airmass, skyV, moonSepDeg, observing };
 }
 
+/**
+ * The photometry module's plan for a kind. A light curve that fails only because the fastest
+ * plausible spin of a small object caps frames too short is retried without the spin cap: it then
+ * samples the periods it can (ten frames per period or more), and says so in a note.
+ */
 function planAt(kind: RequestKind, site: Site, c: Conditions, windowS: number): PlanResult {
   if (c.observing === null) return { feasible: false, kind, reason: 'no predicted magnitude', figures: {} };
-  return planExposure(kind, site, c.observing, { windowS: Math.max(1, windowS) });
+  const options = { windowS: Math.max(1, windowS) };
+  const plan = planExposure(kind, site, c.observing, options);
+  if (kind !== 'photometry' || plan.feasible || c.observing.diameterRangeM === undefined || !plan.reason.includes('rotation sampling')) return plan;
+  const { diameterRangeM: _dropped, ...withoutSpin } = c.observing;
+  const retry = planExposure(kind, site, withoutSpin, options);
+  if (!retry.feasible || retry.kind !== 'photometry') return plan;
+  const shortestS = (retry.steps[0].exposureS + site.imager.readoutS) * 10;
+  return {
+    ...retry,
+    notes: [...retry.notes.filter((n) => !n.startsWith('no diameter range')), `the fastest plausible spins of an object this small cannot be sampled at this brightness; frames resolve periods from about ${fmt(shortestS)} s`],
+  };
 }
 
 /** Faintest V for which the kind is feasible under these conditions, by bisection on V (null if none found). */
 function limitingV(kind: RequestKind, site: Site, c: Conditions, windowS: number): number | null {
   if (c.observing === null) return null;
-  const feasibleAt = (v: number) => planExposure(kind, site, { ...c.observing!, vMag: v }, { windowS: Math.max(1, windowS) }).feasible;
+  const feasibleAt = (v: number) => planAt(kind, site, { ...c, observing: { ...c.observing!, vMag: v } }, windowS).feasible;
   let faint = c.observing.vMag;
   if (feasibleAt(faint)) return faint;
   let bright = faint - 12;
@@ -424,10 +439,14 @@ function planSite(input: PlanObjectInput, site: Site, startMs: number, endMs: nu
     return { w, windowS, byKind };
   });
 
-  // Runs where the light curve is feasible: they set urgency.
-  const photometryRuns = perWindow.flatMap(({ w, byKind }) => brightRuns(w, byKind.get('photometry') ?? []).filter((run) => run.endMs - run.startMs >= MIN_PHOTOMETRY_WINDOW_S * 1000));
-  const feasibleWindows = new Set(photometryRuns.map((run) => perWindow.findIndex((p) => run.startMs >= p.w.start.getTime() && run.endMs <= p.w.end.getTime()))).size;
-  const lastRun = photometryRuns[photometryRuns.length - 1];
+  // The observable future for urgency: runs of times where some kind is feasible.
+  const usefulRuns = perWindow.map(({ w, byKind }) => {
+    const kinds = [...byKind.values()];
+    const merged = (kinds[0] ?? []).map((cand, i) => ({ ...cand, bright: kinds.map((list) => list[i]!.bright).find((b) => b.feasible) ?? cand.bright }));
+    return brightRuns(w, merged);
+  });
+  const feasibleWindows = usefulRuns.filter((runs) => runs.length > 0).length;
+  const lastRun = usefulRuns.flat().at(-1);
   const hoursLeft = lastRun === undefined ? 0 : lastRun.endMs >= endMs ? horizonH : (lastRun.endMs - startMs) / 3_600_000;
 
   const choices: KindChoice[] = [];
@@ -503,9 +522,10 @@ function faintReason(kind: RequestKind, site: Site, cands: { cand: Candidate; wi
   const best = withMag.reduce((a, b) => (b.cand.c.observing!.vMag + 0.2 * b.cand.c.airmass < a.cand.c.observing!.vMag + 0.2 * a.cand.c.airmass ? b : a));
   const v = best.cand.c.observing!.vMag;
   const limit = limitingV(kind, site, best.cand.c, best.windowS);
-  const why = best.cand.bright.feasible ? '' : ` (${(best.cand.bright as NotFeasible).reason})`;
-  if (limit === null || limit >= v) return `not feasible at the best time${why}`;
-  return `too faint: V ${v.toFixed(1)} at best, limit ${limit.toFixed(1)} at airmass ${best.cand.c.airmass.toFixed(2)} and sky V ${best.cand.c.skyV.toFixed(1)} mag/arcsec^2${why}`;
+  if (limit === null || limit >= v) {
+    return `not feasible at the best time: ${best.cand.bright.feasible ? 'the sequence does not fit the window' : (best.cand.bright as NotFeasible).reason}`;
+  }
+  return `too faint: V ${v.toFixed(1)} at best, limit ${limit.toFixed(1)} (airmass ${best.cand.c.airmass.toFixed(2)}, sky V ${best.cand.c.skyV.toFixed(1)} mag/arcsec^2)`;
 }
 
 function buildRequest(
