@@ -1,0 +1,415 @@
+import { Body, HelioState, MakeTime } from 'astronomy-engine';
+import type { GeodeticLocation } from '../../config/schema.js';
+import { absoluteMagnitudeFromObserved, apparentMagnitudeHG, DEFAULT_BAND_OFFSETS, diameterRangeM } from '../../photometry/magnitudes.js';
+import { ARCSEC_PER_RAD, GM_SUN_AU3_PER_DAY2, KM_PER_AU, RAD_PER_DEG } from '../constants.js';
+import { stateFromPerihelionElements, type HeliocentricState, type PerihelionElements } from '../elements.js';
+import { astrometricPlace, DEFAULT_SLOPE_G, ensemblePlaces, observerGeometry, rowsFromPlaces, type EphemerisRow, type UncertaintyEllipse } from '../ephemeris.js';
+import type { EstimateSummary, ObjectEstimate, Percentiles, ResidualRow, TrackletObservation } from '../estimate-types.js';
+import { streamEnsemble } from '../propagate.js';
+import { ttFromTtIso, ttFromUtc, utcFromTt } from '../time.js';
+import { fitAttributable, type Attributable } from './attributable.js';
+import { EstimationInputError } from './errors.js';
+import { prepareObservations, type PreparedObservation } from './observations.js';
+import { createRandom, type RandomSource } from './random.js';
+import { drawVirtualOrbits, systematicRanging, type RangingOptions, type RangingResult } from './ranging.js';
+import { skySpread } from './sky-spread.js';
+import { project, tangentFrame, unitFromRaDec } from './tangent.js';
+
+/** The notice's orbit block as estimation takes it: ISO TT epoch and tp, degrees, au. */
+export interface NoticeOrbitBlock {
+  readonly epoch: string;
+  readonly q: number;
+  readonly e: number;
+  readonly i: number;
+  readonly node: number;
+  readonly peri: number;
+  readonly tp: string;
+  readonly H?: number | undefined;
+  readonly G?: number | undefined;
+}
+
+export interface EstimateInput {
+  readonly objectId: string;
+  readonly observations: readonly TrackletObservation[];
+  readonly orbit?: NoticeOrbitBlock | undefined;
+  /** The injected clock: the close-approach search starts here (or at the last observation if later). */
+  readonly now: Date;
+  /** Virtual orbits in the ensemble; default 1000. */
+  readonly members?: number | undefined;
+  /** Seed of the ensemble's random draws; default 1. The same input and seed give the same ensemble. */
+  readonly seed?: number | undefined;
+  /** Ranging settings (prior exponent, grid size); defaults as in ranging.ts. */
+  readonly ranging?: RangingOptions | undefined;
+}
+
+/** An ephemeris row with the ensemble's 99 % extent beside the 1-sigma ellipse. */
+export interface EstimatedEphemerisRow extends EphemerisRow {
+  readonly extent99: UncertaintyEllipse | null;
+}
+
+/** ObjectEstimate with the ensemble and fit exposed for diagnostics and calibration. */
+export interface ShortArcEstimate extends ObjectEstimate {
+  /** Nominal state and the virtual orbits, heliocentric EQJ at epochTt (au, au/day). */
+  readonly nominal: HeliocentricState;
+  readonly virtualOrbits: readonly HeliocentricState[];
+  /** Absolute magnitude of the nominal and of each virtual orbit (null when unknown). */
+  readonly nominalH: number | null;
+  readonly memberH: Float64Array | null;
+  readonly attributable: Attributable | null;
+  readonly ranging: { passes: number; evaluatedNodes: number; minChiSquare: number } | null;
+  ephemeris(location: GeodeticLocation, timesUtc: readonly Date[]): EstimatedEphemerisRow[];
+}
+
+export const DEFAULT_MEMBERS = 1000;
+export const CLOSE_APPROACH_WINDOW_DAYS = 10;
+/** Median minimum distance below which `closeApproach` is set, au (contract: about 20 lunar distances). */
+export const CLOSE_APPROACH_AU = 0.05;
+/** Mean Earth-Moon distance, km (384 400 km, the usual rounded semi-major axis). */
+export const LUNAR_DISTANCE_KM = 384_400;
+/** Albedo range for the diameter summary (dark C-like to bright S/E-like, common practice). */
+export const ALBEDO_RANGE = { min: 0.05, max: 0.25 } as const;
+/**
+ * Default 1-sigma spread of an orbit block that gives no covariance: q 1e-3
+ * relative, e 1e-3, angles 0.01 deg, tp 0.01 day (a few-night orbit's size,
+ * stated, not measured).
+ */
+export const ORBIT_BLOCK_DEFAULT_SIGMA = { qRelative: 1e-3, e: 1e-3, angleDeg: 0.01, tpDays: 0.01 } as const;
+/** Spacing of the close-approach search samples, days; the minimum between samples is found by linear relative motion. */
+const APPROACH_SAMPLE_DAYS = 0.05;
+
+function percentiles(values: ArrayLike<number>): Percentiles {
+  const sorted = Float64Array.from(values as ArrayLike<number>).sort();
+  const at = (p: number): number => {
+    const x = p * (sorted.length - 1);
+    const i = Math.floor(x);
+    return sorted[i]! + (i + 1 < sorted.length ? (x - i) * (sorted[i + 1]! - sorted[i]!) : 0);
+  };
+  return { p5: at(0.05), p50: at(0.5), p95: at(0.95) };
+}
+
+/** q, a (au; Infinity for e >= 1) and e of a heliocentric state (two-body, GM of the Sun). */
+function conicOf(s: HeliocentricState): { q: number; a: number; e: number } {
+  const r = Math.hypot(s.x, s.y, s.z);
+  const v2 = s.vx * s.vx + s.vy * s.vy + s.vz * s.vz;
+  const hx = s.y * s.vz - s.z * s.vy, hy = s.z * s.vx - s.x * s.vz, hz = s.x * s.vy - s.y * s.vx;
+  const h2 = hx * hx + hy * hy + hz * hz;
+  const energy = v2 / 2 - GM_SUN_AU3_PER_DAY2 / r;
+  const e = Math.sqrt(Math.max(0, 1 + (2 * energy * h2) / (GM_SUN_AU3_PER_DAY2 * GM_SUN_AU3_PER_DAY2)));
+  const p = h2 / GM_SUN_AU3_PER_DAY2;
+  return { q: p / (1 + e), a: energy < 0 ? -GM_SUN_AU3_PER_DAY2 / (2 * energy) : Infinity, e };
+}
+
+/**
+ * Orbit classes used in the summary: NEO-like q < 1.3 au (the usual NEO
+ * definition); main-belt-like q >= 1.3 au with 2.0 <= a <= 3.3 au and e < 0.3
+ * (between the 4:1 and 2:1 Jupiter resonances, common practice); other.
+ */
+export function orbitClass(s: HeliocentricState): 'neo' | 'mainBelt' | 'other' {
+  const { q, a, e } = conicOf(s);
+  if (q < 1.3) return 'neo';
+  if (a >= 2 && a <= 3.3 && e < 0.3) return 'mainBelt';
+  return 'other';
+}
+
+interface MagnitudeObservation {
+  readonly index: number;
+  readonly vMag: number;
+}
+
+/** Tracklet magnitudes reduced to V (band offsets from photometry's DEFAULT_BAND_OFFSETS; band null counts as V). */
+function magnitudesInV(observations: readonly PreparedObservation[], used: readonly boolean[], notes: string[]): MagnitudeObservation[] {
+  const out: MagnitudeObservation[] = [];
+  const unknown = new Set<string>();
+  observations.forEach((o, i) => {
+    if (!used[i] || o.mag === null) return;
+    const band = o.band ?? 'V';
+    const offset = Object.prototype.hasOwnProperty.call(DEFAULT_BAND_OFFSETS, band) ? DEFAULT_BAND_OFFSETS[band] : undefined;
+    if (offset === undefined) {
+      unknown.add(band);
+      return;
+    }
+    out.push({ index: i, vMag: o.mag - offset });
+  });
+  if (unknown.size > 0) notes.push(`magnitudes in band(s) ${[...unknown].join(', ')} were not used for H: no colour offset from V is known for them`);
+  return out;
+}
+
+/**
+ * H of each state from the tracklet magnitudes: the mean over observations of
+ * V - 5 log10(r Delta) - phase term (H-G with G = 0.15, Bowell et al. 1989, via
+ * photometry's absoluteMagnitudeFromObserved), geometry of each member at each
+ * observation time (light-time corrected, from that observation's observer).
+ */
+function absoluteMagnitudes(states: readonly HeliocentricState[], observations: readonly PreparedObservation[], mags: readonly MagnitudeObservation[]): Float64Array | null {
+  if (mags.length === 0) return null;
+  const n = states.length;
+  const sums = new Float64Array(n);
+  const counts = new Float64Array(n);
+  const geometries = mags.map((m) => observerGeometry(observations[m.index]!.observer, observations[m.index]!.timeUtc));
+  streamEnsemble(
+    states,
+    mags.map((m) => ttFromUtc(observations[m.index]!.timeUtc)),
+    (k, pos, vel) => {
+      for (let j = 0; j < n; j++) {
+        const place = astrometricPlace({ x: pos[3 * j]!, y: pos[3 * j + 1]!, z: pos[3 * j + 2]! }, { x: vel[3 * j]!, y: vel[3 * j + 1]!, z: vel[3 * j + 2]! }, geometries[k]!);
+        if (place.phaseDeg > 179) continue;
+        sums[j]! += absoluteMagnitudeFromObserved(mags[k]!.vMag, DEFAULT_SLOPE_G, place.rAu, place.deltaAu, place.phaseDeg);
+        counts[j]! += 1;
+      }
+    },
+    { stepFraction: 0.2, maxStepDays: 0.05 },
+  );
+  return sums.map((s, j) => (counts[j]! > 0 ? s / counts[j]! : Number.NaN));
+}
+
+/** Minimum geocentric distance (au) of each state over [startTt, startTt + days]: samples plus linear closest approach between them. */
+function minimumGeocentricDistances(states: readonly HeliocentricState[], startTt: number, days: number): Float64Array {
+  const n = states.length;
+  const sampleCount = Math.ceil(days / APPROACH_SAMPLE_DAYS) + 1;
+  const times = Array.from({ length: sampleCount }, (_, k) => startTt + (k * days) / (sampleCount - 1));
+  const half = days / (sampleCount - 1) / 2;
+  const best = new Float64Array(n).fill(Infinity);
+  streamEnsemble(
+    states,
+    times,
+    (k, pos, vel) => {
+      const earth = HelioState(Body.Earth, MakeTime(utcFromTt(times[k]!)));
+      for (let j = 0; j < n; j++) {
+        const dx = pos[3 * j]! - earth.x, dy = pos[3 * j + 1]! - earth.y, dz = pos[3 * j + 2]! - earth.z;
+        const wx = vel[3 * j]! - earth.vx, wy = vel[3 * j + 1]! - earth.vy, wz = vel[3 * j + 2]! - earth.vz;
+        const w2 = wx * wx + wy * wy + wz * wz;
+        let s = w2 > 0 ? -(dx * wx + dy * wy + dz * wz) / w2 : 0;
+        if (s > half) s = half;
+        if (s < -half) s = -half;
+        if (k === 0 && s < 0) s = 0;
+        if (k === sampleCount - 1 && s > 0) s = 0;
+        const d = Math.hypot(dx + s * wx, dy + s * wy, dz + s * wz);
+        if (d < best[j]!) best[j] = d;
+      }
+    },
+  );
+  return best;
+}
+
+/**
+ * Robust centre of the ranging cloud: the weighted median along each principal
+ * axis of the members' (ln range, range-rate) scatter, each coordinate first
+ * scaled by its median absolute deviation; the nominal is the member nearest
+ * that point (so it is a real, data-consistent orbit and does not jump between
+ * the modes of the cloud the way the highest-weight node can).
+ */
+function robustCentreIndex(logRange: Float64Array, rate: Float64Array): number {
+  const n = logRange.length;
+  const median = (a: Float64Array): number => {
+    const s = Float64Array.from(a).sort();
+    return n % 2 ? s[(n - 1) / 2]! : (s[n / 2 - 1]! + s[n / 2]!) / 2;
+  };
+  const mx = median(logRange), my = median(rate);
+  const mad = (a: Float64Array, m: number): number => median(a.map((v) => Math.abs(v - m))) || 1e-12;
+  const sx = mad(logRange, mx), sy = mad(rate, my);
+  const xs = logRange.map((v) => (v - mx) / sx), ys = rate.map((v) => (v - my) / sy);
+  let cxx = 0, cxy = 0, cyy = 0;
+  for (let j = 0; j < n; j++) { cxx += xs[j]! * xs[j]!; cxy += xs[j]! * ys[j]!; cyy += ys[j]! * ys[j]!; }
+  const angle = 0.5 * Math.atan2(2 * cxy, cxx - cyy);
+  const c = Math.cos(angle), s = Math.sin(angle);
+  const along = xs.map((x, j) => c * x + s * ys[j]!), across = xs.map((x, j) => -s * x + c * ys[j]!);
+  const a0 = median(along), b0 = median(across);
+  let bestIndex = 0, bestD = Infinity;
+  for (let j = 0; j < n; j++) {
+    const d = (along[j]! - a0) ** 2 + (across[j]! - b0) ** 2;
+    if (d < bestD) { bestD = d; bestIndex = j; }
+  }
+  return bestIndex;
+}
+
+function checkInput(input: EstimateInput): { members: number; seed: number } {
+  if (typeof input.objectId !== 'string' || input.objectId.trim() === '') throw new EstimationInputError('objectId', input.objectId, 'expected a non-empty designation');
+  if (!(input.now instanceof Date) || !Number.isFinite(input.now.getTime())) throw new EstimationInputError('now', input.now, 'expected a valid Date (the injected clock)');
+  const members = input.members ?? DEFAULT_MEMBERS;
+  if (!Number.isInteger(members) || members < 10 || members > 100_000) throw new EstimationInputError('members', members, 'expected a whole number of virtual orbits from 10 to 100000');
+  const seed = input.seed ?? 1;
+  if (!Number.isFinite(seed)) throw new EstimationInputError('seed', seed, 'expected a finite number');
+  return { members, seed };
+}
+
+/** Draws elements around an orbit block with ORBIT_BLOCK_DEFAULT_SIGMA and returns states at the block's epoch. */
+function orbitBlockEnsemble(orbit: NoticeOrbitBlock, members: number, random: RandomSource): { epochTt: number; nominal: HeliocentricState; states: HeliocentricState[] } {
+  const epochTt = ttFromTtIso('orbit.epoch', orbit.epoch);
+  const base: PerihelionElements = { qAu: orbit.q, e: orbit.e, iDeg: orbit.i, nodeDeg: orbit.node, periDeg: orbit.peri, tpTt: ttFromTtIso('orbit.tp', orbit.tp) };
+  const nominal = stateFromPerihelionElements(base, epochTt);
+  const sd = ORBIT_BLOCK_DEFAULT_SIGMA;
+  const states = Array.from({ length: members }, () => {
+    const el: PerihelionElements = {
+      qAu: base.qAu * Math.max(0.5, 1 + sd.qRelative * random.normal()),
+      e: Math.max(0, base.e + sd.e * random.normal()),
+      iDeg: Math.min(180, Math.max(0, base.iDeg + sd.angleDeg * random.normal())),
+      nodeDeg: base.nodeDeg + sd.angleDeg * random.normal(),
+      periDeg: base.periDeg + sd.angleDeg * random.normal(),
+      tpTt: base.tpTt + sd.tpDays * random.normal(),
+    };
+    return stateFromPerihelionElements(el, epochTt);
+  });
+  return { epochTt, nominal, states };
+}
+
+/** Observed minus computed of one state against the tracklet, arcsec, with the attributable's outlier flags. */
+function residualsOf(state: HeliocentricState, observations: readonly PreparedObservation[], used: readonly boolean[]): ResidualRow[] {
+  const rows: ResidualRow[] = [];
+  const geometries = observations.map((o) => observerGeometry(o.observer, o.timeUtc));
+  streamEnsemble(
+    [state],
+    observations.map((o) => ttFromUtc(o.timeUtc)),
+    (k, pos, vel) => {
+      const o = observations[k]!;
+      const place = astrometricPlace({ x: pos[0]!, y: pos[1]!, z: pos[2]! }, { x: vel[0]!, y: vel[1]!, z: vel[2]! }, geometries[k]!);
+      const frameOffset = offsetOf(place.raDeg, place.decDeg, o);
+      rows[k] = { t: o.timeUtc.toISOString(), dRaArcsec: frameOffset[0], dDecArcsec: frameOffset[1], outlier: !used[k] };
+    },
+  );
+  // Back to the caller's order.
+  return observations.map((o, k) => ({ o, row: rows[k]! })).sort((a, b) => a.o.index - b.o.index).map((x) => x.row);
+}
+
+function offsetOf(raDeg: number, decDeg: number, o: PreparedObservation): [number, number] {
+  const frameCentre = unitFromRaDec(raDeg * RAD_PER_DEG, decDeg * RAD_PER_DEG);
+  const p = project(tangentFrame(frameCentre), o.unit);
+  return [p[0] * ARCSEC_PER_RAD, p[1] * ARCSEC_PER_RAD];
+}
+
+/**
+ * Estimates an object from its notice: the attributable fit, systematic
+ * ranging into `members` virtual orbits (or, with an orbit block, an ensemble
+ * drawn around it), the assessment summary and an ephemeris with uncertainty.
+ * Nothing here is an impact prediction. Throws EstimationInputError for
+ * degenerate or malformed input.
+ */
+export function estimateObject(input: EstimateInput): ShortArcEstimate {
+  const { members, seed } = checkInput(input);
+  const random = createRandom(seed);
+  const notes: string[] = [];
+  const hasObservations = input.observations.length > 0;
+  if (!hasObservations && input.orbit === undefined) throw new EstimationInputError('observations', 0, 'a notice without an orbit block needs at least 2 observations');
+  const observations = hasObservations ? prepareObservations(input.observations) : [];
+  const attributable = observations.length >= 2 ? fitAttributable(observations) : null;
+  const used = attributable ? attributable.used : [];
+  if (attributable && attributable.residuals.some((r) => r.outlier)) {
+    notes.push(`${attributable.residuals.filter((r) => r.outlier).length} observation(s) flagged as outliers and left out of the fit`);
+  }
+
+  let epochTt: number;
+  let nominal: HeliocentricState;
+  let states: HeliocentricState[];
+  let rangeAu: Float64Array;
+  let rangingInfo: ShortArcEstimate['ranging'] = null;
+  let method: EstimateSummary['method'];
+  if (input.orbit !== undefined) {
+    method = 'orbit-block';
+    const drawn = orbitBlockEnsemble(input.orbit, members, random);
+    ({ epochTt, nominal, states } = drawn);
+    notes.push('orbit block taken as the nominal; the ensemble uses the default element spread (no covariance given)');
+    const refTime = attributable ? new Date(attributable.epochMs) : input.now;
+    const viewpoint = observations[0]?.observer ?? 'geocentre';
+    rangeAu = Float64Array.from(ensemblePlaces(states, viewpoint, [refTime]).deltaAu);
+  } else {
+    method = 'ranging';
+    const ranging: RangingResult = systematicRanging(observations, attributable!, input.ranging ?? {});
+    const drawn = drawVirtualOrbits(ranging, attributable!.covariance, members, random);
+    epochTt = ranging.epochTt;
+    states = drawn.map((d) => d.state);
+    rangeAu = Float64Array.from(drawn.map((d) => d.rangeAu));
+    const centre = drawn[robustCentreIndex(rangeAu.map(Math.log), Float64Array.from(drawn.map((d) => d.rangeRateAuPerDay)))]!;
+    nominal = ranging.stateOf(ranging.nodes[centre.node]!.params, centre.rangeAu, centre.rangeRateAuPerDay);
+    rangingInfo = { passes: ranging.passes, evaluatedNodes: ranging.evaluatedNodes, minChiSquare: ranging.minChiSquare };
+    if (attributable!.degreesOfFreedom === 0) notes.push('the fit has no redundancy (as many parameters as measurements): the uncertainty rests on the stated sigmas alone');
+  }
+
+  // Absolute magnitudes.
+  let nominalH: number | null = null;
+  let memberH: Float64Array | null = null;
+  if (input.orbit?.H !== undefined) {
+    nominalH = input.orbit.H;
+    memberH = new Float64Array(members).fill(input.orbit.H);
+  } else if (observations.length > 0) {
+    const mags = magnitudesInV(observations, used, notes);
+    const hs = absoluteMagnitudes([nominal, ...states], observations, mags);
+    if (hs) {
+      nominalH = Number.isFinite(hs[0]!) ? hs[0]! : null;
+      memberH = hs.subarray(1);
+    }
+  }
+  const finiteH = memberH ? Array.from(memberH).filter(Number.isFinite) : [];
+  const hMag = finiteH.length > 0 ? percentiles(finiteH) : null;
+  const diameter = hMag ? diameterRangeM(hMag.p50, ALBEDO_RANGE.min, ALBEDO_RANGE.max) : null;
+
+  // Classes and close approach.
+  const counts = { neo: 0, mainBelt: 0, other: 0 };
+  for (const s of states) counts[orbitClass(s)]++;
+  const lastObsTt = observations.length > 0 ? ttFromUtc(observations[observations.length - 1]!.timeUtc) : -Infinity;
+  const startTt = Math.max(ttFromUtc(input.now), lastObsTt);
+  const minDist = minimumGeocentricDistances(states, startTt, CLOSE_APPROACH_WINDOW_DAYS);
+  const auPct = percentiles(minDist);
+  const ld = (au: number): number => (au * KM_PER_AU) / LUNAR_DISTANCE_KM;
+
+  const residuals = observations.length > 0 ? residualsOf(nominal, observations, used) : [];
+  const usedResiduals = residuals.filter((r) => !r.outlier);
+  const rms = usedResiduals.length > 0 ? Math.sqrt(usedResiduals.reduce((s, r) => s + r.dRaArcsec ** 2 + r.dDecArcsec ** 2, 0) / (2 * usedResiduals.length)) : null;
+
+  const summary: EstimateSummary = {
+    method,
+    members,
+    rangeAu: percentiles(rangeAu),
+    classFractions: { neo: counts.neo / members, mainBelt: counts.mainBelt / members, other: counts.other / members },
+    hMag,
+    diameterM: diameter ? { min: diameter.minM, max: diameter.maxM } : null,
+    minGeocentricDistance: {
+      withinDays: CLOSE_APPROACH_WINDOW_DAYS,
+      au: auPct,
+      lunarDistances: { p5: ld(auPct.p5), p50: ld(auPct.p50), p95: ld(auPct.p95) },
+    },
+    closeApproach: auPct.p50 < CLOSE_APPROACH_AU,
+    residuals,
+    rmsArcsec: rms,
+    notes,
+  };
+
+  const firstObservedAt = observations.length > 0 ? observations[0]!.timeUtc.toISOString() : utcFromTt(epochTt).toISOString();
+  const allStates = [nominal, ...states];
+  const ephemeris = (location: GeodeticLocation, timesUtc: readonly Date[]): EstimatedEphemerisRow[] => {
+    const places = ensemblePlaces(allStates, location, timesUtc);
+    const n = places.memberCount;
+    const photometry = nominalH === null ? undefined : { hMag: nominalH, g: DEFAULT_SLOPE_G };
+    const rows = rowsFromPlaces(places, 0, location, photometry);
+    return rows.map((row, k) => {
+      const spread = skySpread(row.ra, row.dec, places.raDeg, places.decDeg, k * n + 1, n - 1);
+      let magSigma: number | null = null;
+      if (memberH) {
+        const mags: number[] = [];
+        for (let m = 1; m < n; m++) {
+          const h = memberH[m - 1]!;
+          const j = k * n + m;
+          if (!Number.isFinite(h) || places.phaseDeg[j]! > 179.9) continue;
+          mags.push(apparentMagnitudeHG(h, DEFAULT_SLOPE_G, places.rAu[j]!, places.deltaAu[j]!, places.phaseDeg[j]!));
+        }
+        if (mags.length > 1) {
+          mags.sort((a, b) => a - b);
+          // Robust sigma: half the 16-84 % range.
+          magSigma = (mags[Math.round(0.84 * (mags.length - 1))]! - mags[Math.round(0.16 * (mags.length - 1))]!) / 2;
+        }
+      }
+      return { ...row, unc: spread.sigma, magSigma, extent99: spread.extent99 };
+    });
+  };
+
+  return {
+    objectId: input.objectId,
+    firstObservedAt,
+    summary,
+    ephemeris,
+    nominal,
+    virtualOrbits: states,
+    nominalH,
+    memberH,
+    attributable,
+    ranging: rangingInfo,
+  };
+}

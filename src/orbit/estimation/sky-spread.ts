@@ -1,0 +1,98 @@
+import { ARCSEC_PER_RAD, DEG_PER_RAD, RAD_PER_DEG } from '../constants.js';
+import type { UncertaintyEllipse } from '../ephemeris.js';
+import { symmetricEigen2 } from './linalg.js';
+import { project, tangentFrame, unitFromRaDec } from './tangent.js';
+
+/**
+ * Summary of an ensemble's spread on the sky around the nominal place.
+ *
+ * Method: members are projected on the azimuthal equidistant plane centred on
+ * the nominal (Snyder 1987, ch. 25), arcsec; the second-moment matrix S about
+ * the nominal (not about the mean, so an offset cloud widens the ellipse) gives
+ * the shape and orientation; its size is then calibrated on the members
+ * themselves: S is scaled so that the 3-sigma ellipse encloses the fraction of
+ * members a 2-D Gaussian's would, 1 - exp(-9/2) = 98.89 %. For a Gaussian
+ * cloud the scale is 1; for a long or curved cloud (range-dominated
+ * uncertainty) it grows until the ellipse covers the cloud, so the ellipse
+ * stays honest at the cost of width across the cloud. The 99 % extent is the
+ * ellipse of the same shape holding 99 % of the members.
+ */
+export interface SkySpread {
+  /** 1-sigma ellipse, arcsec, pa deg east of north (0-180) of the major axis. */
+  readonly sigma: UncertaintyEllipse;
+  /** Ellipse holding 99 % of the virtual orbits, same shape. */
+  readonly extent99: UncertaintyEllipse;
+  /** Factor applied to S (variance units) by the coverage calibration. */
+  readonly coverageScale: number;
+}
+
+/** Fraction of a 2-D Gaussian inside its 3-sigma (Mahalanobis distance 3) ellipse. */
+export const GAUSSIAN_3SIGMA_CONTENT_2D = 1 - Math.exp(-4.5);
+/** Variance floor, arcsec^2 (1 mas), so identical members still give a finite ellipse. */
+const VARIANCE_FLOOR_ARCSEC2 = 1e-6;
+
+function quantile(sorted: Float64Array, p: number): number {
+  if (sorted.length === 0) return 0;
+  const x = p * (sorted.length - 1);
+  const i = Math.floor(x);
+  const f = x - i;
+  return sorted[i]! + (i + 1 < sorted.length ? f * (sorted[i + 1]! - sorted[i]!) : 0);
+}
+
+function ellipseOf(a: number, b: number, c: number, scale: number): UncertaintyEllipse {
+  const eig = symmetricEigen2(a * scale, b * scale, c * scale);
+  // The eigenvector is (east, north); pa east of north.
+  let pa = Math.atan2(eig.vx, eig.vy) * DEG_PER_RAD;
+  if (pa < 0) pa += 180;
+  if (pa >= 180) pa -= 180;
+  return { major: Math.sqrt(Math.max(eig.large, 0)), minor: Math.sqrt(Math.max(eig.small, 0)), pa };
+}
+
+/**
+ * Spread of members (RA/Dec degrees, `count` values from `offset` in the
+ * arrays) around a nominal place (degrees).
+ */
+export function skySpread(nominalRaDeg: number, nominalDecDeg: number, raDeg: ArrayLike<number>, decDeg: ArrayLike<number>, offset: number, count: number): SkySpread {
+  const frame = tangentFrame(unitFromRaDec(nominalRaDeg * RAD_PER_DEG, nominalDecDeg * RAD_PER_DEG));
+  const xs = new Float64Array(count), ys = new Float64Array(count);
+  let sxx = 0, sxy = 0, syy = 0;
+  for (let m = 0; m < count; m++) {
+    const p = project(frame, unitFromRaDec(raDeg[offset + m]! * RAD_PER_DEG, decDeg[offset + m]! * RAD_PER_DEG));
+    const x = p[0] * ARCSEC_PER_RAD, y = p[1] * ARCSEC_PER_RAD;
+    xs[m] = x; ys[m] = y;
+    sxx += x * x; sxy += x * y; syy += y * y;
+  }
+  sxx = sxx / count + VARIANCE_FLOOR_ARCSEC2;
+  syy = syy / count + VARIANCE_FLOOR_ARCSEC2;
+  sxy /= count;
+  const det = sxx * syy - sxy * sxy;
+  const d2 = new Float64Array(count);
+  for (let m = 0; m < count; m++) {
+    const x = xs[m]!, y = ys[m]!;
+    d2[m] = (syy * x * x - 2 * sxy * x * y + sxx * y * y) / det;
+  }
+  d2.sort();
+  const coverageScale = Math.max(quantile(d2, GAUSSIAN_3SIGMA_CONTENT_2D) / 9, 1e-6);
+  return {
+    sigma: ellipseOf(sxx, sxy, syy, coverageScale),
+    extent99: ellipseOf(sxx, sxy, syy, Math.max(quantile(d2, 0.99), 1e-6)),
+    coverageScale,
+  };
+}
+
+/** Squared Mahalanobis distance (in sigma units) of an offset (east, north arcsec) from the centre of a 1-sigma ellipse. */
+export function ellipseDistanceSquared(ellipse: UncertaintyEllipse, eastArcsec: number, northArcsec: number): number {
+  const pa = ellipse.pa * RAD_PER_DEG;
+  // Major axis along (sin pa, cos pa) in (east, north).
+  const along = eastArcsec * Math.sin(pa) + northArcsec * Math.cos(pa);
+  const across = eastArcsec * Math.cos(pa) - northArcsec * Math.sin(pa);
+  const major = Math.max(ellipse.major, 1e-9), minor = Math.max(ellipse.minor, 1e-9);
+  return (along / major) ** 2 + (across / minor) ** 2;
+}
+
+/** Offset (east, north arcsec) of a place from a centre, on the equidistant plane of the centre. */
+export function offsetArcsec(centreRaDeg: number, centreDecDeg: number, raDeg: number, decDeg: number): [number, number] {
+  const frame = tangentFrame(unitFromRaDec(centreRaDeg * RAD_PER_DEG, centreDecDeg * RAD_PER_DEG));
+  const p = project(frame, unitFromRaDec(raDeg * RAD_PER_DEG, decDeg * RAD_PER_DEG));
+  return [p[0] * ARCSEC_PER_RAD, p[1] * ARCSEC_PER_RAD];
+}
