@@ -1,7 +1,6 @@
-import { parseArgs } from 'node:util';
 import { ConfigError, loadConfig } from '../config/load.js';
+import { parseCommandArgs } from './args.js';
 import type { CommandMain } from './io.js';
-import { UsageError } from './io.js';
 
 export const HELP = `nightjar check-config [--config FILE]
 
@@ -9,16 +8,9 @@ Validates the configuration (default: NIGHTJAR_CONFIG, else the embedded demo
 config/default.json) and prints every problem by path. Exit 0 when valid, 1 when not.`;
 
 export const main: CommandMain = async (argv, io) => {
-  let values: { config?: string | undefined; help?: boolean | undefined };
-  try {
-    ({ values } = parseArgs({ args: argv, options: { config: { type: 'string' }, help: { type: 'boolean', short: 'h' } } }));
-  } catch (err) {
-    throw new UsageError((err as Error).message);
-  }
-  if (values.help) {
-    io.stdout(`${HELP}\n`);
-    return 0;
-  }
+  const parsed = parseCommandArgs(argv, { config: { type: 'string' } }, HELP, io);
+  if (parsed === null) return 0;
+  const values = parsed;
   try {
     const config = loadConfig({ path: values.config, env: io.env, cwd: io.cwd });
     io.stdout(

@@ -1,12 +1,12 @@
 import { readFileSync } from 'node:fs';
 import { resolve } from 'node:path';
-import { parseArgs } from 'node:util';
 import { loadConfig } from '../config/load.js';
 import { locationSchema, type GeodeticLocation } from '../config/schema.js';
 import { parseNotice, type Notice, type NoticeOrbit } from '../intake/notice.js';
 import { ephemerisFromElements, type EphemerisRow } from '../orbit/ephemeris.js';
 import type { PerihelionElements } from '../orbit/elements.js';
 import { ttFromTtIso } from '../orbit/time.js';
+import { parseCommandArgs } from './args.js';
 import type { CommandMain } from './io.js';
 import { UsageError } from './io.js';
 
@@ -34,7 +34,7 @@ Options:
   --notice FILE      notice v1 JSON file (required)
   --site ID          site id from the configuration
   --lat, --lon DEG   ad-hoc site: geodetic latitude, east longitude (degrees;
-                     write a negative value as --lon=-105.5)
+                     negative values as --lon -105.5 or --lon=-105.5)
   --height M         ad-hoc site: height above the ellipsoid, metres
   --times LIST       comma-separated ISO-8601 UTC times
   --start, --end     first and last time of a grid (ISO-8601 UTC)
@@ -224,11 +224,7 @@ function formatText(rows: EphemerisRow[], notice: Notice, label: string): string
 }
 
 export const main: CommandMain = async (argv, io) => {
-  let values: Options;
-  try {
-    ({ values } = parseArgs({
-      args: argv,
-      options: {
+  const parsed = parseCommandArgs(argv, {
         notice: { type: 'string' },
         site: { type: 'string' },
         lat: { type: 'string' },
@@ -239,17 +235,10 @@ export const main: CommandMain = async (argv, io) => {
         end: { type: 'string' },
         step: { type: 'string' },
         json: { type: 'boolean' },
-        config: { type: 'string' },
-        help: { type: 'boolean', short: 'h' },
-      },
-    }));
-  } catch (err) {
-    throw new UsageError((err as Error).message);
-  }
-  if (values.help) {
-    io.stdout(`${HELP}\n`);
-    return 0;
-  }
+        config: { type: 'string' }
+      }, HELP, io);
+  if (parsed === null) return 0;
+  const values: Options = parsed;
   if (values.notice === undefined) throw new UsageError('--notice FILE is required');
   const times = requestedTimes(values);
   const { location, label } = viewpoint(values, io);

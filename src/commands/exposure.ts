@@ -1,4 +1,3 @@
-import { parseArgs } from 'node:util';
 import type { Site } from '../config/schema.js';
 import { loadConfig } from '../config/load.js';
 import type { NotFeasible, ObservingConditions } from '../photometry/conditions.js';
@@ -8,6 +7,7 @@ import { coloursPlan, photometryPlan, spectrumPlan, type ExposurePlan, type Plan
 import { SkyInputError } from '../sky/errors.js';
 import { altitudeForAirmassDeg } from '../sky/site.js';
 import { siteVExtinctionMagPerAirmass, skyBrightnessKS } from '../sky/sky-brightness.js';
+import { parseCommandArgs } from './args.js';
 import type { CommandMain } from './io.js';
 import { UsageError } from './io.js';
 
@@ -155,11 +155,7 @@ function isNotFeasible(plan: PlanResult): plan is NotFeasible {
 }
 
 export const main: CommandMain = async (argv, io) => {
-  let values: Values;
-  try {
-    ({ values } = parseArgs({
-      args: argv,
-      options: {
+  const parsed = parseCommandArgs(argv, {
         site: { type: 'string' },
         instrument: { type: 'string' },
         mag: { type: 'string' },
@@ -174,17 +170,10 @@ export const main: CommandMain = async (argv, io) => {
         slit: { type: 'string' },
         'window-min': { type: 'string' },
         json: { type: 'boolean' },
-        config: { type: 'string' },
-        help: { type: 'boolean', short: 'h' },
-      },
-    }));
-  } catch (err) {
-    throw new UsageError((err as Error).message);
-  }
-  if (values.help) {
-    io.stdout(`${HELP}\n`);
-    return 0;
-  }
+        config: { type: 'string' }
+      }, HELP, io);
+  if (parsed === null) return 0;
+  const values: Values = parsed;
   if (values.site === undefined) throw new UsageError('--site ID is required');
   const instrument = values.instrument;
   if (instrument !== 'imager' && instrument !== 'spectrograph') {

@@ -1,9 +1,8 @@
-import { parseArgs } from 'node:util';
 import { loadConfig, MIGRATIONS_DIR } from '../config/load.js';
 import { openDatabase } from '../store/database.js';
 import { migrate } from '../store/migrations.js';
+import { parseCommandArgs } from './args.js';
 import type { CommandMain } from './io.js';
-import { UsageError } from './io.js';
 
 export const HELP = `nightjar migrate [--config FILE] [--db PATH]
 
@@ -11,19 +10,9 @@ Applies pending migrations (migrations/NNNN_name.sql, in order) to the database
 and prints what it applied. A changed or missing applied migration is refused.`;
 
 export const main: CommandMain = async (argv, io) => {
-  let values: { config?: string | undefined; db?: string | undefined; help?: boolean | undefined };
-  try {
-    ({ values } = parseArgs({
-      args: argv,
-      options: { config: { type: 'string' }, db: { type: 'string' }, help: { type: 'boolean', short: 'h' } },
-    }));
-  } catch (err) {
-    throw new UsageError((err as Error).message);
-  }
-  if (values.help) {
-    io.stdout(`${HELP}\n`);
-    return 0;
-  }
+  const parsed = parseCommandArgs(argv, { config: { type: 'string' }, db: { type: 'string' } }, HELP, io);
+  if (parsed === null) return 0;
+  const values = parsed;
   const config = loadConfig({ path: values.config, env: values.db ? { ...io.env, NIGHTJAR_DB: values.db } : io.env, cwd: io.cwd });
   const db = openDatabase(config.service.databasePath);
   try {

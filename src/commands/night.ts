@@ -1,7 +1,7 @@
-import { parseArgs } from 'node:util';
 import { loadConfig } from '../config/load.js';
 import { SkyInputError } from '../sky/errors.js';
 import { nightAt, nightToJson, type Night } from '../sky/night.js';
+import { parseCommandArgs } from './args.js';
 import type { CommandMain } from './io.js';
 import { UsageError } from './io.js';
 
@@ -56,25 +56,14 @@ function formatText(night: Night, siteName: string): string {
 }
 
 export const main: CommandMain = async (argv, io) => {
-  let values: { site?: string | undefined; date?: string | undefined; json?: boolean | undefined; config?: string | undefined; help?: boolean | undefined };
-  try {
-    ({ values } = parseArgs({
-      args: argv,
-      options: {
+  const parsed = parseCommandArgs(argv, {
         site: { type: 'string' },
         date: { type: 'string' },
         json: { type: 'boolean' },
-        config: { type: 'string' },
-        help: { type: 'boolean', short: 'h' },
-      },
-    }));
-  } catch (err) {
-    throw new UsageError((err as Error).message);
-  }
-  if (values.help) {
-    io.stdout(`${HELP}\n`);
-    return 0;
-  }
+        config: { type: 'string' }
+      }, HELP, io);
+  if (parsed === null) return 0;
+  const values = parsed;
   if (values.site === undefined) throw new UsageError('--site ID is required');
   if (values.date === undefined) throw new UsageError('--date YYYY-MM-DD is required');
   const config = loadConfig({ path: values.config, env: io.env, cwd: io.cwd });

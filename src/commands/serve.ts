@@ -1,8 +1,7 @@
-import { parseArgs } from 'node:util';
 import { loadConfig } from '../config/load.js';
 import { startService } from '../server.js';
+import { parseCommandArgs } from './args.js';
 import type { CommandMain } from './io.js';
-import { UsageError } from './io.js';
 
 export const HELP = `nightjar serve [--config FILE]
 
@@ -11,16 +10,9 @@ Environment: NIGHTJAR_CONFIG (config file), NIGHTJAR_PORT, NIGHTJAR_DB override 
 Stops gracefully on SIGTERM or SIGINT.`;
 
 export const main: CommandMain = async (argv, io) => {
-  let values: { config?: string | undefined; help?: boolean | undefined };
-  try {
-    ({ values } = parseArgs({ args: argv, options: { config: { type: 'string' }, help: { type: 'boolean', short: 'h' } } }));
-  } catch (err) {
-    throw new UsageError((err as Error).message);
-  }
-  if (values.help) {
-    io.stdout(`${HELP}\n`);
-    return 0;
-  }
+  const parsed = parseCommandArgs(argv, { config: { type: 'string' } }, HELP, io);
+  if (parsed === null) return 0;
+  const values = parsed;
   const config = loadConfig({ path: values.config, env: io.env, cwd: io.cwd });
   const service = await startService({ config });
   await new Promise<void>((resolve) => {

@@ -1,0 +1,206 @@
+import { readFileSync } from 'node:fs';
+import { resolve } from 'node:path';
+import { parseArgs } from 'node:util';
+import { loadConfig } from '../config/load.js';
+import { parseNotice, observerOf, type Notice } from '../intake/notice.js';
+import type { TrackletObservation } from '../orbit/estimate-types.js';
+import { DEFAULT_MEMBERS, estimateObject, EstimationFailedError, EstimationInputError } from '../orbit/estimation/index.js';
+import { planObject, type ObjectPlan, type PlannedRequest, type SitePlan } from '../planning/plan-object.js';
+import type { CommandMain, CommandIo } from './io.js';
+import { UsageError } from './io.js';
+
+/**
+ * `nightjar plan`: the whole assessment and plan of one notice without the
+ * database: orbit estimation (short-arc ranging, or the orbit block with its
+ * default spread), then per configured site the observable windows, exposure
+ * sequences, rates, ephemeris tables and scores, or the reasons why not.
+ */
+export const HELP = `nightjar plan --notice FILE [--site ID] [--now ISO] [--json]
+              [--members N] [--seed S] [--config FILE]
+
+Assesses the object of one notice and plans it at every configured site (or
+one, with --site) over the planning horizon of the configuration: requests of
+kind photometry, colours and spectrum with their window (UTC), recommended
+start, expected duration, exposure sequence, non-sidereal rates (arcsec/s, RA
+rate times cos Dec), ephemeris table and score with its factors; or, per site,
+the reasons in words and numbers why there is none.
+
+The notice is checked as intake checks it, except for its age. Estimates from a
+few hours of astrometry are uncertain; this is not an impact prediction.
+
+Options:
+  --notice FILE   notice v1 JSON file (required)
+  --site ID       plan only this configured site
+  --now ISO       the present (ISO-8601 UTC); default the system clock
+  --json          print the plan as JSON (the request bodies as stored)
+  --members N     virtual orbits in the ensemble (default ${DEFAULT_MEMBERS})
+  --seed S        seed of the ensemble's random draws (default 1)
+  --config FILE   configuration file (default: NIGHTJAR_CONFIG, else the demo)
+  -h, --help      show this help`;
+
+const ISO_UTC = /^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}(:\d{2}(\.\d{1,9})?)?Z$/;
+
+function parseUtc(option: string, text: string): Date {
+  const ms = ISO_UTC.test(text) ? Date.parse(text) : Number.NaN;
+  if (!Number.isFinite(ms)) throw new UsageError(`${option}: "${text}" is not an ISO-8601 UTC time such as 2027-03-04T05:06:07Z`);
+  return new Date(ms);
+}
+
+function parseWhole(option: string, text: string, min: number, max: number): number {
+  const value = Number(text);
+  if (!/^\d+$/.test(text.trim()) || !Number.isInteger(value) || value < min || value > max) {
+    throw new UsageError(`${option}: "${text}" is not a whole number from ${min} to ${max}`);
+  }
+  return value;
+}
+
+function readNotice(path: string, cwd: string): { ok: true; notice: Notice } | { ok: false; message: string } {
+  const full = resolve(cwd, path);
+  let text: string;
+  try {
+    text = readFileSync(full, 'utf8');
+  } catch (err) {
+    throw new UsageError(`--notice: cannot read ${full}: ${(err as Error).message}`);
+  }
+  let raw: unknown;
+  try {
+    raw = JSON.parse(text.replace(/^\uFEFF/, ''));
+  } catch (err) {
+    return { ok: false, message: `${full} is not valid JSON: ${(err as Error).message}` };
+  }
+  const parsed = parseNotice(raw, { now: new Date(0), checkAge: false });
+  if (!parsed.ok) return { ok: false, message: `${full} is not a valid notice:\n${parsed.issues.map((i) => `  ${i.path}: ${i.message}`).join('\n')}` };
+  return { ok: true, notice: parsed.notice };
+}
+
+/** The notice's observations as estimation takes them. */
+export function trackletOf(notice: Notice): TrackletObservation[] {
+  return (notice.observations ?? []).map((o) => {
+    const observer = observerOf(notice, o);
+    return {
+      t: o.t,
+      raDeg: o.ra,
+      decDeg: o.dec,
+      sigmaArcsec: o.sigma,
+      mag: o.mag ?? null,
+      band: o.band ?? null,
+      observer: { latDeg: observer.lat, lonDeg: observer.lon, heightM: observer.height },
+    };
+  });
+}
+
+const short = (iso: string) => iso.replace(/:\d{2}\.\d{3}Z$/, 'Z');
+
+function requestText(r: PlannedRequest): string[] {
+  const b = r.body;
+  const steps = b.sequence.steps
+    .map((s) => `${s.filter !== undefined ? `filter ${s.filter}` : `slit ${s.slitArcsec} arcsec`} ${s.count} x ${s.exposureS} s (SNR ${s.expectedSnr}; ${s.limitingFactor})`)
+    .join('\n        ');
+  const lines = [
+    `  ${r.kind}  score ${r.score.toFixed(1)}`,
+    `    window ${short(r.windowStart)} .. ${short(r.windowEnd)} (opens: ${b.windowOpensBecause}; closes: ${b.windowClosesBecause})`,
+    `    start ${short(r.recommendedStart)}, about ${(r.durationS / 60).toFixed(0)} min; expires ${short(r.expiresAt)}`,
+    `    target RA ${b.target.raDeg.toFixed(5)} Dec ${b.target.decDeg.toFixed(5)} deg, V ${b.target.vMag.toFixed(1)}, 3-sigma region ${b.target.region3SigmaAcrossArcsec ?? '-'} arcsec across`,
+    `    tracking non-sidereal raRate ${b.tracking.raRateArcsecPerS} decRate ${b.tracking.decRateArcsecPerS} arcsec/s`,
+    `    sequence ${steps}`,
+  ];
+  if (b.searchPattern !== null) lines.push(`    search pattern: ${b.searchPattern.pointings.length} pointings of ${b.searchPattern.fieldArcsec} arcsec`);
+  for (const f of b.score.factors) lines.push(`    ${f.name.padEnd(12)} ${f.value.toFixed(3)} x ${f.weight.toFixed(2)}  ${f.why}`);
+  lines.push(`    ephemeris: ${b.ephemeris.rows.length} rows every ${b.ephemeris.stepMin} min`);
+  return lines;
+}
+
+function siteText(s: SitePlan): string[] {
+  const lines = [`site ${s.siteId} (${s.siteName})`];
+  if (s.windows.length === 0) lines.push('  no observable window');
+  for (const w of s.windows) lines.push(`  window ${short(w.start)} .. ${short(w.end)}  ${w.durationMin.toFixed(0)} min  (${w.opensBecause} .. ${w.closesBecause})`);
+  for (const r of s.requests) lines.push(...requestText(r));
+  for (const reason of s.reasons) lines.push(`  - ${reason}`);
+  return lines;
+}
+
+function planText(notice: Notice, plan: ObjectPlan, summaryLine: string): string {
+  const lines = [
+    `plan for ${plan.objectId} (notice ${notice.noticeId}) at ${plan.plannedAt}, horizon ${plan.horizonH} h`,
+    summaryLine,
+    'estimates from short arcs are uncertain; this is not an impact prediction',
+    '',
+  ];
+  for (const s of plan.sites) lines.push(...siteText(s), '');
+  return `${lines.join('\n')}`;
+}
+
+interface Options {
+  notice?: string | undefined;
+  site?: string | undefined;
+  now?: string | undefined;
+  json?: boolean | undefined;
+  members?: string | undefined;
+  seed?: string | undefined;
+  config?: string | undefined;
+  help?: boolean | undefined;
+}
+
+export const main: CommandMain = async (argv: string[], io: CommandIo) => {
+  let values: Options;
+  try {
+    ({ values } = parseArgs({
+      args: argv,
+      options: {
+        notice: { type: 'string' },
+        site: { type: 'string' },
+        now: { type: 'string' },
+        json: { type: 'boolean' },
+        members: { type: 'string' },
+        seed: { type: 'string' },
+        config: { type: 'string' },
+        help: { type: 'boolean', short: 'h' },
+      },
+    }));
+  } catch (err) {
+    throw new UsageError((err as Error).message);
+  }
+  if (values.help) {
+    io.stdout(`${HELP}\n`);
+    return 0;
+  }
+  if (values.notice === undefined) throw new UsageError('--notice FILE is required');
+  const now = values.now === undefined ? new Date() : parseUtc('--now', values.now);
+  const members = values.members === undefined ? DEFAULT_MEMBERS : parseWhole('--members', values.members, 1, 100_000);
+  const seed = values.seed === undefined ? 1 : parseWhole('--seed', values.seed, 0, 2 ** 32 - 1);
+  const config = loadConfig({ path: values.config, env: io.env, cwd: io.cwd });
+  const sites = values.site === undefined ? config.sites : config.sites.filter((s) => s.id === values.site);
+  if (sites.length === 0) throw new UsageError(`unknown site "${values.site}" (configured: ${config.sites.map((s) => s.id).join(', ')})`);
+  const read = readNotice(values.notice, io.cwd);
+  if (!read.ok) {
+    io.stderr(`nightjar plan: ${read.message}\n`);
+    return 1;
+  }
+  const notice = read.notice;
+  if (notice.retracted === true) {
+    io.stdout(`notice ${notice.noticeId} retracts ${notice.objectId}: ${notice.reason ?? ''}\nnothing to plan\n`);
+    return 0;
+  }
+  let estimate;
+  try {
+    estimate = estimateObject({ objectId: notice.objectId, observations: trackletOf(notice), orbit: notice.orbit, now, members, seed });
+  } catch (err) {
+    if (err instanceof EstimationFailedError || err instanceof EstimationInputError) {
+      io.stderr(`nightjar plan: cannot estimate ${notice.objectId}: ${err.message}\n`);
+      return 1;
+    }
+    throw err;
+  }
+  const plan = planObject({ estimate, sites, now, horizonH: config.planning.horizonH });
+  const s = estimate.summary;
+  if (values.json) {
+    io.stdout(`${JSON.stringify({ noticeId: notice.noticeId, summary: s, plan }, null, 2)}\n`);
+    return 0;
+  }
+  const h = s.hMag === null ? 'H unknown' : `H ${s.hMag.p50.toFixed(1)} (${s.hMag.p5.toFixed(1)}..${s.hMag.p95.toFixed(1)})`;
+  const summaryLine =
+    `assessment: ${s.method}, ${s.members} virtual orbits, ${Math.round(s.classFractions.neo * 100)} % NEO-like, ${h}, ` +
+    `closest approach ${s.minGeocentricDistance.lunarDistances.p50.toFixed(1)} lunar distances within ${s.minGeocentricDistance.withinDays} days`;
+  io.stdout(`${planText(notice, plan, summaryLine)}\n`);
+  return 0;
+};
