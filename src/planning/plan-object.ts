@@ -488,6 +488,7 @@ function planSite(input: PlanObjectInput, site: Site, startMs: number, endMs: nu
   }
 
   const fieldArcsec = Math.min(site.imager.fieldArcmin.width, site.imager.fieldArcmin.height) * 60;
+  const exact = exactRows(estimate, site, choices);
   for (const choice of choices) {
     const p = choice.recommended.c.point;
     const extent = uncertaintyExtent(p);
@@ -509,7 +510,7 @@ function planSite(input: PlanObjectInput, site: Site, startMs: number, endMs: nu
       out.reasons.push(`spectrum: 3-sigma region ${fmt(extent)} arcsec across exceeds the acquisition field ${fmt(site.spectrograph.acquisitionFieldArcsec)} arcsec`);
       continue;
     }
-    out.requests.push(buildRequest(input, site, choice, pattern, { feasibleWindows, hoursLeft, hP50 }, weights));
+    out.requests.push(buildRequest(input, site, choice, pattern, exact, { feasibleWindows, hoursLeft, hP50 }, weights));
   }
   if (out.requests.length === 0 && out.reasons.length === 0) out.reasons.push('no request could be built');
   return out;
@@ -528,11 +529,33 @@ function faintReason(kind: RequestKind, site: Site, cands: { cand: Candidate; wi
   return `too faint: V ${v.toFixed(1)} at best, limit ${limit.toFixed(1)} (airmass ${best.cand.c.airmass.toFixed(2)}, sky V ${best.cand.c.skyV.toFixed(1)} mag/arcsec^2)`;
 }
 
+function tableTimesMs(choice: KindChoice): number[] {
+  const times: number[] = [];
+  for (let t = choice.startMs; t < choice.endMs; t += TABLE_STEP_MIN * MS_PER_MIN) times.push(t);
+  times.push(choice.endMs);
+  return times;
+}
+
+/** Exact rows (one estimate call per site) at every recommended start and table time of the chosen requests. */
+function exactRows(estimate: ObjectEstimate, site: Site, choices: KindChoice[]): Map<number, EphemerisRow> {
+  const wanted = [...new Set(choices.flatMap((c) => [c.recommended.tMs, ...tableTimesMs(c)]))].sort((a, b) => a - b);
+  const byTime = new Map<number, EphemerisRow>();
+  if (wanted.length === 0) return byTime;
+  const rows = estimate.ephemeris(site.location, wanted.map((t) => new Date(t)));
+  wanted.forEach((t, i) => {
+    const row = rows[i];
+    if (row === undefined) throw new PlanningInputError('estimate.ephemeris', rows.length, `expected ${wanted.length} rows, one per requested time`);
+    byTime.set(t, row);
+  });
+  return byTime;
+}
+
 function buildRequest(
   input: PlanObjectInput,
   site: Site,
   choice: KindChoice,
   pattern: SearchPattern | null,
+  exact: Map<number, EphemerisRow>,
   future: { feasibleWindows: number; hoursLeft: number; hP50: number | null },
   weights: ScoreWeights,
 ): PlannedRequest {
@@ -541,12 +564,8 @@ function buildRequest(
   const plan = choice.plan;
   const searchS = pattern === null ? 0 : pattern.pointings.length * (Math.min(60, plan.steps[0]?.exposureS ?? 30) + site.imager.readoutS);
   const durationS = Math.round(plan.totalS + searchS);
-  const tableTimes: Date[] = [];
-  for (let t = choice.startMs; t < choice.endMs; t += TABLE_STEP_MIN * MS_PER_MIN) tableTimes.push(new Date(t));
-  tableTimes.push(new Date(choice.endMs));
-  const rows = estimate.ephemeris(site.location, [new Date(rec.tMs), ...tableTimes]);
-  const atStart = rows[0]!;
-  const table = rows.slice(1).map(tableRow);
+  const atStart = exact.get(rec.tMs)!;
+  const table = tableTimesMs(choice).map((t) => tableRow(exact.get(t)!));
   // Without an airmass limit, the airmass at the lowest allowed altitude.
   const maxAirmass = site.limits.maxAirmass ?? airmassKastenYoung(Math.max(site.limits.minAltitudeDeg, 1));
   const summary = estimate.summary;
