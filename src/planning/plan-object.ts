@@ -392,12 +392,19 @@ export function planObject(input: PlanObjectInput): ObjectPlan {
   };
 }
 
-function noWindowReason(reason: string, track: Track, site: Site, horizonH: number): string {
-  if (reason.startsWith('maxRate')) {
-    const slowest = Math.min(...track.rows.map((row) => Math.hypot(row.raRate, row.decRate)));
-    return `moves ${fmt(slowest)} arcsec/s at its slowest in the next ${fmt(horizonH)} h, mount limit ${site.limits.maxRateArcsecPerS} arcsec/s`;
-  }
-  return `${reason} (from this site in the next ${fmt(horizonH)} h)`;
+/**
+ * The sky module's reasons for no window, placed in the horizon; when the object is faster than the
+ * mount at every sample of the track, one reason with the slowest rate replaces the sky module's rate wording.
+ */
+function noWindowReasons(reasons: string[], track: Track, site: Site, horizonH: number): string[] {
+  const slowest = Math.min(...track.rows.map((row) => Math.hypot(row.raRate, row.decRate)));
+  const limit = site.limits.maxRateArcsecPerS;
+  const placed = reasons.map((reason) => `${reason} (from this site in the next ${fmt(horizonH)} h)`);
+  if (slowest <= limit) return placed;
+  return [
+    `moves ${fmt(slowest)} arcsec/s at its slowest in the next ${fmt(horizonH)} h, mount limit ${limit} arcsec/s`,
+    ...placed.filter((reason) => !reason.includes('arcsec/s')),
+  ];
 }
 
 function planSite(input: PlanObjectInput, site: Site, startMs: number, endMs: number, weights: ScoreWeights): SitePlan {
@@ -415,7 +422,7 @@ function planSite(input: PlanObjectInput, site: Site, startMs: number, endMs: nu
     closesBecause: w.ends.detail,
   }));
   if (found.windows.length === 0) {
-    out.reasons = found.reasons.map((reason) => noWindowReason(reason, track, site, horizonH));
+    out.reasons = noWindowReasons(found.reasons, track, site, horizonH);
     return out;
   }
   if (track.rows.every((row) => row.mag === null)) {

@@ -1,0 +1,87 @@
+import { createHash } from 'node:crypto';
+import type { Site } from '../config/schema.js';
+import type { TrackletObservation } from '../orbit/estimate-types.js';
+import { estimateObject, type NoticeOrbitBlock } from '../orbit/estimation/index.js';
+import type { ScoreWeights } from './score.js';
+import { planObject, type ObjectPlan, type PlannedRequest } from './plan-object.js';
+
+/** What one assessment of an object takes: its tracklet, its orbit block if any, the sites and a clock. */
+export interface AssessmentInput {
+  objectId: string;
+  observations: TrackletObservation[];
+  orbit: NoticeOrbitBlock | null;
+  now: Date;
+  sites: Site[];
+  horizonH: number;
+  members: number;
+  weights?: Partial<ScoreWeights>;
+  /** Seed of the virtual orbits; default derived from the object id, so a replan of the same data gives the same answer. */
+  seed?: number;
+}
+
+export interface Assessment {
+  plan: ObjectPlan;
+  requests: PlannedRequest[];
+  /** Stored as the assessment's summary: the estimate and, per site, windows, requests' scores and reasons. */
+  summary: {
+    objectId: string;
+    assessedAt: string;
+    firstObservedAt: string;
+    estimate: unknown;
+    horizonEnd: string;
+    sites: { siteId: string; siteName: string; windows: unknown[]; reasons: string[]; requests: { kind: string; score: number; windowStart: string; windowEnd: string; factors: unknown }[] }[];
+  };
+  /** Set when no site has any window in the horizon. */
+  retireReason: string | null;
+}
+
+/** A stable 31-bit seed from the object id (SHA-256), so the ensemble of an object does not change between replans of the same data. */
+export function seedForObject(objectId: string): number {
+  return createHash('sha256').update(objectId).digest().readUInt32BE(0) & 0x7fffffff;
+}
+
+/**
+ * The whole assessment of one object: orbit estimate (ranging, or the orbit
+ * block with its ensemble), then the plan for every site. Pure apart from the
+ * clock passed in; the same input gives the same answer.
+ */
+export function assessObject(input: AssessmentInput): Assessment {
+  const estimate = estimateObject({
+    objectId: input.objectId,
+    observations: input.observations,
+    orbit: input.orbit ?? undefined,
+    now: input.now,
+    members: input.members,
+    seed: input.seed ?? seedForObject(input.objectId),
+  });
+  const plan = planObject({
+    estimate,
+    sites: input.sites,
+    now: input.now,
+    horizonH: input.horizonH,
+    ...(input.weights ? { weights: input.weights } : {}),
+  });
+  const requests = plan.sites.flatMap((s) => s.requests);
+  const noWindow = plan.sites.every((s) => s.windows.length === 0);
+  return {
+    plan,
+    requests,
+    summary: {
+      objectId: input.objectId,
+      assessedAt: input.now.toISOString(),
+      firstObservedAt: estimate.firstObservedAt,
+      estimate: estimate.summary,
+      horizonEnd: plan.horizonEnd,
+      sites: plan.sites.map((s) => ({
+        siteId: s.siteId,
+        siteName: s.siteName,
+        windows: s.windows,
+        reasons: s.reasons,
+        requests: s.requests.map((r) => ({ kind: r.kind, score: r.score, windowStart: r.windowStart, windowEnd: r.windowEnd, factors: r.body.score })),
+      })),
+    },
+    retireReason: noWindow
+      ? `no observable window at any site in the next ${input.horizonH} h (${plan.sites.map((s) => `${s.siteId}: ${s.reasons[0] ?? 'no window'}`).join('; ')})`
+      : null,
+  };
+}
