@@ -6,17 +6,23 @@ import type { Config } from './config/schema.js';
 import { feedSourceName } from './intake/feed.js';
 import { ensureInboxFolders, seedInbox } from './intake/inbox.js';
 import { createIntake } from './intake/ingest.js';
+import { createAssessmentService, type AssessmentService } from './jobs/assessment-jobs.js';
 import { intakeJobs } from './jobs/intake-jobs.js';
 import { requestJobs } from './jobs/request-jobs.js';
 import { webhookJobs } from './jobs/webhooks.js';
 import { createServiceMetrics } from './telemetry/metrics.js';
 import { createJobRunner, type JobRunner } from './jobs/scheduler.js';
 import { openStore, type Store } from './store/index.js';
+import { assessInputFor } from './jobs/assessment-runner.js';
+import { estimateObject, type NoticeOrbitBlock } from './orbit/estimation/index.js';
+import type { ObjectEstimate } from './orbit/estimate-types.js';
+import { seedForObject } from './planning/assess.js';
 
 export interface RunningService {
   app: FastifyInstance;
   store: Store;
   jobs: JobRunner;
+  assessment: AssessmentService;
   logger: Logger;
   /** The address it listens on, e.g. http://127.0.0.1:8470 */
   url: string;
@@ -32,6 +38,37 @@ export interface StartOptions {
   demoNoticesDir?: string;
   /** Start the cron jobs (default true). */
   schedule?: boolean;
+  /** Worker threads for assessments (default from config, else cores - 1). */
+  workers?: number;
+}
+
+/**
+ * On-demand estimates for the API (ephemeris, pictures), cached per object while
+ * its tracklet is unchanged, for at most ten minutes.
+ */
+function createEstimateCache(store: Store, members: number, clock: () => Date): (objectId: string) => ObjectEstimate | null {
+  const cache = new Map<string, { key: string; at: number; estimate: ObjectEstimate }>();
+  return (objectId) => {
+    const object = store.objects.getObject(objectId);
+    if (!object) return null;
+    const now = clock();
+    const input = assessInputFor(store, objectId, now);
+    if (input.observations.length === 0 && !input.orbit) return null;
+    const key = `${input.observations.length}|${input.observations.at(-1)?.t ?? ''}|${object.orbit ?? ''}`;
+    const hit = cache.get(objectId);
+    if (hit && hit.key === key && now.getTime() - hit.at < 600_000) return hit.estimate;
+    const estimate = estimateObject({
+      objectId,
+      observations: input.observations,
+      orbit: (input.orbit as NoticeOrbitBlock | null) ?? undefined,
+      now,
+      members,
+      seed: seedForObject(objectId),
+    });
+    if (cache.size > 200) cache.delete(cache.keys().next().value as string);
+    cache.set(objectId, { key, at: now.getTime(), estimate });
+    return estimate;
+  };
 }
 
 /** Starts the service: migrate, seed the demo inbox, listen, schedule jobs, then read the inbox once. */
@@ -59,6 +96,7 @@ export async function startService(options: StartOptions): Promise<RunningServic
     observe: (source, r) => metrics.noticesReceived.inc({ source: source.split(':')[0] ?? source, result: r.status }),
   });
   const app = await buildApp({
+    estimateFor: createEstimateCache(store, config.planning.members, clock),
     config,
     store,
     clock,
@@ -70,32 +108,41 @@ export async function startService(options: StartOptions): Promise<RunningServic
   });
   const jobLog = logger.child({ part: 'jobs' });
   const log = { info: (o: object, m: string) => jobLog.info(o, m), warn: (o: object, m: string) => jobLog.warn(o, m) };
+  const assessment = createAssessmentService({ config, store, clock, metrics, log, ...(options.workers !== undefined ? { workers: options.workers } : {}) });
   const jobs = createJobRunner(
-    [...intakeJobs({ config, store, intake, clock, log, metrics }), ...requestJobs({ config, store, clock, log }), ...webhookJobs({ config, store, clock, metrics, log })],
+    [
+      ...intakeJobs({ config, store, intake, clock, log, metrics }),
+      ...assessment.jobs,
+      ...requestJobs({ config, store, clock, log }),
+      ...webhookJobs({ config, store, clock, metrics, log }),
+    ],
     (job, err) => jobLog.error({ job, err }, 'job failed'),
   );
   let address: string;
   try {
     address = await app.listen({ host: config.service.host, port: config.service.port });
   } catch (err) {
+    await assessment.close();
     store.db.close();
     throw err;
   }
   logger.info({ url: address, database: config.service.databasePath, inbox: inbox.path, sites: config.sites.map((s) => s.id) }, 'nightjar listening');
   if (options.schedule !== false) jobs.start();
   // Read what is already waiting without waiting for the first tick (settled files only).
-  void jobs.runNow('scan-inbox');
+  void jobs.runNow('scan-inbox').then(() => jobs.runNow('assess'));
 
   let stopping: Promise<void> | null = null;
   return {
     app,
     store,
     jobs,
+    assessment,
     logger,
     url: address,
     stop() {
       stopping ??= (async () => {
         await jobs.stop();
+        await assessment.close();
         await app.close();
         store.db.close();
         logger.info('nightjar stopped');

@@ -205,14 +205,33 @@ export const serviceSchema = z
     bodyLimitBytes: z.number().int().min(1024).max(64 * 1024 * 1024).default(4 * 1024 * 1024),
     /** Requests per minute allowed per token (or per address without one); 429 beyond. */
     rateLimitPerMinute: z.number().int().min(1).max(1_000_000).default(1200),
+    /** Worker threads for assessments; default: cores - 1, at least 1. */
+    workers: z.number().int().min(1).max(64).optional(),
     /** Clock skew allowed for notice times in the future, minutes. */
     futureToleranceMin: finite().min(0).max(1440).default(5),
   })
   .strict();
 
+const weight = () => finite().min(0).max(100).optional();
+
 export const planningSchema = z
   .object({
     horizonH: positive().max(240).default(36),
+    /** Virtual orbits per tracklet-only estimate. */
+    members: z.number().int().min(50).max(20_000).default(1000),
+    /** Score weights; missing ones take the documented defaults (docs/scoring.md). */
+    weights: z
+      .object({
+        urgency: weight(),
+        value: weight(),
+        feasibility: weight(),
+        freshness: weight(),
+        size: weight(),
+        closeApproach: weight(),
+        neoLikeness: weight(),
+      })
+      .strict()
+      .default({}),
   })
   .strict()
   .prefault({});

@@ -1,0 +1,49 @@
+/**
+ * Worker-thread entry: runs one assessment (orbit estimate and plan) per task,
+ * off the API thread. Input and output are plain data.
+ */
+import type { Site } from '../config/schema.js';
+import type { NoticeOrbitBlock } from '../orbit/estimation/index.js';
+import { assessObject } from '../planning/assess.js';
+import type { ScoreWeights } from '../planning/score.js';
+import type { AssessInput, AssessOutput } from './assessment-runner.js';
+import { serveWorkerTasks } from './worker-pool.js';
+
+export interface AssessTask {
+  input: AssessInput;
+  sites: Site[];
+  horizonH: number;
+  members: number;
+  weights: Partial<ScoreWeights>;
+}
+
+/** The assessment as the runner stores it. */
+export function runAssessTask(task: AssessTask): AssessOutput {
+  const a = assessObject({
+    objectId: task.input.objectId,
+    observations: task.input.observations,
+    orbit: (task.input.orbit as NoticeOrbitBlock | null) ?? null,
+    now: new Date(task.input.nowIso),
+    sites: task.sites,
+    horizonH: task.horizonH,
+    members: task.members,
+    weights: task.weights,
+  });
+  return {
+    summary: a.summary,
+    retireReason: a.retireReason,
+    requests: a.requests.map((r) => ({
+      siteId: r.siteId,
+      kind: r.kind,
+      score: r.score,
+      windowStart: r.windowStart,
+      windowEnd: r.windowEnd,
+      recommendedStart: r.recommendedStart,
+      expiresAt: r.expiresAt,
+      body: r.body,
+    })),
+  };
+}
+
+const { isMainThread } = await import('node:worker_threads');
+if (!isMainThread) void serveWorkerTasks(runAssessTask);
