@@ -116,7 +116,7 @@ export function renderNightChart(chart: NightChart): string {
     const box: Box = { x: at.x - 2, y: at.y - 12, w, h: 15 };
     for (let i = 0; i < 12 && placed.some((p) => overlaps(p, box)); i++) box.y -= 15;
     placed.push(box);
-    return el('text', { x: box.x + 2, y: box.y + 12, class: 'label', ...extra }, esc(text));
+    return el('text', { x: box.x + 2, y: box.y + 12, class: 'label', ...extra, 'paint-order': 'stroke', stroke: '#ffffff', 'stroke-width': 3 }, esc(text));
   };
 
   // Title.
@@ -197,7 +197,10 @@ export function renderNightChart(chart: NightChart): string {
       }),
     );
     const peak = chart.moon.reduce((a, b) => (b.altDeg > a.altDeg ? b : a));
-    if (peak.altDeg > 0) parts.push(label(`Moon ${Math.round(chart.moonIlluminatedFraction * 100)}%`, { x: x(peak.t) - 20, y: y(peak.altDeg) - 6 }, { fill: '#555' }));
+    if (peak.altDeg > 0) {
+      const text = `Moon ${Math.round(chart.moonIlluminatedFraction * 100)}%`;
+      parts.push(label(text, { x: Math.min(Math.max(x(peak.t) - 20, PLOT.left + 4), PLOT.right - text.length * 6.6 - 4), y: Math.max(y(peak.altDeg) - 6, PLOT.top + 14) }, { fill: '#555' }));
+    }
   }
 
   // Objects: the curve, then the windows on it.
@@ -217,17 +220,17 @@ export function renderNightChart(chart: NightChart): string {
         'clip-path': 'url(#night-plot)',
       }),
     );
-    for (const w of obj.windows) {
+    obj.windows.forEach((w, k) => {
       const inside = track.filter((p) => p.t >= w.startUtc && p.t <= w.endUtc);
-      const along = inside.length >= 2 ? inside : null;
-      const barXY: (readonly [number, number])[] = along
-        ? along.map((p) => [x(p.t), y(p.altDeg)] as const)
-        : [
-            [x(clampT(w.startUtc)), PLOT.bottom - 14],
-            [x(clampT(w.endUtc)), PLOT.bottom - 14],
-          ];
-      const text = `${obj.objectId} ${KIND_SHORT[w.kind] ?? w.kind} ${num(w.score, 0)}${w.state === 'leased' ? ' (leased)' : ''}`;
-      const first = barXY[0]!;
+      // Each window of the object sits a little below its curve so coinciding windows stay visible.
+      const offsetPx = 5 + 7 * k;
+      const barXY: (readonly [number, number])[] =
+        inside.length >= 2
+          ? inside.map((p) => [x(p.t), y(p.altDeg) + offsetPx] as const)
+          : [
+              [x(clampT(w.startUtc)), PLOT.bottom - 14 - 7 * k],
+              [x(clampT(w.endUtc)), PLOT.bottom - 14 - 7 * k],
+            ];
       parts.push(
         el(
           'g',
@@ -242,10 +245,18 @@ export function renderNightChart(chart: NightChart): string {
             'data-end': w.endUtc.toISOString(),
           },
           el('title', {}, esc(`${obj.objectId} ${w.kind} request ${w.requestId}, score ${num(w.score, 1)}, ${hhmmUtc(w.startUtc)}–${hhmmUtc(w.endUtc)} UTC, ${w.state}`)) +
-            el('polyline', { points: points(barXY), fill: 'none', stroke: style.stroke, 'stroke-width': 7, 'stroke-opacity': 0.45, 'stroke-linecap': 'butt' }) +
-            label(text, { x: first[0], y: first[1] - 8 }, { fill: style.stroke }),
+            el('polyline', { points: points(barXY), fill: 'none', stroke: style.stroke, 'stroke-width': 5, 'stroke-opacity': 0.5, 'stroke-linecap': 'butt' }),
         ),
       );
+    });
+    // One label per object: its designation, then each window's kind and score.
+    const firstWindow = [...obj.windows].sort((a, b) => a.startUtc.getTime() - b.startUtc.getTime())[0];
+    if (firstWindow) {
+      const startPoint = track.find((p) => p.t >= firstWindow.startUtc && p.t <= firstWindow.endUtc);
+      const lx = x(clampT(firstWindow.startUtc));
+      const ly = startPoint ? y(startPoint.altDeg) - 8 : PLOT.bottom - 24;
+      const text = `${obj.objectId}: ${obj.windows.map((w) => `${KIND_SHORT[w.kind] ?? w.kind} ${num(w.score, 0)}${w.state === 'leased' ? ' leased' : ''}`).join(', ')}`;
+      parts.push(label(text, { x: Math.min(lx + 4, PLOT.right - text.length * 6.6), y: ly }, { fill: style.stroke, class: 'object-label', 'data-object-id': obj.objectId }));
     }
   });
 
@@ -267,7 +278,7 @@ export function renderNightChart(chart: NightChart): string {
   row(el('rect', { x: lx, y: '__Y__', width: 26, height: 10, fill: '#d4dbe6', stroke: '#999', transform: 'translate(0 -5)' }), 'dark');
   row(el('line', { x1: lx, x2: lx + 26, y1: '__Y__', y2: '__Y__', stroke: '#c00000', 'stroke-width': 1.5, 'stroke-dasharray': '6 3' }), 'altitude limit');
   row(el('line', { x1: lx, x2: lx + 26, y1: '__Y__', y2: '__Y__', stroke: '#7a7a7a', 'stroke-width': 2, 'stroke-dasharray': '1 4' }), `Moon (${Math.round(chart.moonIlluminatedFraction * 100)}% lit)`);
-  row(el('line', { x1: lx, x2: lx + 26, y1: '__Y__', y2: '__Y__', stroke: '#555', 'stroke-width': 7, 'stroke-opacity': 0.45 }), 'request window');
+  row(el('line', { x1: lx, x2: lx + 26, y1: '__Y__', y2: '__Y__', stroke: '#555', 'stroke-width': 5, 'stroke-opacity': 0.5 }), 'request window');
   chart.objects.forEach((obj, i) => {
     const style = seriesStyle(i);
     row(

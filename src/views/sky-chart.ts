@@ -142,7 +142,7 @@ export function renderSkyChart(input: SkyChartInput): string {
     { name: 'close', x0: 30 + PANEL + 40, y0: 96, extentArcsec: closeExtent },
   ];
   const parts: string[] = [];
-  parts.push(el('text', { x: 30, y: 26, 'font-size': 16, 'font-weight': 'bold' }, esc(`${input.objectId} on the sky at ${input.timeUtc.toISOString()} from ${input.siteName}`)));
+  parts.push(el('text', { x: 30, y: 26, 'font-size': 16, 'font-weight': 'bold' }, esc(`${input.objectId} on the sky at ${input.timeUtc.toISOString().replace('.000Z', 'Z')} (UTC), seen from ${input.siteId}`)));
   parts.push(
     el(
       'text',
@@ -264,8 +264,10 @@ function renderPanel(panel: Panel, input: SkyChartInput, members: { xi: number; 
         transform: `rotate(${num(rotationFor(paDeg), 3)} ${num(cx)} ${num(cy)})`,
       }),
     );
-    const endXi = (l / 2) * Math.sin(paDeg * RAD);
-    const endEta = (l / 2) * Math.cos(paDeg * RAD);
+    // Label the end of the slit that points away from the motion, so the two labels stay apart.
+    const away = Math.sin(paDeg * RAD) * motion.xi + Math.cos(paDeg * RAD) * motion.eta > 0 ? -1 : 1;
+    const endXi = away * (l / 2) * Math.sin(paDeg * RAD);
+    const endEta = away * (l / 2) * Math.cos(paDeg * RAD);
     if (panel.name === 'wide') inner.push(el('text', { x: sx(endXi) + 4, y: sy(endEta) - 4, fill: '#274e13' }, esc(`slit ${num(w, 1)}″`)));
   }
   // Virtual orbits.
@@ -333,7 +335,11 @@ function renderPanel(panel: Panel, input: SkyChartInput, members: { xi: number; 
       ),
     );
     if (panel.name === 'wide') {
-      inner.push(el('text', { x: mx + 6 * ux + 4, y: my + 6 * uy + 4, fill: '#7f3f00' }, esc(`motion in 10 min: ${formatArcsec(Math.hypot(motion.xi, motion.eta))}`)));
+      const text = `motion in 10 min: ${formatArcsec(Math.hypot(motion.xi, motion.eta))}`;
+      const rightEdge = panel.x0 + PANEL - 8;
+      const tx = Math.min(Math.max(mx + 6 * ux + 4, panel.x0 + 8), rightEdge - text.length * 6.6);
+      const ty = Math.min(Math.max(my + 6 * uy + 4, panel.y0 + 16), panel.y0 + PANEL - 30);
+      inner.push(el('text', { x: tx, y: ty, fill: '#7f3f00', 'paint-order': 'stroke', stroke: '#ffffff', 'stroke-width': 3 }, esc(text)));
     }
   }
   out.push(el('g', { 'clip-path': `url(#${clipId})` }, inner.join('')));
