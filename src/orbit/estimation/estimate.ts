@@ -7,6 +7,7 @@ import { astrometricPlace, DEFAULT_SLOPE_G, ensemblePlaces, observerGeometry, ro
 import type { EstimateSummary, ObjectEstimate, Percentiles, ResidualRow, TrackletObservation } from '../estimate-types.js';
 import { streamEnsemble } from '../propagate.js';
 import { ttFromTtIso, ttFromUtc, utcFromTt } from '../time.js';
+import { batchedEnsemblePlaces, batchedStream } from './batches.js';
 import { fitAttributable, type Attributable } from './attributable.js';
 import { EstimationInputError } from './errors.js';
 import { prepareObservations, type PreparedObservation } from './observations.js';
@@ -76,6 +77,8 @@ export const ALBEDO_RANGE = { min: 0.05, max: 0.25 } as const;
 export const ORBIT_BLOCK_DEFAULT_SIGMA = { qRelative: 1e-3, e: 1e-3, angleDeg: 0.01, tpDays: 0.01 } as const;
 /** Spacing of the close-approach search samples, days; the minimum between samples is found by linear relative motion. */
 const APPROACH_SAMPLE_DAYS = 0.05;
+/** Step fraction for the close-approach search (coarser than the ephemeris default 0.02: distances to a few per cent suffice there). */
+const APPROACH_STEP_FRACTION = 0.05;
 
 function percentiles(values: ArrayLike<number>): Percentiles {
   const sorted = Float64Array.from(values as ArrayLike<number>).sort();
@@ -169,24 +172,25 @@ function minimumGeocentricDistances(states: readonly HeliocentricState[], startT
   const times = Array.from({ length: sampleCount }, (_, k) => startTt + (k * days) / (sampleCount - 1));
   const half = days / (sampleCount - 1) / 2;
   const best = new Float64Array(n).fill(Infinity);
-  streamEnsemble(
+  const earthAt = times.map((tt) => HelioState(Body.Earth, MakeTime(utcFromTt(tt))));
+  batchedStream(
     states,
     times,
-    (k, pos, vel) => {
-      const earth = HelioState(Body.Earth, MakeTime(utcFromTt(times[k]!)));
-      for (let j = 0; j < n; j++) {
-        const dx = pos[3 * j]! - earth.x, dy = pos[3 * j + 1]! - earth.y, dz = pos[3 * j + 2]! - earth.z;
-        const wx = vel[3 * j]! - earth.vx, wy = vel[3 * j + 1]! - earth.vy, wz = vel[3 * j + 2]! - earth.vz;
-        const w2 = wx * wx + wy * wy + wz * wz;
-        let s = w2 > 0 ? -(dx * wx + dy * wy + dz * wz) / w2 : 0;
-        if (s > half) s = half;
-        if (s < -half) s = -half;
-        if (k === 0 && s < 0) s = 0;
-        if (k === sampleCount - 1 && s > 0) s = 0;
-        const d = Math.hypot(dx + s * wx, dy + s * wy, dz + s * wz);
-        if (d < best[j]!) best[j] = d;
-      }
+    days,
+    (k, j, pos, vel, o) => {
+      const earth = earthAt[k]!;
+      const dx = pos[o]! - earth.x, dy = pos[o + 1]! - earth.y, dz = pos[o + 2]! - earth.z;
+      const wx = vel[o]! - earth.vx, wy = vel[o + 1]! - earth.vy, wz = vel[o + 2]! - earth.vz;
+      const w2 = wx * wx + wy * wy + wz * wz;
+      let s = w2 > 0 ? -(dx * wx + dy * wy + dz * wz) / w2 : 0;
+      if (s > half) s = half;
+      if (s < -half) s = -half;
+      if (k === 0 && s < 0) s = 0;
+      if (k === sampleCount - 1 && s > 0) s = 0;
+      const d = Math.hypot(dx + s * wx, dy + s * wy, dz + s * wz);
+      if (d < best[j]!) best[j] = d;
     },
+    { stepFraction: APPROACH_STEP_FRACTION },
   );
   return best;
 }
@@ -375,7 +379,8 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
   const firstObservedAt = observations.length > 0 ? observations[0]!.timeUtc.toISOString() : utcFromTt(epochTt).toISOString();
   const allStates = [nominal, ...states];
   const ephemeris = (location: GeodeticLocation, timesUtc: readonly Date[]): EstimatedEphemerisRow[] => {
-    const places = ensemblePlaces(allStates, location, timesUtc);
+    const span = timesUtc.reduce((m, d) => Math.max(m, Math.abs(ttFromUtc(d) - epochTt)), 0);
+    const places = batchedEnsemblePlaces(allStates, location, timesUtc, span);
     const n = places.memberCount;
     const photometry = nominalH === null ? undefined : { hMag: nominalH, g: DEFAULT_SLOPE_G };
     const rows = rowsFromPlaces(places, 0, location, photometry);

@@ -1,0 +1,88 @@
+import { Body, HelioState, MakeTime } from 'astronomy-engine';
+import type { HeliocentricState } from '../elements.js';
+import { ensemblePlaces, type EnsemblePlaces, type Viewpoint } from '../ephemeris.js';
+import { streamEnsemble, type PropagationOptions } from '../propagate.js';
+import { utcFromTt } from '../time.js';
+
+/**
+ * Batching of an ensemble for propagation. The integrator takes one step size
+ * for all members, set by the member closest to a planet; a cloud from a short
+ * arc usually holds a few members that pass very near the Earth, and they
+ * would set tiny steps for all. Members are therefore sorted by how near their
+ * straight-line geocentric track comes to the Earth within `windowDays`
+ * (relative to the speed: the encounter time scale) and propagated in batches
+ * of `BATCH_SIZE`, so only the batches holding close passers take small steps.
+ * The results are the same as one call, member by member.
+ */
+export const BATCH_SIZE = 128;
+
+/** Member indices ordered from the slowest-changing to the fastest encounter, split into batches. */
+export function encounterBatches(states: readonly HeliocentricState[], windowDays: number, batchSize = BATCH_SIZE): number[][] {
+  if (states.length === 0) return [];
+  const epoch = states[0]!.tt;
+  const earth = HelioState(Body.Earth, MakeTime(utcFromTt(epoch)));
+  const score = states.map((s) => {
+    const dx = s.x - earth.x, dy = s.y - earth.y, dz = s.z - earth.z;
+    const wx = s.vx - earth.vx, wy = s.vy - earth.vy, wz = s.vz - earth.vz;
+    const w2 = wx * wx + wy * wy + wz * wz;
+    const window = Math.abs(windowDays);
+    let t = w2 > 0 ? -(dx * wx + dy * wy + dz * wz) / w2 : 0;
+    t = Math.min(Math.max(t, -window), window);
+    const d = Math.hypot(dx + t * wx, dy + t * wy, dz + t * wz);
+    return d / Math.sqrt(w2 || 1e-30);
+  });
+  const order = states.map((_, i) => i).sort((a, b) => score[b]! - score[a]!);
+  const out: number[][] = [];
+  for (let i = 0; i < order.length; i += batchSize) out.push(order.slice(i, i + batchSize));
+  return out;
+}
+
+/** ensemblePlaces in encounter batches (same layout: timeIndex * memberCount + member). */
+export function batchedEnsemblePlaces(states: readonly HeliocentricState[], viewpoint: Viewpoint, timesUtc: readonly Date[], windowDays: number, options: PropagationOptions = {}): EnsemblePlaces {
+  const n = states.length;
+  const size = n * timesUtc.length;
+  const out = {
+    raDeg: new Float64Array(size),
+    decDeg: new Float64Array(size),
+    raRateArcsecPerS: new Float64Array(size),
+    decRateArcsecPerS: new Float64Array(size),
+    deltaAu: new Float64Array(size),
+    rAu: new Float64Array(size),
+    phaseDeg: new Float64Array(size),
+    elongationDeg: new Float64Array(size),
+  };
+  for (const batch of encounterBatches(states, windowDays)) {
+    const places = ensemblePlaces(batch.map((i) => states[i]!), viewpoint, timesUtc, options);
+    for (const key of Object.keys(out) as (keyof typeof out)[]) {
+      const from = places[key];
+      const to = out[key];
+      for (let k = 0; k < timesUtc.length; k++) {
+        for (let b = 0; b < batch.length; b++) to[k * n + batch[b]!] = from[k * batch.length + b]!;
+      }
+    }
+  }
+  return { timesUtc, memberCount: n, ...out };
+}
+
+/**
+ * streamEnsemble in encounter batches: `sink(timeIndex, member, position, velocity)`
+ * per member (arrays reused; copy what must outlive the call).
+ */
+export function batchedStream(
+  states: readonly HeliocentricState[],
+  timesTt: readonly number[],
+  windowDays: number,
+  sink: (timeIndex: number, member: number, position: Float64Array, velocity: Float64Array, offset: number) => void,
+  options: PropagationOptions = {},
+): void {
+  for (const batch of encounterBatches(states, windowDays)) {
+    streamEnsemble(
+      batch.map((i) => states[i]!),
+      timesTt,
+      (k, pos, vel) => {
+        for (let b = 0; b < batch.length; b++) sink(k, batch[b]!, pos, vel, 3 * b);
+      },
+      options,
+    );
+  }
+}
