@@ -9,7 +9,9 @@ import { requireFinite } from './errors.js';
  * imager's shorter side, overlapped by `overlapFraction` (10 % by default,
  * common practice for mosaics so that a target on a seam is not lost); keep the
  * tiles that touch the ellipse; offsets are on the tangent plane (small-field
- * approximation: RA offset = east offset / cos Dec). Pointings are ordered by
+ * gnomonic projection about the nominal position, inverted as in Calabretta &
+ * Greisen 2002, A&A 395, 1077, so a pointing lies at its stated offset to within
+ * rho^3/3 of the offset rho in radians). Pointings are ordered by
  * distance from the nominal position, nearest first, since the nominal position
  * is the most likely.
  */
@@ -60,7 +62,8 @@ export function searchPattern(input: SearchPatternInput): SearchPattern {
   const nV = Math.max(1, Math.ceil((2 * b - input.fieldArcsec) / stride + 1 - 1e-9));
   const half = input.fieldArcsec / 2;
   const pa = (input.paDeg * Math.PI) / 180;
-  const cosDec = Math.max(Math.cos((input.decDeg * Math.PI) / 180), 1e-6);
+  const dec0 = (input.decDeg * Math.PI) / 180;
+  const ra0 = (input.raDeg * Math.PI) / 180;
   const tiles: { u: number; v: number }[] = [];
   for (let i = 0; i < nU; i++) {
     for (let j = 0; j < nV; j++) {
@@ -77,10 +80,16 @@ export function searchPattern(input: SearchPatternInput): SearchPattern {
   const pointings = tiles.map(({ u, v }) => {
     const east = u * Math.sin(pa) + v * Math.cos(pa);
     const north = u * Math.cos(pa) - v * Math.sin(pa);
-    const ra = input.raDeg + east / 3600 / cosDec;
+    // Standard coordinates (radians) to RA/Dec: the inverse gnomonic projection.
+    const xi = (east / 3600) * (Math.PI / 180);
+    const eta = (north / 3600) * (Math.PI / 180);
+    const denominator = Math.cos(dec0) - eta * Math.sin(dec0);
+    const ra = ra0 + Math.atan2(xi, denominator);
+    const dec = Math.atan2(Math.sin(dec0) + eta * Math.cos(dec0), Math.hypot(xi, denominator));
+    const raDeg = (ra * 180) / Math.PI;
     return {
-      raDeg: ((ra % 360) + 360) % 360,
-      decDeg: Math.max(-90, Math.min(90, input.decDeg + north / 3600)),
+      raDeg: ((raDeg % 360) + 360) % 360,
+      decDeg: (dec * 180) / Math.PI,
       offsetEastArcsec: Math.round(east * 10) / 10,
       offsetNorthArcsec: Math.round(north * 10) / 10,
     };

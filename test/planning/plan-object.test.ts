@@ -242,3 +242,34 @@ describe('planObject: every window edge re-evaluated independently', () => {
     });
   }
 });
+
+describe('planObject: the uncertainty against the fields', () => {
+  const site = northernSite();
+  const place = { timeUtc: NOW, raDeg: 110, decDeg: 70, distanceAu: 0.05, radialKmPerS: 2, transverseKmPerS: 5, motionPaDeg: 60 };
+
+  it('a 3-sigma region larger than the imager field gets a light curve with a search pattern, and no colours or spectrum yet', () => {
+    // 1-sigma 200 arcsec: 3-sigma region 1200 arcsec across, the field 798 arcsec.
+    const loose = testObject('TM27A07', place, 20, '2027-01-10T15:00:00Z', { majorArcsec: 200, growthArcsecPerH: 0, axisRatio: 0.3 });
+    const sitePlan = plan(loose, site).sites[0]!;
+    expect(sitePlan.requests.map((r) => r.kind)).toEqual(['photometry']);
+    const pattern = sitePlan.requests[0]!.body.searchPattern!;
+    expect(pattern.pointings.length).toBeGreaterThan(1);
+    expect(pattern.pointings.length).toBeLessThanOrEqual(9);
+    expect(sitePlan.reasons.some((r) => r.startsWith('colours: 3-sigma region 1200 arcsec across exceeds the imager field 798 arcsec'))).toBe(true);
+  });
+
+  it('a 3-sigma region needing more than nine pointings needs astrometry first', () => {
+    const lost = testObject('TM27A08', place, 20, '2027-01-10T15:00:00Z', { majorArcsec: 3000, growthArcsecPerH: 0, axisRatio: 0.5 });
+    const sitePlan = plan(lost, site).sites[0]!;
+    expect(sitePlan.requests).toEqual([]);
+    expect(sitePlan.reasons.find((r) => r.startsWith('photometry:'))).toMatch(/3-sigma region 18000 arcsec across exceeds the imager field 798 arcsec; covering it would take \d+ pointings \(more than 9\): needs astrometry first/);
+  });
+
+  it('a region inside the imager field but wider than the acquisition field gets no spectrum', () => {
+    // 3-sigma region 300 arcsec across: fits 798, not 180.
+    const mid = testObject('TM27A09', place, 20, '2027-01-10T15:00:00Z', { majorArcsec: 50, growthArcsecPerH: 0, axisRatio: 0.3 });
+    const sitePlan = plan(mid, site).sites[0]!;
+    expect(sitePlan.requests.map((r) => r.kind)).toEqual(['photometry', 'colours']);
+    expect(sitePlan.reasons).toContain('spectrum: 3-sigma region 300 arcsec across exceeds the acquisition field 180 arcsec');
+  });
+});
