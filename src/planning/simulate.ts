@@ -188,7 +188,7 @@ export function simulateNight(input: SimulateInput): SimulatedNotice[] {
       return obs;
     });
     const el = perihelionElementsFromState(state);
-    const wrap = (deg: number) => round(((deg % 360) + 360) % 360, 6) % 360;
+    const wrap = (deg: number) => round(((deg % 360) + 360) % 360, 12) % 360;
     const notice = {
       format: 'nightjar.notice.v1',
       noticeId: `hfs-sim-${input.now.toISOString().slice(0, 10)}-${Math.floor(input.seed)}-${String(k + 1).padStart(3, '0')}`,
@@ -199,9 +199,10 @@ export function simulateNight(input: SimulateInput): SimulatedNotice[] {
       observations,
       orbit: {
         epoch: `${ttIsoFromTt(ttFromUtc(input.now))}Z`,
-        q: round(el.qAu, 9),
-        e: round(el.e, 9),
-        i: round(el.iDeg, 6),
+        // Digits enough that the rounding moves a flyby at 0.0003 au by under 0.01 arcsec.
+        q: round(el.qAu, 14),
+        e: round(el.e, 14),
+        i: round(el.iDeg, 12),
         node: wrap(el.nodeDeg),
         peri: wrap(el.periDeg),
         tp: `${ttIsoFromTt(el.tpTt)}Z`,
