@@ -7,6 +7,7 @@ import { feedSourceName } from './intake/feed.js';
 import { ensureInboxFolders, seedInbox } from './intake/inbox.js';
 import { createIntake } from './intake/ingest.js';
 import { createAssessmentService, type AssessmentService } from './jobs/assessment-jobs.js';
+import { demoJobs, writeSimulatedNotices } from './jobs/demo-jobs.js';
 import { intakeJobs } from './jobs/intake-jobs.js';
 import { requestJobs } from './jobs/request-jobs.js';
 import { webhookJobs } from './jobs/webhooks.js';
@@ -84,8 +85,14 @@ export async function startService(options: StartOptions): Promise<RunningServic
   const inbox = config.service.inbox;
   ensureInboxFolders(inbox.path);
   if (inbox.seedDemo) {
-    const seeded = seedInbox(inbox.path, options.demoNoticesDir ?? DEMO_NOTICES_DIR);
-    if (seeded.length > 0) logger.info({ inbox: inbox.path, files: seeded }, 'demo inbox seeded');
+    const seeded = seedInbox(
+      inbox.path,
+      config.demo.simulate
+        ? (dir) => writeSimulatedNotices(dir, clock(), config.demo.seedCount, 1)
+        : (options.demoNoticesDir ?? DEMO_NOTICES_DIR),
+    );
+    if (seeded.length > 0)
+      logger.info({ inbox: inbox.path, files: seeded, simulated: config.demo.simulate }, 'demo inbox seeded');
   }
 
   const metrics = createServiceMetrics();
@@ -115,6 +122,7 @@ export async function startService(options: StartOptions): Promise<RunningServic
       ...assessment.jobs,
       ...requestJobs({ config, store, clock, log }),
       ...webhookJobs({ config, store, clock, metrics, log }),
+      ...demoJobs({ config, clock, log }),
     ],
     (job, err) => jobLog.error({ job, err }, 'job failed'),
   );

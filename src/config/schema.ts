@@ -236,10 +236,23 @@ export const planningSchema = z
   .strict()
   .prefault({});
 
+/** The living demo: simulated notices relative to the clock instead of the fixed example files. */
+export const demoSchema = z
+  .object({
+    /** Seed an empty inbox with simulated notices (else with the fixed files of config/demo/notices). */
+    simulate: z.boolean().default(false),
+    seedCount: z.number().int().min(1).max(200).default(8),
+    /** Drop one new simulated notice into the inbox every this many minutes; 0 = never. */
+    dripMinutes: z.number().int().min(0).max(1440).default(0),
+  })
+  .strict()
+  .prefault({});
+
 export const configSchema = z
   .object({
     service: serviceSchema.prefault({}),
     planning: planningSchema,
+    demo: demoSchema,
     sites: z.array(siteSchema).min(1).max(64),
   })
   .strict()

@@ -35,11 +35,21 @@ export function ensureInboxFolders(inboxPath: string): void {
   for (const sub of ['', 'processed', 'rejected']) mkdirSync(join(inboxPath, sub), { recursive: true });
 }
 
-/** Copies the demo notices into the inbox once (a marker file records that it was done). Returns the files copied. */
-export function seedInbox(inboxPath: string, demoDir: string): string[] {
+/**
+ * Seeds the inbox once (a marker file records that it was done): copies the
+ * notices of `source` when it is a folder, or calls it to write them. Returns the files.
+ */
+export function seedInbox(inboxPath: string, source: string | ((inboxPath: string) => string[])): string[] {
   ensureInboxFolders(inboxPath);
   const marker = join(inboxPath, SEED_MARKER);
-  if (existsSync(marker) || !existsSync(demoDir)) return [];
+  if (existsSync(marker)) return [];
+  if (typeof source === 'function') {
+    const written = source(inboxPath);
+    writeFileSync(marker, `seeded with ${written.length} simulated notices\n`);
+    return written;
+  }
+  const demoDir = source;
+  if (!existsSync(demoDir)) return [];
   const files = readdirSync(demoDir).filter((f) => (INBOX_EXTENSIONS as readonly string[]).includes(extname(f)));
   for (const f of files) {
     const from = join(demoDir, f);
