@@ -10,12 +10,16 @@ export function esc(text: string): string {
 
 export type AttrValue = string | number | boolean | null | undefined;
 
-/** Attribute list ` a="1" b="x"`; null, undefined and false are left out, true writes the bare name="name". */
+/**
+ * Attribute list ` a="1" b="x"`; null, undefined and false are left out, true writes name="name".
+ * Numbers are drawn to 0.01 (pixels), except in data-* attributes, which keep full precision
+ * so the numbers a picture carries equal the JSON ones.
+ */
 export function attrs(values: Record<string, AttrValue>): string {
   let out = '';
   for (const [name, value] of Object.entries(values)) {
     if (value === null || value === undefined || value === false) continue;
-    const text = value === true ? name : typeof value === 'number' ? num(value) : value;
+    const text = value === true ? name : typeof value === 'number' ? (name.startsWith('data-') ? exact(value) : num(value)) : value;
     out += ` ${name}="${esc(text)}"`;
   }
   return out;
@@ -31,6 +35,11 @@ export function num(x: number, digits = 2): string {
   if (!Number.isFinite(x)) throw new RangeError(`cannot draw the non-finite number ${x}`);
   const s = Number(x.toFixed(digits)).toString();
   return s === '-0' ? '0' : s;
+}
+
+function exact(x: number): string {
+  if (!Number.isFinite(x)) throw new RangeError(`cannot write the non-finite number ${x}`);
+  return String(x);
 }
 
 /** Points for a polyline: "x1,y1 x2,y2 ...". */
