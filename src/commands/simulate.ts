@@ -13,7 +13,7 @@ import { UsageError } from './io.js';
  * invented survey station before the given present. Files are written under a
  * temporary name and renamed into place, so an inbox never reads half a file.
  */
-export const HELP = `nightjar simulate [--now ISO] [--count N] [--out DIR] [--seed S] [--config FILE]
+export const HELP = `nightjar simulate [--now ISO] [--count N] [--out DIR] [--seed S] [--with-orbit] [--config FILE]
 
 Invents N discovery notices (nightjar.notice.v1, invented designations and an
 invented sender): close approachers and ordinary objects, some observable
@@ -26,6 +26,7 @@ Options:
   --out DIR       write one JSON file per notice into DIR (created if missing);
                   without it, print the notices as JSON lines
   --seed S        seed of the invention (default 1); the same seed and --now give the same notices
+  --with-orbit    also give each notice its orbit block (default: the tracklet only)
   --config FILE   configuration file, for the intake's clock tolerance (default: NIGHTJAR_CONFIG, else the demo)
   -h, --help      show this help`;
 
@@ -42,6 +43,7 @@ interface Options {
   count?: string | undefined;
   out?: string | undefined;
   seed?: string | undefined;
+  'with-orbit'?: boolean | undefined;
   config?: string | undefined;
   help?: boolean | undefined;
 }
@@ -56,6 +58,7 @@ export const main: CommandMain = async (argv: string[], io: CommandIo) => {
         count: { type: 'string' },
         out: { type: 'string' },
         seed: { type: 'string' },
+        'with-orbit': { type: 'boolean' },
         config: { type: 'string' },
         help: { type: 'boolean', short: 'h' },
       },
@@ -76,7 +79,7 @@ export const main: CommandMain = async (argv: string[], io: CommandIo) => {
   const count = values.count === undefined ? 7 : parseWhole('--count', values.count, 1, 200);
   const seed = values.seed === undefined ? 1 : parseWhole('--seed', values.seed, 0, 2 ** 32 - 1);
   const config = loadConfig({ path: values.config, env: io.env, cwd: io.cwd });
-  const simulated = simulateNight({ now, count, seed });
+  const simulated = simulateNight({ now, count, seed, withOrbit: values['with-orbit'] === true });
   for (const s of simulated) {
     const checked = parseNotice(s.notice, { now, checkAge: true, futureToleranceMin: config.service.futureToleranceMin });
     if (!checked.ok) {

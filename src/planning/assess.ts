@@ -1,6 +1,5 @@
-import { createHash } from 'node:crypto';
 import type { Site } from '../config/schema.js';
-import type { TrackletObservation } from '../orbit/estimate-types.js';
+import { seedForObject, type TrackletObservation } from '../orbit/estimate-types.js';
 import { estimateObject, type NoticeOrbitBlock } from '../orbit/estimation/index.js';
 import type { ScoreWeights } from './score.js';
 import { planObject, type ObjectPlan, type PlannedRequest } from './plan-object.js';
@@ -35,10 +34,7 @@ export interface Assessment {
   retireReason: string | null;
 }
 
-/** A stable 31-bit seed from the object id (SHA-256), so the ensemble of an object does not change between replans of the same data. */
-export function seedForObject(objectId: string): number {
-  return createHash('sha256').update(objectId).digest().readUInt32BE(0) & 0x7fffffff;
-}
+export { seedForObject };
 
 /**
  * The whole assessment of one object: orbit estimate (ranging, or the orbit

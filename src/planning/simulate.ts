@@ -102,6 +102,11 @@ export interface SimulateInput {
   /** Number of notices, 1..200. */
   count: number;
   seed: number;
+  /**
+   * Include the orbit block (elements osculating at `now`, H, G). Default false: survey notices
+   * of new objects carry a tracklet, and the estimator then works from the astrometry alone.
+   */
+  withOrbit?: boolean;
 }
 
 const LETTERS = 'ABCDEFGHJKLMNOPQRSTUVWXYZ';
@@ -137,10 +142,10 @@ function placementFor(kind: SimulatedKind, random: () => number): Placement {
 /**
  * Invents `count` notices. Each object is placed relative to the anti-solar
  * point at `now` (so most are up at night from northern sites), propagated by
- * the orbit module, and observed 3 to 5 times from a survey station, 15 min
+ * the orbit module, and observed 4 to 6 times from a survey station, 15 min
  * apart, the last 20 to 80 min before `now`, with 0.3 arcsec Gaussian
- * astrometric noise and 0.1 mag photometric noise. The notice carries the
- * orbit block (elements osculating at `now`, H and G 0.15).
+ * astrometric noise and 0.1 mag photometric noise. With `withOrbit` the notice
+ * also carries the orbit block (elements osculating at `now`, H and G 0.15).
  */
 export function simulateNight(input: SimulateInput): SimulatedNotice[] {
   requireDate('now', input.now);
@@ -172,7 +177,7 @@ export function simulateNight(input: SimulateInput): SimulatedNotice[] {
       transverseKmPerS: p.transverseKmPerS,
       motionPaDeg: random() * 360,
     });
-    const nObs = 3 + Math.floor(random() * 3);
+    const nObs = 4 + Math.floor(random() * 3);
     const lastMs = nowMs - Math.round((20 + random() * 60) * 60_000);
     const times = Array.from({ length: nObs }, (_, i) => new Date(lastMs - (nObs - 1 - i) * 15 * 60_000));
     const rows = ephemerisFromState(state, p.observer, times, { photometry: { hMag: p.hMag, g: 0.15 } });
@@ -189,6 +194,18 @@ export function simulateNight(input: SimulateInput): SimulatedNotice[] {
     });
     const el = perihelionElementsFromState(state);
     const wrap = (deg: number) => round(((deg % 360) + 360) % 360, 12) % 360;
+    const orbit = {
+      epoch: `${ttIsoFromTt(ttFromUtc(input.now))}Z`,
+      // Digits enough that the rounding moves a flyby at 0.0003 au by under 0.01 arcsec.
+      q: round(el.qAu, 14),
+      e: round(el.e, 14),
+      i: round(el.iDeg, 12),
+      node: wrap(el.nodeDeg),
+      peri: wrap(el.periDeg),
+      tp: `${ttIsoFromTt(el.tpTt)}Z`,
+      H: round(p.hMag, 2),
+      G: 0.15,
+    };
     const notice = {
       format: 'nightjar.notice.v1',
       noticeId: `hfs-sim-${input.now.toISOString().slice(0, 10)}-${Math.floor(input.seed)}-${String(k + 1).padStart(3, '0')}`,
@@ -197,18 +214,7 @@ export function simulateNight(input: SimulateInput): SimulatedNotice[] {
       sender: SIMULATED_SENDER,
       observer: { lat: p.observer.latDeg, lon: p.observer.lonDeg, height: p.observer.heightM },
       observations,
-      orbit: {
-        epoch: `${ttIsoFromTt(ttFromUtc(input.now))}Z`,
-        // Digits enough that the rounding moves a flyby at 0.0003 au by under 0.01 arcsec.
-        q: round(el.qAu, 14),
-        e: round(el.e, 14),
-        i: round(el.iDeg, 12),
-        node: wrap(el.nodeDeg),
-        peri: wrap(el.periDeg),
-        tp: `${ttIsoFromTt(el.tpTt)}Z`,
-        H: round(p.hMag, 2),
-        G: 0.15,
-      },
+      ...(input.withOrbit === true ? { orbit } : {}),
     };
     out.push({ kind, notice });
   }
