@@ -2,7 +2,7 @@ import type { FastifyInstance } from 'fastify';
 import { afterEach, beforeAll, describe, expect, it } from 'vitest';
 import { buildApp } from '../../src/api/app.js';
 import { CAUTIONS } from '../../src/api/docs-page.js';
-import { pictureRoutes } from '../../src/api/routes/pictures.js';
+import { currentLocalDate, pictureRoutes } from '../../src/api/routes/pictures.js';
 import { MIGRATIONS_DIR } from '../../src/config/load.js';
 import type { ObjectEstimate } from '../../src/orbit/estimate-types.js';
 import type { NewRequest } from '../../src/store/requests.js';
@@ -225,5 +225,18 @@ describe('GET /', () => {
     expect((await app!.inject({ url: '/', remoteAddress: '10.1.2.3' })).statusCode).toBe(401);
     expect((await app!.inject({ url: '/', remoteAddress: '10.1.2.3', headers: { authorization: `Bearer ${DEMO_TOKENS.reader}` } })).statusCode).toBe(200);
     expect((await app!.inject({ url: '/v1/sites/lantern-ridge/night.svg', remoteAddress: '10.1.2.3', headers: { authorization: `Bearer ${DEMO_TOKENS.feeder}` } })).statusCode).toBe(403);
+  });
+});
+
+describe('which night a picture shows by default', () => {
+  // Lantern Ridge, 107.62 W: local mean time is UTC - 7.17 h; on 2027-03-04 the Sun rises near 13:30 UTC.
+  it('is the night in progress until its sunrise', () => {
+    expect(currentLocalDate(lantern, new Date('2027-03-04T06:00:00Z'))).toBe('2027-03-03');
+    expect(currentLocalDate(lantern, new Date('2027-03-04T13:00:00Z'))).toBe('2027-03-03');
+  });
+
+  it('is the coming night after sunrise', () => {
+    expect(currentLocalDate(lantern, new Date('2027-03-04T15:00:00Z'))).toBe('2027-03-04');
+    expect(currentLocalDate(lantern, new Date('2027-03-04T22:00:00Z'))).toBe('2027-03-04');
   });
 });

@@ -31,10 +31,14 @@ export const INVENTED: readonly InventedObject[] = [
   { objectId: 'QV27C03', raDeg: 120, decDeg: 40, distanceAu: 0.02, hMag: 25.5, transverseKmPerS: 10, motionPaDeg: 300 },
 ];
 
-function stateOf(o: InventedObject, scale = 1, paOffsetDeg = 0): HeliocentricState {
+const SIDEREAL_YEAR_MS = 365.25636 * 86_400_000;
+
+function stateOf(o: InventedObject, at: Date, scale = 1, paOffsetDeg = 0): HeliocentricState {
+  // Moving the RA with the Sun keeps the object where it was against the night sky at the same local time.
+  const raShiftDeg = (360 * (at.getTime() - NOW.getTime())) / SIDEREAL_YEAR_MS;
   return inventState({
-    timeUtc: NOW,
-    raDeg: o.raDeg,
+    timeUtc: at,
+    raDeg: (((o.raDeg + raShiftDeg) % 360) + 360) % 360,
     decDeg: o.decDeg,
     distanceAu: o.distanceAu * scale,
     radialKmPerS: -3,
@@ -44,14 +48,17 @@ function stateOf(o: InventedObject, scale = 1, paOffsetDeg = 0): HeliocentricSta
 }
 
 /**
- * The estimate of an invented object; with `members`, a small ensemble of neighbouring orbits
- * (distance scaled 0.9..1.1, direction of motion turned up to 1 deg) gives the member points.
+ * The estimate of an invented object, discovered 90 min before `at` (default NOW) and placed
+ * so the demo sites see it that night; with `members`, a small ensemble of neighbouring orbits
+ * (distance scaled 0.9..1.1, direction of motion turned up to 0.5 deg) gives the member points.
  */
-export function inventedEstimate(o: InventedObject, options: { members?: boolean } = {}): ObjectEstimate {
-  const base = estimateFromState({ objectId: o.objectId, firstObservedAt: '2027-03-04T04:30:00.000Z', state: stateOf(o), hMag: o.hMag });
+export function inventedEstimate(o: InventedObject, options: { members?: boolean; at?: Date } = {}): ObjectEstimate {
+  const at = options.at ?? NOW;
+  const firstObservedAt = new Date(at.getTime() - 90 * 60_000).toISOString();
+  const base = estimateFromState({ objectId: o.objectId, firstObservedAt, state: stateOf(o, at), hMag: o.hMag });
   if (!options.members) return base;
   const states: HeliocentricState[] = [];
-  for (let i = 0; i < 40; i++) states.push(stateOf(o, 0.9 + (0.2 * i) / 39, ((i * 7) % 11) / 10 - 0.5));
+  for (let i = 0; i < 40; i++) states.push(stateOf(o, at, 0.9 + (0.2 * i) / 39, ((i * 7) % 11) / 10 - 0.5));
   return {
     ...base,
     ephemeris: base.ephemeris,

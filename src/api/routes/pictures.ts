@@ -39,12 +39,20 @@ const skyQuery = z
   })
   .strict();
 
-/** The local date (local mean time, UTC + east longitude / 15 h) whose night is in progress or next at the site. */
+/**
+ * The local date (local mean time, UTC + east longitude / 15 h; the sky module's night rule)
+ * whose night is in progress or comes next at the site: the night that began the previous
+ * evening until its sunrise, then the coming one.
+ */
 export function currentLocalDate(site: Site, now: Date): string {
   const lon = site.location.lonDeg > 180 ? site.location.lonDeg - 360 : site.location.lonDeg;
   const local = new Date(now.getTime() + (lon / 15) * MS_PER_HOUR);
-  // Before local noon the night that began the previous evening is still the current one.
-  if (local.getUTCHours() < 12) local.setUTCDate(local.getUTCDate() - 1);
+  if (local.getUTCHours() < 12) {
+    const previous = new Date(local.getTime() - 24 * MS_PER_HOUR).toISOString().slice(0, 10);
+    const night = nightAt(site, previous);
+    const over = night.sunrise ?? night.span.end;
+    if (now < over) return previous;
+  }
   return local.toISOString().slice(0, 10);
 }
 
