@@ -14,10 +14,7 @@ import { webhookJobs } from './jobs/webhooks.js';
 import { createServiceMetrics } from './telemetry/metrics.js';
 import { createJobRunner, type JobRunner } from './jobs/scheduler.js';
 import { openStore, type Store } from './store/index.js';
-import { assessInputFor } from './jobs/assessment-runner.js';
-import { estimateObject, type NoticeOrbitBlock } from './orbit/estimation/index.js';
-import type { ObjectEstimate } from './orbit/estimate-types.js';
-import { seedForObject } from './planning/assess.js';
+import { createEstimateCache } from './api/estimates.js';
 
 export interface RunningService {
   app: FastifyInstance;
@@ -41,35 +38,6 @@ export interface StartOptions {
   schedule?: boolean;
   /** Worker threads for assessments (default from config, else cores - 1). */
   workers?: number;
-}
-
-/**
- * On-demand estimates for the API (ephemeris, pictures), cached per object while
- * its tracklet is unchanged, for at most ten minutes.
- */
-function createEstimateCache(store: Store, members: number, clock: () => Date): (objectId: string) => ObjectEstimate | null {
-  const cache = new Map<string, { key: string; at: number; estimate: ObjectEstimate }>();
-  return (objectId) => {
-    const object = store.objects.getObject(objectId);
-    if (!object) return null;
-    const now = clock();
-    const input = assessInputFor(store, objectId, now);
-    if (input.observations.length === 0 && !input.orbit) return null;
-    const key = `${input.observations.length}|${input.observations.at(-1)?.t ?? ''}|${object.orbit ?? ''}`;
-    const hit = cache.get(objectId);
-    if (hit && hit.key === key && now.getTime() - hit.at < 600_000) return hit.estimate;
-    const estimate = estimateObject({
-      objectId,
-      observations: input.observations,
-      orbit: (input.orbit as NoticeOrbitBlock | null) ?? undefined,
-      now,
-      members,
-      seed: seedForObject(objectId),
-    });
-    if (cache.size > 200) cache.delete(cache.keys().next().value as string);
-    cache.set(objectId, { key, at: now.getTime(), estimate });
-    return estimate;
-  };
 }
 
 /** Starts the service: migrate, seed the demo inbox, listen, schedule jobs, then read the inbox once. */

@@ -37,21 +37,7 @@ export interface RunnerDeps {
 
 /** Builds the assessment input of one object from the store. */
 export function assessInputFor(store: Store, objectId: string, now: Date): AssessInput {
-  const object = store.objects.getObject(objectId);
-  return {
-    objectId,
-    nowIso: now.toISOString(),
-    orbit: object?.orbit ? (JSON.parse(object.orbit) as Record<string, unknown>) : null,
-    observations: store.objects.observations(objectId).map((o) => ({
-      t: o.t,
-      raDeg: o.raDeg,
-      decDeg: o.decDeg,
-      sigmaArcsec: o.sigmaArcsec,
-      mag: o.mag,
-      band: o.band,
-      observer: { latDeg: o.obsLatDeg, lonDeg: o.obsLonDeg, heightM: o.obsHeightM },
-    })),
-  };
+  return { objectId, nowIso: now.toISOString(), orbit: store.objects.orbitBlock(objectId), observations: store.objects.tracklet(objectId) };
 }
 
 /**

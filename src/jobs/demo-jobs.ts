@@ -12,7 +12,7 @@ import type { JobSpec } from './scheduler.js';
  */
 export function writeSimulatedNotices(inboxPath: string, now: Date, count: number, seed: number): string[] {
   mkdirSync(inboxPath, { recursive: true });
-  return simulateNight({ now, count, seed }).map((s, k) => {
+  return simulateNight({ now, count, seed, withOrbit: true }).map((s, k) => {
     const notice = { ...s.notice };
     if (k % 2 === 1) delete notice['orbit'];
     const name = `sim-${String(notice['noticeId'])}.json`;

@@ -1,3 +1,4 @@
+import { createHash } from 'node:crypto';
 import type { GeodeticLocation } from '../config/schema.js';
 import type { EphemerisRow } from './ephemeris.js';
 
@@ -67,4 +68,9 @@ export interface ObjectEstimate {
    * estimate has no ensemble.
    */
   memberPositions?(location: GeodeticLocation, timeUtc: Date, maxMembers?: number): { raDeg: number; decDeg: number }[];
+}
+
+/** A stable 31-bit ensemble seed from the object id (SHA-256), so replans of the same data give the same virtual orbits. */
+export function seedForObject(objectId: string): number {
+  return createHash('sha256').update(objectId).digest().readUInt32BE(0) & 0x7fffffff;
 }

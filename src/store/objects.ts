@@ -12,6 +12,17 @@ export interface ObjectRow {
   retiredReason: string | null;
 }
 
+/** One observation of a tracklet with its observer, in the estimator's shape. */
+export interface TrackletRow {
+  t: string;
+  raDeg: number;
+  decDeg: number;
+  sigmaArcsec: number;
+  mag: number | null;
+  band: string | null;
+  observer: { latDeg: number; lonDeg: number; heightM: number };
+}
+
 export interface StoredObservation extends ObservationInput {
   id: number;
   noticeRow: number;
@@ -47,6 +58,23 @@ export function createObjectStore(db: Db) {
     /** Active objects, for the periodic replan. */
     activeIds(): string[] {
       return (db.prepare(`SELECT id FROM objects WHERE state = 'active' ORDER BY id`).all() as { id: string }[]).map((r) => r.id);
+    },
+    /** The tracklet in time order as the orbit estimator takes it (degrees, arcsec, metres). */
+    tracklet(objectId: string): TrackletRow[] {
+      return (observationsOf.all(objectId) as StoredObservation[]).map((o) => ({
+        t: o.t,
+        raDeg: o.raDeg,
+        decDeg: o.decDeg,
+        sigmaArcsec: o.sigmaArcsec,
+        mag: o.mag,
+        band: o.band,
+        observer: { latDeg: o.obsLatDeg, lonDeg: o.obsLonDeg, heightM: o.obsHeightM },
+      }));
+    },
+    /** The object's orbit block (from the latest notice that had one), parsed. */
+    orbitBlock(objectId: string): Record<string, unknown> | null {
+      const row = byId.get(objectId) as ObjectRow | undefined;
+      return row?.orbit ? (JSON.parse(row.orbit) as Record<string, unknown>) : null;
     },
     /** The object's tracklet in time order. */
     observations(objectId: string): StoredObservation[] {

@@ -2,7 +2,7 @@ import { z } from 'zod';
 import type { ApiContext } from '../context.js';
 import { ApiError } from '../errors.js';
 import { defineRoute, type AnyRouteSpec } from '../route-spec.js';
-import { errorSchema, idParams, limitParam, pageOf, requestView, toRequestView } from '../schemas.js';
+import { errorSchema, idParams, isoTime, limitParam, pageOf, requestView, toRequestView } from '../schemas.js';
 
 const objectSummary = z.object({
   id: z.string(),
@@ -33,6 +33,40 @@ const objectDetail = objectSummary.extend({
   work: z.object({ state: z.string(), attempts: z.number().int(), lastError: z.string().nullable(), enqueuedAt: z.string() }).nullable(),
 });
 
+const MAX_EPHEMERIS_ROWS = 2000;
+
+const ellipse = z
+  .object({ major: z.number().describe('1-sigma semi-major axis, arcsec'), minor: z.number().describe('arcsec'), pa: z.number().describe('deg east of north') })
+  .nullable();
+
+const ephemerisRow = z.object({
+  t: z.string().describe('ISO UTC'),
+  ra: z.number().describe('deg, astrometric ICRS seen from the site'),
+  dec: z.number().describe('deg'),
+  raRate: z.number().describe('arcsec/s, dRA/dt x cos Dec'),
+  decRate: z.number().describe('arcsec/s'),
+  unc: ellipse.describe('1-sigma uncertainty ellipse on the sky (estimate)'),
+  extent99: ellipse.optional().describe('ellipse holding 99 % of the virtual orbits'),
+  mag: z.number().nullable().describe('V'),
+  magSigma: z.number().nullable(),
+  delta: z.number().describe('geocentric distance, au'),
+  r: z.number().describe('heliocentric distance, au'),
+  phase: z.number().describe('phase angle, deg'),
+  elong: z.number().describe('solar elongation, deg'),
+  alt: z.number().describe('apparent altitude with refraction, deg'),
+  az: z.number().describe('azimuth from north through east, deg'),
+  airmass: z.number().nullable(),
+});
+
+const ephemerisQuery = z
+  .object({
+    site: z.string().min(1).max(32).describe('site id'),
+    start: isoTime().optional().describe('default: now'),
+    end: isoTime().optional().describe('default: start + 24 h'),
+    step: z.coerce.number().min(1).max(1440).default(10).describe('minutes'),
+  })
+  .strict();
+
 export function objectRoutes(ctx: ApiContext): AnyRouteSpec[] {
   const { store } = ctx;
   const summarise = (id: string) => {
@@ -49,6 +83,44 @@ export function objectRoutes(ctx: ApiContext): AnyRouteSpec[] {
     };
   };
   return [
+    defineRoute({
+      method: 'GET',
+      url: '/v1/objects/:id/ephemeris',
+      tag: 'review',
+      summary: 'Ephemeris of an object from a site, computed now, with its uncertainty',
+      description:
+        'The nominal position, rates and V magnitude every `step` minutes with the ensemble spread as a 1-sigma ellipse. An estimate from short-arc astrometry, not an impact prediction.',
+      role: ['reader', 'operator', 'scheduler'],
+      readsOpenOnLoopback: true,
+      params: idParams,
+      query: ephemerisQuery,
+      responses: {
+        200: { description: 'the table', schema: z.object({ objectId: z.string(), siteId: z.string(), method: z.string(), rows: z.array(ephemerisRow) }) },
+        400: { description: 'bad query', schema: errorSchema },
+        404: { description: 'unknown object or site', schema: errorSchema },
+        422: { description: 'the object cannot be estimated from what is stored', schema: errorSchema },
+      },
+      handler: async ({ params, query }) => {
+        const site = ctx.config.sites.find((s) => s.id === query.site);
+        if (!site) throw new ApiError(404, 'not_found', `no site ${query.site}`, [{ path: 'query.site', message: `expected one of ${ctx.config.sites.map((s) => s.id).join(', ')}` }]);
+        if (!store.objects.getObject(params.id)) throw new ApiError(404, 'not_found', `no object ${params.id}`);
+        const start = Date.parse(query.start ?? ctx.clock().toISOString());
+        const end = query.end ? Date.parse(query.end) : start + 24 * 3600_000;
+        if (end < start) throw new ApiError(400, 'bad_request', 'end is before start', [{ path: 'query.end', message: 'must not be before start' }]);
+        const n = Math.floor((end - start) / (query.step * 60_000)) + 1;
+        if (n > MAX_EPHEMERIS_ROWS)
+          throw new ApiError(400, 'bad_request', `${n} rows asked; at most ${MAX_EPHEMERIS_ROWS}`, [{ path: 'query.step', message: 'use a larger step or a shorter range' }]);
+        let estimate;
+        try {
+          estimate = ctx.estimateFor(params.id);
+        } catch (err) {
+          throw new ApiError(422, 'cannot_estimate', `object ${params.id} cannot be estimated: ${(err as Error).message}`);
+        }
+        if (!estimate) throw new ApiError(422, 'cannot_estimate', `object ${params.id} has no observations or orbit to estimate from`);
+        const times = Array.from({ length: n }, (_, k) => new Date(start + k * query.step * 60_000));
+        return { objectId: params.id, siteId: site.id, method: estimate.summary.method, rows: estimate.ephemeris(site.location, times) };
+      },
+    }),
     defineRoute({
       method: 'GET',
       url: '/v1/objects',

@@ -1,0 +1,70 @@
+import { afterEach, describe, expect, it } from 'vitest';
+import type { FastifyInstance } from 'fastify';
+import { buildApp } from '../../src/api/app.js';
+import { createEstimateCache } from '../../src/api/estimates.js';
+import { elementsFromNoticeOrbit } from '../../src/commands/ephem.js';
+import { MIGRATIONS_DIR } from '../../src/config/load.js';
+import { createIntake } from '../../src/intake/ingest.js';
+import type { NoticeOrbit } from '../../src/intake/notice.js';
+import { ephemerisFromElements } from '../../src/orbit/ephemeris.js';
+import { simulateNight } from '../../src/planning/simulate.js';
+import { demoConfig, memoryStore } from '../helpers.js';
+
+const NOW = new Date('2027-03-04T06:00:00Z');
+let app: FastifyInstance | null = null;
+afterEach(async () => {
+  await app?.close();
+  app = null;
+});
+
+async function setup(withOrbit: boolean) {
+  const clock = () => NOW;
+  const store = memoryStore(clock);
+  const config = demoConfig();
+  const [sim] = simulateNight({ now: NOW, count: 1, seed: 4, withOrbit: true });
+  const notice = { ...sim!.notice };
+  const orbit = notice['orbit'] as NoticeOrbit;
+  if (!withOrbit) delete notice['orbit'];
+  createIntake({ notices: store.notices, clock, futureToleranceMin: 5 }).ingestJson(JSON.stringify(notice), 'test');
+  app = await buildApp({ config, store, clock, migrationsDir: MIGRATIONS_DIR, estimateFor: createEstimateCache(store, 1000, clock) });
+  return { objectId: String(notice['objectId']), orbit, site: config.sites[0]! };
+}
+
+function separationArcsec(ra1: number, dec1: number, ra2: number, dec2: number): number {
+  const r = Math.PI / 180;
+  const c = Math.sin(dec1 * r) * Math.sin(dec2 * r) + Math.cos(dec1 * r) * Math.cos(dec2 * r) * Math.cos((ra1 - ra2) * r);
+  return (Math.acos(Math.min(1, c)) / r) * 3600;
+}
+
+describe('GET /v1/objects/{id}/ephemeris', () => {
+  it('follows the orbit block it was given, within 1 arcsec of a direct propagation of the elements', async () => {
+    const { objectId, orbit, site } = await setup(true);
+    const res = await app!.inject({ url: `/v1/objects/${objectId}/ephemeris?site=${site.id}&start=2027-03-04T08:00:00Z&end=2027-03-04T12:00:00Z&step=60` });
+    expect(res.statusCode).toBe(200);
+    const rows = res.json().rows as { t: string; ra: number; dec: number; unc: unknown }[];
+    expect(rows).toHaveLength(5);
+    const { elements, epochTt } = elementsFromNoticeOrbit(orbit);
+    const direct = ephemerisFromElements(elements, epochTt, site.location, rows.map((r) => new Date(r.t)));
+    rows.forEach((r, k) => expect(separationArcsec(r.ra, r.dec, direct[k]!.ra, direct[k]!.dec)).toBeLessThan(1));
+  });
+
+  it('gives a tracklet-only object an uncertainty ellipse that holds the true position', async () => {
+    const { objectId, orbit, site } = await setup(false);
+    const res = await app!.inject({ url: `/v1/objects/${objectId}/ephemeris?site=${site.id}&start=2027-03-04T09:00:00Z&end=2027-03-04T09:00:00Z` });
+    const [row] = res.json().rows as { t: string; ra: number; dec: number; unc: { major: number; minor: number } }[];
+    expect(res.json().method).toBe('ranging');
+    expect(row!.unc.major).toBeGreaterThan(0);
+    const { elements, epochTt } = elementsFromNoticeOrbit(orbit);
+    const [truth] = ephemerisFromElements(elements, epochTt, site.location, [new Date(row!.t)]);
+    // The truth lies within the 3-sigma extent along the major axis.
+    expect(separationArcsec(row!.ra, row!.dec, truth!.ra, truth!.dec)).toBeLessThan(3 * row!.unc.major);
+  });
+
+  it('names an unknown site and refuses a table that is too long', async () => {
+    const { objectId } = await setup(true);
+    expect((await app!.inject({ url: `/v1/objects/${objectId}/ephemeris?site=nowhere` })).statusCode).toBe(404);
+    const long = await app!.inject({ url: `/v1/objects/${objectId}/ephemeris?site=lantern-ridge&start=2027-03-04T00:00:00Z&end=2027-03-10T00:00:00Z&step=1` });
+    expect(long.statusCode).toBe(400);
+    expect(long.json().error.details[0].path).toBe('query.step');
+  });
+});
