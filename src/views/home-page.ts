@@ -76,7 +76,7 @@ ${site.requests.map(requestRow).join('\n')}
 </table>`;
   const topPicture = top
     ? `<figure>
-<a href="${esc(top.skyPictureUrl)}"><img src="${esc(top.skyPictureUrl)}" width="940" height="640" alt="${esc(`${top.objectId} on the sky at the recommended start of its ${top.kind} request: uncertainty ellipses, imager field, slit and motion`)}"></a>
+<a href="${esc(top.skyPictureUrl)}"><img src="${esc(top.skyPictureUrl)}" width="940" height="600" alt="${esc(`${top.objectId} on the sky at the recommended start of its ${top.kind} request: uncertainty ellipses, imager field, slit and motion`)}"></a>
 <figcaption>Best-scoring request: ${esc(top.objectId)} (${esc(top.kind)}, score ${esc(num(top.score, 1))}) on the sky at its recommended start ${esc(hhmm(top.recommendedStartUtc))} UTC.</figcaption>
 </figure>`
     : '';

@@ -107,7 +107,7 @@ function sexagesimal(value: number, hours: boolean): string {
 
 const PANEL = 420;
 const WIDTH = 940;
-const HEIGHT = 640;
+const HEIGHT = 600;
 
 interface Panel {
   name: 'wide' | 'close';
