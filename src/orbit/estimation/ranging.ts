@@ -31,8 +31,10 @@ import { project, unitFromRaDec, unproject, type Vec3 } from './tangent.js';
  * Prior (documented in docs/accuracy.md): density in (rho, rhoDot) proportional
  * to rho^k, flat in range-rate inside the admissible region; k = -1 (flat in
  * log range) by default. Grid refinement: while the posterior weight is
- * concentrated (99.9 % inside less than half the current box in log range or
- * range-rate), a new grid covers that box; at most three passes.
+ * concentrated (99.9 % inside less than half the current span of log range,
+ * or fewer than 40 nodes effectively carrying it), a new grid covers that
+ * span, each row's range-rates following the weighted range-rates of its
+ * neighbours in the previous pass; at most five passes.
  */
 
 /** Smallest range on the grid, au (45 000 km, about a ninth of the Moon's distance). */
@@ -46,6 +48,8 @@ export interface RangingOptions {
   readonly rangeNodes?: number;
   readonly rateNodes?: number;
   readonly passes?: number;
+  /** Gauss-Newton evaluations per node; default 3. */
+  readonly evaluations?: number;
 }
 
 /** One grid node after its fit. */
@@ -181,13 +185,13 @@ function paramsRate(ctx: Context): [number, number] {
  * Fits the four angular parameters at many (rho, rhoDot) nodes at once: one
  * ensemble propagation per Gauss-Newton evaluation. Returns params and chi^2 per node.
  */
-function fitNodes(ctx: Context, nodes: readonly { rho: number; rate: number }[]): { params: number[][]; chiSquare: number[] } {
+function fitNodes(ctx: Context, nodes: readonly { rho: number; rate: number }[], evaluations: number): { params: number[][]; chiSquare: number[] } {
   const [xiDot, etaDot] = paramsRate(ctx);
   const params = nodes.map(() => [0, 0, xiDot, etaDot]);
   const chiSquare = nodes.map(() => Infinity);
   const nObs = ctx.observations.length;
   const [n00, n01, n11] = ctx.normalInverse;
-  for (let evaluation = 0; evaluation < 3; evaluation++) {
+  for (let evaluation = 0; evaluation < evaluations; evaluation++) {
     const states = nodes.map((node, j) => stateOf(ctx, params[j]!, node.rho, node.rate));
     const resXi = new Float64Array(nodes.length * nObs);
     const resEta = new Float64Array(nodes.length * nObs);
@@ -218,7 +222,7 @@ function fitNodes(ctx: Context, nodes: readonly { rho: number; rate: number }[])
         bx0 += w * rx; bx1 += w * rx * dt; by0 += w * ry; by1 += w * ry * dt;
       }
       chiSquare[m] = chi;
-      if (evaluation < 2) {
+      if (evaluation < evaluations - 1) {
         const p = params[m]!;
         p[0]! += n00 * bx0 + n01 * bx1;
         p[2]! += n01 * bx0 + n11 * bx1;
@@ -243,7 +247,7 @@ export function systematicRanging(observations: readonly PreparedObservation[], 
   const k = options.rangePriorExponent ?? -1;
   const rangeNodes = options.rangeNodes ?? 36;
   const rateNodes = options.rateNodes ?? 10;
-  const maxPasses = options.passes ?? 3;
+  const maxPasses = options.passes ?? 5;
   let box: Box = { logLo: Math.log(RANGE_MIN_AU), logHi: Math.log(RANGE_MAX_AU), rateLo: -Infinity, rateHi: Infinity };
   let nodes: RangingNode[] = [];
   let evaluated = 0;
@@ -251,13 +255,17 @@ export function systematicRanging(observations: readonly PreparedObservation[], 
   let minChi = Infinity;
   while (pass < maxPasses) {
     pass++;
+    const previous = nodes;
     const logWidth = (box.logHi - box.logLo) / rangeNodes;
-    const grid: { rho: number; rate: number; logWidth: number; rateWidth: number }[] = [];
+    const grid: GridNode[] = [];
     for (let i = 0; i < rangeNodes; i++) {
       const rho = Math.exp(box.logLo + (i + 0.5) * logWidth);
       const interval = admissibleRates(ctx, rho);
       if (!interval) continue;
-      const lo = Math.max(interval.lo, box.rateLo), hi = Math.min(interval.hi, box.rateHi);
+      // After the first pass each row follows the weighted range-rates of its neighbours in the last pass (a tilted ridge stays covered).
+      const band = previous.length > 0 ? rateBand(previous, Math.log(rho)) : { lo: -Infinity, hi: Infinity };
+      if (!band) continue;
+      const lo = Math.max(interval.lo, band.lo), hi = Math.min(interval.hi, band.hi);
       if (!(hi > lo)) continue;
       const rateWidth = (hi - lo) / rateNodes;
       for (let j = 0; j < rateNodes; j++) {
@@ -270,8 +278,16 @@ export function systematicRanging(observations: readonly PreparedObservation[], 
       if (pass === 1) throw new EstimationFailedError('no orbit bound to the Sun matches the tracklet at any range from 3e-4 to 6 au');
       break;
     }
-    const fitted = fitNodes(ctx, grid);
+    const evaluations = options.evaluations ?? 3;
+    let fitted = fitNodes(ctx, grid, evaluations);
     evaluated += grid.length;
+    // Rows where the data pin the range-rate more tightly than the grid resolves are re-gridded around their minimum.
+    const profiled = profileRows(ctx, grid, fitted, rateNodes, evaluations);
+    evaluated += profiled.evaluated;
+    if (profiled.grid !== grid) {
+      grid.splice(0, grid.length, ...profiled.grid);
+      fitted = profiled.fitted;
+    }
     const passMin = Math.min(...fitted.chiSquare);
     const candidate: RangingNode[] = grid.map((g, j) => ({
       rangeAu: g.rho,
@@ -289,14 +305,15 @@ export function systematicRanging(observations: readonly PreparedObservation[], 
       break;
     }
     for (const n of candidate) n.weight /= total;
+    // A later pass replaces the earlier one only if it found fits at least as good.
+    if (pass > 1 && passMin > minChi + 1) break;
     nodes = candidate;
     minChi = passMin;
+    const effective = 1 / nodes.reduce((s, n) => s + n.weight * n.weight, 0);
     const next = concentratedBox(nodes);
     const shrinksRange = next.logHi - next.logLo < 0.5 * (box.logHi - box.logLo);
-    const currentRateSpan = Math.min(box.rateHi, Math.max(...grid.map((g) => g.rate + g.rateWidth / 2))) - Math.max(box.rateLo, Math.min(...grid.map((g) => g.rate - g.rateWidth / 2)));
-    const shrinksRate = next.rateHi - next.rateLo < 0.5 * currentRateSpan;
-    if (!shrinksRange && !shrinksRate) break;
-    box = next;
+    if (!shrinksRange && effective > MIN_EFFECTIVE_NODES) break;
+    box = { ...next, rateLo: -Infinity, rateHi: Infinity };
   }
   return {
     epochTt: ctx.epochTt,
@@ -306,6 +323,93 @@ export function systematicRanging(observations: readonly PreparedObservation[], 
     evaluatedNodes: evaluated,
     stateOf: (params, rho, rate) => stateOf(ctx, params, rho, rate),
   };
+}
+
+type GridNode = { rho: number; rate: number; logWidth: number; rateWidth: number };
+
+/**
+ * Per range row: the chi-square minimum over range-rate by three rounds of
+ * parabolic interpolation through the row's three best points (Brent 1973,
+ * Algorithms for Minimization without Derivatives, ch. 5, without the
+ * golden-section fallback), all rows evaluated together; sigma from the
+ * parabola's curvature (delta chi^2 = 1). A row whose +-5 sigma band is
+ * narrower than a quarter of its grid span gets `rateNodes` new nodes across
+ * that band instead of its old ones.
+ */
+function profileRows(ctx: Context, grid: GridNode[], fitted: { params: number[][]; chiSquare: number[] }, rateNodes: number, evaluations: number): { grid: GridNode[]; fitted: { params: number[][]; chiSquare: number[] }; evaluated: number } {
+  const rows = new Map<number, { points: { x: number; chi: number }[]; lo: number; hi: number; logWidth: number }>();
+  grid.forEach((g, j) => {
+    const row = rows.get(g.rho) ?? { points: [], lo: Infinity, hi: -Infinity, logWidth: g.logWidth };
+    row.points.push({ x: g.rate, chi: fitted.chiSquare[j]! });
+    row.lo = Math.min(row.lo, g.rate - g.rateWidth / 2);
+    row.hi = Math.max(row.hi, g.rate + g.rateWidth / 2);
+    rows.set(g.rho, row);
+  });
+  let evaluated = 0;
+  const parabola = (pts: { x: number; chi: number }[]): { a: number; vertex: number } | null => {
+    const [p, q, r] = [...pts].sort((u, v) => u.chi - v.chi).slice(0, 3);
+    if (!p || !q || !r || p.x === q.x || q.x === r.x || p.x === r.x) return null;
+    // Divided differences of chi(x) = a x^2 + b x + c.
+    const d1 = (q.chi - p.chi) / (q.x - p.x), d2 = (r.chi - q.chi) / (r.x - q.x);
+    const a = (d2 - d1) / (r.x - p.x);
+    const b = d1 - a * (p.x + q.x);
+    return a > 0 ? { a, vertex: -b / (2 * a) } : null;
+  };
+  for (let round = 0; round < 3; round++) {
+    const trial: { rho: number; rate: number }[] = [];
+    for (const [rho, row] of rows) {
+      if (row.points.length < 3) continue;
+      const fit = parabola(row.points);
+      if (!fit) continue;
+      const x = Math.min(Math.max(fit.vertex, row.lo), row.hi);
+      if (row.points.some((pt) => Math.abs(pt.x - x) < 1e-12 * (row.hi - row.lo))) continue;
+      trial.push({ rho, rate: x });
+    }
+    if (trial.length === 0) break;
+    const result = fitNodes(ctx, trial, evaluations);
+    evaluated += trial.length;
+    trial.forEach((t, j) => rows.get(t.rho)!.points.push({ x: t.rate, chi: result.chiSquare[j]! }));
+  }
+  const replaced = new Map<number, GridNode[]>();
+  for (const [rho, row] of rows) {
+    const fit = parabola(row.points);
+    if (!fit) continue;
+    const sigma = 1 / Math.sqrt(fit.a);
+    const best = row.points.reduce((m, pt) => (pt.chi < m.chi ? pt : m));
+    const lo = Math.max(row.lo, best.x - 5 * sigma), hi = Math.min(row.hi, best.x + 5 * sigma);
+    if (!(hi > lo) || hi - lo > 0.25 * (row.hi - row.lo)) continue;
+    const rateWidth = (hi - lo) / rateNodes;
+    replaced.set(rho, Array.from({ length: rateNodes }, (_, j) => ({ rho, rate: lo + (j + 0.5) * rateWidth, logWidth: row.logWidth, rateWidth })));
+  }
+  if (replaced.size === 0) return { grid, fitted, evaluated };
+  const kept = grid.map((g, j) => ({ g, j })).filter(({ g }) => !replaced.has(g.rho));
+  const fresh = [...replaced.values()].flat();
+  const freshFit = fitNodes(ctx, fresh, evaluations);
+  evaluated += fresh.length;
+  return {
+    grid: [...kept.map((k) => k.g), ...fresh],
+    fitted: {
+      params: [...kept.map((k) => fitted.params[k.j]!), ...freshFit.params],
+      chiSquare: [...kept.map((k) => fitted.chiSquare[k.j]!), ...freshFit.chiSquare],
+    },
+    evaluated,
+  };
+}
+
+/** Refinement continues while fewer nodes than this carry the weight (1 / sum of squared weights). */
+const MIN_EFFECTIVE_NODES = 40;
+
+/** Range-rate band (au/day) of the weighted last-pass nodes within one row of ln(range) `logRho`, widened by a cell; null when none. */
+function rateBand(previous: readonly RangingNode[], logRho: number): { lo: number; hi: number } | null {
+  let lo = Infinity, hi = -Infinity;
+  const maxWeight = previous.reduce((m, n) => Math.max(m, n.weight), 0);
+  for (const n of previous) {
+    if (n.weight < 1e-6 * maxWeight) continue;
+    if (Math.abs(Math.log(n.rangeAu) - logRho) > 1.5 * n.logRangeWidth) continue;
+    lo = Math.min(lo, n.rangeRateAuPerDay - n.rateWidth);
+    hi = Math.max(hi, n.rangeRateAuPerDay + n.rateWidth);
+  }
+  return hi > lo ? { lo, hi } : null;
 }
 
 /** The box holding the central 99.9 % of the weight in ln(range) and range-rate, widened by one cell. */

@@ -45,6 +45,8 @@ export interface CalibrationCase {
   readonly rangeAu: number;
   /** Topocentric distance from the survey site at the tracklet's mean time, au (what ranging estimates). */
   readonly meanEpochRangeAu: number;
+  /** The truth's heliocentric state at the tracklet's mean time (diagnostics). */
+  readonly meanEpochState: HeliocentricState;
   readonly observations: TrackletObservation[];
   readonly lastObservationMs: number;
   /** Truth seen from FOLLOW_UP_SITE at each horizon (degrees). */
@@ -143,30 +145,31 @@ const MS_PER_DAY = SECONDS_PER_DAY * 1000;
 
 /**
  * Truth at the discovery search start: close approachers pass the Earth at a
- * miss distance log-uniform in 0.002-0.1 au, 5-25 km/s, 0.3-3 days after it;
+ * miss distance log-uniform in 0.002-0.1 au, 5-25 km/s, 0.3-3 days after it,
+ * on bound heliocentric orbits with a < 4 au;
  * ordinary objects are main-belt-like (a 2.1-3.2 au, e < 0.25, i < 20 deg) or
  * NEO-like (a 1.0-2.6 au, q 0.8-1.3 au, i < 30 deg) with random angles.
  */
 function drawTruth(kind: CaseKind, random: RandomSource): { state: HeliocentricState; missAu: number | null; hMag: number } {
   const startTt = ttFromUtc(new Date(BASE_EPOCH_MS + Math.floor(random.uniform() * 300) * MS_PER_DAY));
   if (kind === 'close') {
-    const missAu = 0.002 * Math.pow(50, random.uniform());
-    const speed = ((5 + 20 * random.uniform()) * SECONDS_PER_DAY) / KM_PER_AU;
-    const dir = randomUnit(random);
-    let n = randomUnit(random);
-    const along = n[0] * dir[0] + n[1] * dir[1] + n[2] * dir[2];
-    n = [n[0] - along * dir[0], n[1] - along * dir[1], n[2] - along * dir[2]];
-    const nn = Math.hypot(...n);
-    const lead = 0.3 + 2.7 * random.uniform();
-    // Straight-line geocentric motion back to the start (the integrator corrects the bending later).
-    const geo = [0, 1, 2].map((k) => (missAu * n[k]!) / nn - speed * dir[k]! * lead);
-    const state = { tt: startTt, x: 0, y: 0, z: 0, vx: 0, vy: 0, vz: 0 };
-    const e0 = HelioState(Body.Earth, AstroTime.FromTerrestrialTime(startTt));
-    return {
-      state: { ...state, x: e0.x + geo[0]!, y: e0.y + geo[1]!, z: e0.z + geo[2]!, vx: e0.vx + speed * dir[0], vy: e0.vy + speed * dir[1], vz: e0.vz + speed * dir[2] },
-      missAu,
-      hMag: 24 + 6 * random.uniform(),
-    };
+    // Redraw until the heliocentric orbit is bound with a < 4 au, as every known near-Earth object's is.
+    for (;;) {
+      const missAu = 0.002 * Math.pow(50, random.uniform());
+      const speed = ((5 + 20 * random.uniform()) * SECONDS_PER_DAY) / KM_PER_AU;
+      const dir = randomUnit(random);
+      let n = randomUnit(random);
+      const along = n[0] * dir[0] + n[1] * dir[1] + n[2] * dir[2];
+      n = [n[0] - along * dir[0], n[1] - along * dir[1], n[2] - along * dir[2]];
+      const nn = Math.hypot(...n);
+      const lead = 0.3 + 2.7 * random.uniform();
+      // Straight-line geocentric motion back to the start (the integrator adds the bending later).
+      const geo = [0, 1, 2].map((k) => (missAu * n[k]!) / nn - speed * dir[k]! * lead);
+      const e0 = HelioState(Body.Earth, AstroTime.FromTerrestrialTime(startTt));
+      const state = { tt: startTt, x: e0.x + geo[0]!, y: e0.y + geo[1]!, z: e0.z + geo[2]!, vx: e0.vx + speed * dir[0], vy: e0.vy + speed * dir[1], vz: e0.vz + speed * dir[2] };
+      const energy = (state.vx ** 2 + state.vy ** 2 + state.vz ** 2) / 2 - GM_SUN_AU3_PER_DAY2 / Math.hypot(state.x, state.y, state.z);
+      if (energy < 0 && -GM_SUN_AU3_PER_DAY2 / (2 * energy) < 4) return { state, missAu, hMag: 24 + 6 * random.uniform() };
+    }
   }
   const mainBelt = random.uniform() < 0.5;
   const a = mainBelt ? 2.1 + 1.1 * random.uniform() : 1.0 + 1.6 * random.uniform();
@@ -243,7 +246,8 @@ export function generateCase(kind: CaseKind, seed: number): CalibrationCase | nu
     return { hours, timeUtc: new Date(predictMs[j]!), raDeg: place.raDeg, decDeg: place.decDeg };
   });
   const meanEpochRangeAu = placeAt(allMs.length - 1, SURVEY_SITE).deltaAu;
-  return { id: `${kind}-${seed}`, kind, missAu, rangeAu, meanEpochRangeAu, observations, lastObservationMs: lastMs, truth };
+  const meanEpochState = truthStates[allMs.length - 1]!;
+  return { id: `${kind}-${seed}`, kind, missAu, rangeAu, meanEpochRangeAu, meanEpochState, observations, lastObservationMs: lastMs, truth };
 }
 
 /** The first `count` observable cases of a kind, from seed `firstSeed` on. */

@@ -1,0 +1,146 @@
+import { describe, expect, it } from 'vitest';
+import { EstimationInputError, estimateObject } from '../../../src/orbit/estimation/index.js';
+import { FOLLOW_UP_SITE, generateCase, type CalibrationCase } from '../../../src/orbit/estimation/synthetic.js';
+import { ellipseDistanceSquared, offsetArcsec } from '../../../src/orbit/estimation/sky-spread.js';
+import { ephemerisFromElements } from '../../../src/orbit/ephemeris.js';
+import { ttFromTtIso } from '../../../src/orbit/time.js';
+import { KM_PER_AU } from '../../../src/orbit/constants.js';
+
+/** The first observable generator case of a kind with the wanted number of observations. */
+function caseWith(kind: 'close' | 'ordinary', count: number, predicate: (c: CalibrationCase) => boolean = () => true): CalibrationCase {
+  for (let seed = 1; seed < 100; seed++) {
+    const c = generateCase(kind, seed);
+    if (c && c.observations.length === count && predicate(c)) return c;
+  }
+  throw new Error(`no ${kind} case with ${count} observations`);
+}
+
+const close6 = caseWith('close', 6, (c) => c.meanEpochRangeAu < 0.01);
+const MEMBERS = 300;
+
+describe('estimateObject from a tracklet', () => {
+  const estimate = estimateObject({ objectId: close6.id, observations: close6.observations, now: new Date(close6.lastObservationMs), members: MEMBERS, seed: 7 });
+
+  it('recovers the distance of a close object whose 6-position arc shows its parallax (generator truth, within 15 %)', () => {
+    const { p5, p50, p95 } = estimate.summary.rangeAu;
+    expect(Math.abs(p50 / close6.meanEpochRangeAu - 1)).toBeLessThan(0.15);
+    expect(p5).toBeLessThanOrEqual(close6.meanEpochRangeAu * 1.02);
+    expect(p95).toBeGreaterThanOrEqual(close6.meanEpochRangeAu * 0.98);
+    expect(p95 / p5).toBeLessThan(1.5);
+  });
+
+  it('is reproducible with a seed and changes with another seed', () => {
+    const again = estimateObject({ objectId: close6.id, observations: close6.observations, now: new Date(close6.lastObservationMs), members: MEMBERS, seed: 7 });
+    const other = estimateObject({ objectId: close6.id, observations: close6.observations, now: new Date(close6.lastObservationMs), members: MEMBERS, seed: 8 });
+    const t = [new Date(close6.lastObservationMs + 6 * 3_600_000)];
+    expect(again.summary).toEqual(estimate.summary);
+    expect(again.ephemeris(FOLLOW_UP_SITE, t)).toEqual(estimate.ephemeris(FOLLOW_UP_SITE, t));
+    expect(other.virtualOrbits[0]).not.toEqual(estimate.virtualOrbits[0]);
+  });
+
+  it('fills unc and magSigma in every ephemeris row', () => {
+    const rows = estimate.ephemeris(FOLLOW_UP_SITE, [1, 12].map((h) => new Date(close6.lastObservationMs + h * 3_600_000)));
+    for (const row of rows) {
+      expect(row.unc!.major).toBeGreaterThanOrEqual(row.unc!.minor);
+      expect(row.unc!.pa).toBeGreaterThanOrEqual(0);
+      expect(row.unc!.pa).toBeLessThan(180);
+      expect(row.extent99!.major).toBeGreaterThan(row.unc!.major);
+      expect(row.magSigma).toBeGreaterThan(0);
+      expect(row.mag).not.toBeNull();
+    }
+    expect(rows[1]!.unc!.major).toBeGreaterThan(rows[0]!.unc!.major);
+  });
+
+  it('states the summary consistently: class fractions sum to 1, lunar distances = au x 149597870.7 / 384400, diameter by D = 1329 km / sqrt(p) 10^(-H/5)', () => {
+    const s = estimate.summary;
+    expect(s.method).toBe('ranging');
+    expect(s.members).toBe(MEMBERS);
+    expect(s.classFractions.neo + s.classFractions.mainBelt + s.classFractions.other).toBeCloseTo(1, 12);
+    expect(s.minGeocentricDistance.lunarDistances.p50).toBeCloseTo((s.minGeocentricDistance.au.p50 * KM_PER_AU) / 384_400, 9);
+    const h = s.hMag!.p50;
+    expect(s.diameterM!.max).toBeCloseTo((1329e3 / Math.sqrt(0.05)) * 10 ** (-h / 5), 6);
+    expect(s.diameterM!.min).toBeCloseTo((1329e3 / Math.sqrt(0.25)) * 10 ** (-h / 5), 6);
+    expect(s.residuals).toHaveLength(close6.observations.length);
+    expect(s.rmsArcsec).toBeLessThan(3 * close6.observations[0]!.sigmaArcsec);
+  });
+
+  it('flags a close approach when the median minimum distance is under 0.05 au (truth passes at the generator miss distance)', () => {
+    expect(close6.missAu).not.toBeNull();
+    expect(estimate.summary.closeApproach).toBe(estimate.summary.minGeocentricDistance.au.p50 < 0.05);
+    expect(estimate.summary.minGeocentricDistance.au.p5).toBeLessThan(close6.meanEpochRangeAu);
+  });
+});
+
+describe('honest uncertainty from little data', () => {
+  const c = caseWith('close', 5);
+  const times = [3, 24].map((h) => new Date(c.lastObservationMs + h * 3_600_000));
+  const full = estimateObject({ objectId: c.id, observations: c.observations, now: new Date(c.lastObservationMs), members: MEMBERS, seed: 3 });
+  const ends = [c.observations[0]!, c.observations[c.observations.length - 1]!];
+  const two = estimateObject({ objectId: c.id, observations: ends, now: new Date(c.lastObservationMs), members: MEMBERS, seed: 3 });
+
+  it('a two-observation notice gets a larger ellipse than the full tracklet, and the truth is still inside 3 sigma', () => {
+    const rowsTwo = two.ephemeris(FOLLOW_UP_SITE, times);
+    const rowsFull = full.ephemeris(FOLLOW_UP_SITE, times);
+    rowsTwo.forEach((row, k) => {
+      expect(row.unc!.major).toBeGreaterThan(rowsFull[k]!.unc!.major);
+      const truth = c.truth.find((t) => t.timeUtc.getTime() === times[k]!.getTime())!;
+      const [e, n] = offsetArcsec(row.ra, row.dec, truth.raDeg, truth.decDeg);
+      expect(Math.sqrt(ellipseDistanceSquared(row.unc!, e, n))).toBeLessThan(3);
+    });
+    expect(two.summary.notes.join(' ')).toMatch(/no redundancy/);
+  });
+});
+
+describe('estimateObject with an orbit block', () => {
+  const orbit = { epoch: '2027-05-10T00:00:00Z', q: 0.92, e: 0.31, i: 7.5, node: 120.5, peri: 250.25, tp: '2027-04-20T06:00:00Z', H: 22.1 };
+  const estimate = estimateObject({ objectId: 'ZQ0042', observations: [], orbit, now: new Date('2027-05-10T00:00:00Z'), members: 200, seed: 1 });
+
+  it('uses the block as the nominal: rows agree with the orbit module\'s ephemeris of the same elements (0.001 arcsec)', () => {
+    const times = [new Date('2027-05-10T06:00:00Z'), new Date('2027-05-11T06:00:00Z')];
+    const rows = estimate.ephemeris(FOLLOW_UP_SITE, times);
+    const reference = ephemerisFromElements(
+      { qAu: orbit.q, e: orbit.e, iDeg: orbit.i, nodeDeg: orbit.node, periDeg: orbit.peri, tpTt: ttFromTtIso('tp', orbit.tp) },
+      ttFromTtIso('epoch', orbit.epoch),
+      FOLLOW_UP_SITE,
+      times,
+      { photometry: { hMag: 22.1, g: 0.15 } },
+    );
+    rows.forEach((row, k) => {
+      const [e, n] = offsetArcsec(reference[k]!.ra, reference[k]!.dec, row.ra, row.dec);
+      expect(Math.hypot(e, n)).toBeLessThan(1e-3);
+      expect(row.mag).toBeCloseTo(reference[k]!.mag!, 6);
+      expect(row.unc!.major).toBeGreaterThan(0);
+    });
+    expect(estimate.summary.method).toBe('orbit-block');
+    expect(estimate.summary.hMag).toEqual({ p5: 22.1, p50: 22.1, p95: 22.1 });
+    expect(estimate.summary.classFractions.neo).toBe(1);
+  });
+});
+
+describe('bad input to estimateObject', () => {
+  const c = caseWith('ordinary', 4);
+  const base = { objectId: c.id, now: new Date(c.lastObservationMs), members: 50 };
+
+  it('refuses identical times with a message, not NaN', () => {
+    const same = c.observations.map((o) => ({ ...o, t: c.observations[0]!.t }));
+    expect(() => estimateObject({ ...base, observations: same })).toThrow(EstimationInputError);
+  });
+
+  it('refuses all-equal positions', () => {
+    const still = c.observations.map((o) => ({ ...o, raDeg: 10, decDeg: 5 }));
+    expect(() => estimateObject({ ...base, observations: still })).toThrow(/same position/);
+  });
+
+  it('refuses a NaN declination and names it', () => {
+    const bad = c.observations.map((o, i) => (i === 1 ? { ...o, decDeg: Number.NaN } : o));
+    expect(() => estimateObject({ ...base, observations: bad })).toThrow('observations[1].decDeg = NaN: expected a finite number');
+  });
+
+  it('refuses a member count that is not a whole number from 10 to 100000', () => {
+    expect(() => estimateObject({ ...base, observations: c.observations, members: 2.5 })).toThrow(/members = 2.5/);
+  });
+
+  it('refuses an invalid clock', () => {
+    expect(() => estimateObject({ ...base, observations: c.observations, now: new Date(Number.NaN) })).toThrow(/now/);
+  });
+});
