@@ -4,7 +4,7 @@ import type { Site } from '../../src/config/schema.js';
 import { planObject, type ObjectPlan } from '../../src/planning/plan-object.js';
 import { evaluateLimits } from '../../src/sky/limits.js';
 import { angularSeparationDeg } from '../../src/sky/site.js';
-import { NOW, exactRows, northernSite, testObject, type TestObject } from './scenario.js';
+import { NOW, demoSites, exactRows, northernSite, testObject, type TestObject } from './scenario.js';
 
 const MIN = 60_000;
 const HORIZON_H = 24;
@@ -209,7 +209,7 @@ describe('planObject: the Moon', () => {
 });
 
 describe('planObject: every window edge re-evaluated independently', () => {
-  const cases: { name: string; object: TestObject; site: Site }[] = [
+  const cases: { name: string; object: TestObject; site: Site; edge?: string }[] = [
     { name: 'circumpolar', object: bright, site: northernSite() },
     {
       name: 'rising and setting, behind a mask, with an hour-angle limit',
@@ -219,11 +219,20 @@ describe('planObject: every window edge re-evaluated independently', () => {
         horizonMask: [{ azDeg: 0, minAltitudeDeg: 20 }, { azDeg: 90, minAltitudeDeg: 35 }, { azDeg: 180, minAltitudeDeg: 25 }, { azDeg: 270, minAltitudeDeg: 20 }],
       }),
     },
+    {
+      name: 'an alt-az demo site, through the zenith keep-out',
+      // Dec 36 passes within a degree of the zenith at latitude 36.08 (kestrel-hollow).
+      object: testObject('TM27A10', { timeUtc: NOW, raDeg: 115, decDeg: 36, distanceAu: 0.03, radialKmPerS: 1, transverseKmPerS: 4, motionPaDeg: 90 }, 22, '2027-01-10T15:00:00Z'),
+      site: demoSites()[1]!,
+      edge: 'zenith keep-out',
+    },
   ];
-  for (const { name, object, site } of cases) {
+  for (const { name, object, site, edge } of cases) {
     it(`${name}: one minute inside each edge passes every limit, one minute outside fails one`, () => {
       const sitePlan = plan(object, site, NOW, 36).sites[0]!;
       expect(sitePlan.windows.length).toBeGreaterThan(0);
+      expect(sitePlan.requests.length).toBeGreaterThan(0);
+      if (edge !== undefined) expect(sitePlan.windows.some((w) => w.opensBecause.includes(edge) || w.closesBecause.includes(edge))).toBe(true);
       for (const w of sitePlan.windows) {
         const s = Date.parse(w.start);
         const e = Date.parse(w.end);
