@@ -270,19 +270,19 @@ export function renderNightChart(chart: NightChart): string {
   const lx = PLOT.right + 18;
   let ly = PLOT.top + 4;
   const legend: string[] = [el('text', { x: lx, y: ly, 'font-weight': 'bold' }, 'Key')];
-  const row = (swatch: string, text: string) => {
+  const row = (swatch: (midY: number) => string, text: string) => {
     ly += 20;
-    legend.push(swatch.replace(/__Y__/g, num(ly - 4)) + el('text', { x: lx + 34, y: ly }, esc(text)));
+    legend.push(swatch(ly - 4) + el('text', { x: lx + 34, y: ly }, esc(text)));
   };
-  row(el('rect', { x: lx, y: '__Y__', width: 26, height: 10, fill: '#eef1f6', stroke: '#999', transform: 'translate(0 -5)' }), 'twilight');
-  row(el('rect', { x: lx, y: '__Y__', width: 26, height: 10, fill: '#d4dbe6', stroke: '#999', transform: 'translate(0 -5)' }), 'dark');
-  row(el('line', { x1: lx, x2: lx + 26, y1: '__Y__', y2: '__Y__', stroke: '#c00000', 'stroke-width': 1.5, 'stroke-dasharray': '6 3' }), 'altitude limit');
-  row(el('line', { x1: lx, x2: lx + 26, y1: '__Y__', y2: '__Y__', stroke: '#7a7a7a', 'stroke-width': 2, 'stroke-dasharray': '1 4' }), `Moon (${Math.round(chart.moonIlluminatedFraction * 100)}% lit)`);
-  row(el('line', { x1: lx, x2: lx + 26, y1: '__Y__', y2: '__Y__', stroke: '#555', 'stroke-width': 5, 'stroke-opacity': 0.5 }), 'request window');
+  row((my) => el('rect', { x: lx, y: my - 5, width: 26, height: 10, fill: '#eef1f6', stroke: '#999' }), 'twilight');
+  row((my) => el('rect', { x: lx, y: my - 5, width: 26, height: 10, fill: '#d4dbe6', stroke: '#999' }), 'dark');
+  row((my) => el('line', { x1: lx, x2: lx + 26, y1: my, y2: my, stroke: '#c00000', 'stroke-width': 1.5, 'stroke-dasharray': '6 3' }), 'altitude limit');
+  row((my) => el('line', { x1: lx, x2: lx + 26, y1: my, y2: my, stroke: '#7a7a7a', 'stroke-width': 2, 'stroke-dasharray': '1 4' }), `Moon (${Math.round(chart.moonIlluminatedFraction * 100)}% lit)`);
+  row((my) => el('line', { x1: lx, x2: lx + 26, y1: my, y2: my, stroke: '#555', 'stroke-width': 5, 'stroke-opacity': 0.5 }), 'request window');
   chart.objects.forEach((obj, i) => {
     const style = seriesStyle(i);
     row(
-      el('line', { x1: lx, x2: lx + 26, y1: '__Y__', y2: '__Y__', stroke: style.stroke, 'stroke-width': 1.6, 'stroke-dasharray': style.dash }),
+      (my) => el('line', { x1: lx, x2: lx + 26, y1: my, y2: my, stroke: style.stroke, 'stroke-width': 1.6, 'stroke-dasharray': style.dash }),
       `${obj.objectId}${obj.trackSource === 'request-table' ? ' (windows only)' : ''}`,
     );
   });
