@@ -117,6 +117,7 @@ export async function startService(options: StartOptions): Promise<RunningServic
     url: address,
     stop() {
       stopping ??= (async () => {
+        assessment.halt();
         await jobs.stop();
         await assessment.close();
         await app.close();

@@ -28,6 +28,8 @@ export interface AssessmentService {
   runner: AssessmentRunner;
   pool: WorkerPool<AssessTask, AssessOutput>;
   jobs: JobSpec[];
+  /** Take no new work; what is running finishes. */
+  halt(): void;
   close(): Promise<void>;
 }
 
@@ -65,5 +67,11 @@ export function createAssessmentService(deps: {
       },
     },
   ];
-  return { runner, pool, jobs, close: () => pool.close() };
+  return {
+    runner,
+    pool,
+    jobs,
+    halt: () => runner.halt(),
+    close: () => pool.close(),
+  };
 }

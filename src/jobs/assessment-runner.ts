@@ -108,6 +108,7 @@ export function createAssessmentRunner(deps: RunnerDeps) {
   }
 
   let draining: Promise<number> | null = null;
+  let halted = false;
 
   return {
     assessOne,
@@ -117,7 +118,7 @@ export function createAssessmentRunner(deps: RunnerDeps) {
         let handled = 0;
         const inFlight = new Set<Promise<void>>();
         for (;;) {
-          while (inFlight.size < Math.max(1, deps.concurrency)) {
+          while (!halted && inFlight.size < Math.max(1, deps.concurrency)) {
             const item = store.work.claimNext(clock());
             if (!item) break;
             const p: Promise<void> = assessOne(item.objectId).finally(() => inFlight.delete(p));
@@ -132,6 +133,10 @@ export function createAssessmentRunner(deps: RunnerDeps) {
         draining = null;
       });
       return draining;
+    },
+    /** Stops taking new work (for a graceful stop); assessments in progress finish and are stored. */
+    halt(): void {
+      halted = true;
     },
     /** Puts every active object back on the work queue (time moves; windows and scores change). */
     enqueueActive(): number {

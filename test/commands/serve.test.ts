@@ -1,82 +1,22 @@
-import { spawn, type ChildProcess } from 'node:child_process';
 import { existsSync, readdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
-import { PROJECT_ROOT } from '../../src/config/load.js';
 import { openDatabase } from '../../src/store/database.js';
 import { demoConfigRaw, tempDir } from '../helpers.js';
+import { startServe, until, writeServiceConfig, type ServiceProcess } from '../service-process.js';
 
-interface Child {
-  proc: ChildProcess;
-  logs: string[];
-  url: Promise<string>;
-  exited: Promise<number | null>;
-}
-
-let child: Child | null = null;
+let child: ServiceProcess | null = null;
 afterEach(() => {
   if (child && child.proc.exitCode === null) child.proc.kill('SIGKILL');
   child = null;
 });
 
-function startServe(configPath: string): Child {
-  const proc = spawn(process.execPath, ['--import', 'tsx', join(PROJECT_ROOT, 'src', 'cli.ts'), 'serve'], {
-    cwd: PROJECT_ROOT,
-    env: { ...process.env, NIGHTJAR_CONFIG: configPath },
-    stdio: ['ignore', 'pipe', 'pipe'],
-  });
-  const logs: string[] = [];
-  const url = new Promise<string>((resolve, reject) => {
-    let buffer = '';
-    proc.stdout!.on('data', (chunk: Buffer) => {
-      buffer += chunk.toString();
-      let nl: number;
-      while ((nl = buffer.indexOf('\n')) >= 0) {
-        const line = buffer.slice(0, nl);
-        buffer = buffer.slice(nl + 1);
-        logs.push(line);
-        try {
-          const entry = JSON.parse(line) as { msg?: string; url?: string };
-          if (entry.msg === 'nightjar listening' && entry.url) resolve(entry.url);
-        } catch {
-          /* not a log line */
-        }
-      }
-    });
-    proc.stderr!.on('data', (chunk: Buffer) => logs.push(chunk.toString()));
-    proc.on('exit', () => reject(new Error(`serve exited early:\n${logs.join('\n')}`)));
-  });
-  const exited = new Promise<number | null>((resolve) => proc.on('close', (code) => resolve(code)));
-  return { proc, logs, url, exited };
-}
-
-async function until<T>(what: string, probe: () => Promise<T | null> | T | null, timeoutMs = 45_000): Promise<T> {
-  const end = Date.now() + timeoutMs;
-  for (;;) {
-    const v = await probe();
-    if (v !== null) return v;
-    if (Date.now() > end) throw new Error(`timed out waiting for ${what}`);
-    await new Promise((r) => setTimeout(r, 200));
-  }
-}
-
-function writeConfig(dir: string): { configPath: string; inbox: string; db: string } {
-  const raw = demoConfigRaw();
-  const service = raw['service'] as Record<string, unknown>;
-  const inbox = join(dir, 'inbox');
-  const db = join(dir, 'nightjar.sqlite');
-  service['port'] = 0;
-  service['databasePath'] = db;
-  service['inbox'] = { path: inbox, settleMs: 300, seedDemo: true, schedule: '* * * * * *' };
-  const configPath = join(dir, 'config.json');
-  writeFileSync(configPath, JSON.stringify(raw));
-  return { configPath, inbox, db };
-}
-
 describe('nightjar serve', () => {
   it('stores the demo notices, files a malformed drop under rejected/, and stops cleanly on SIGTERM', async () => {
     const dir = tempDir('nightjar-serve-');
-    const { configPath, inbox, db } = writeConfig(dir);
+    const { configPath, inbox, db } = writeServiceConfig(dir, (raw) => {
+      raw['demo'] = { simulate: false, dripMinutes: 0 };
+    });
     child = startServe(configPath);
     const url = await child.url;
 
