@@ -112,7 +112,7 @@ export function renderNightChart(chart: NightChart): string {
   const placed: Box[] = [];
 
   const label = (text: string, at: { x: number; y: number }, extra: Record<string, string | number> = {}) => {
-    const w = text.length * 6.6 + 4;
+    const w = text.length * 7.4 + 4;
     const box: Box = { x: at.x - 2, y: at.y - 12, w, h: 15 };
     for (let i = 0; i < 12 && placed.some((p) => overlaps(p, box)); i++) box.y -= 15;
     placed.push(box);
@@ -199,7 +199,7 @@ export function renderNightChart(chart: NightChart): string {
     const peak = chart.moon.reduce((a, b) => (b.altDeg > a.altDeg ? b : a));
     if (peak.altDeg > 0) {
       const text = `Moon ${Math.round(chart.moonIlluminatedFraction * 100)}%`;
-      parts.push(label(text, { x: Math.min(Math.max(x(peak.t) - 20, PLOT.left + 4), PLOT.right - text.length * 6.6 - 4), y: Math.max(y(peak.altDeg) - 6, PLOT.top + 14) }, { fill: '#555' }));
+      parts.push(label(text, { x: Math.min(Math.max(x(peak.t) - 20, PLOT.left + 4), PLOT.right - text.length * 7.4 - 4), y: Math.max(y(peak.altDeg) - 6, PLOT.top + 14) }, { fill: '#555' }));
     }
   }
 
@@ -256,7 +256,7 @@ export function renderNightChart(chart: NightChart): string {
       const lx = x(clampT(firstWindow.startUtc));
       const ly = startPoint ? y(startPoint.altDeg) - 8 : PLOT.bottom - 24;
       const text = `${obj.objectId}: ${obj.windows.map((w) => `${KIND_SHORT[w.kind] ?? w.kind} ${num(w.score, 0)}${w.state === 'leased' ? ' leased' : ''}`).join(', ')}`;
-      parts.push(label(text, { x: Math.min(lx + 4, PLOT.right - text.length * 6.6), y: ly }, { fill: style.stroke, class: 'object-label', 'data-object-id': obj.objectId }));
+      parts.push(label(text, { x: Math.min(lx + 4, PLOT.right - text.length * 7.4), y: ly }, { fill: style.stroke, class: 'object-label', 'data-object-id': obj.objectId }));
     }
   });
 

@@ -337,7 +337,7 @@ function renderPanel(panel: Panel, input: SkyChartInput, members: { xi: number; 
     if (panel.name === 'wide') {
       const text = `motion in 10 min: ${formatArcsec(Math.hypot(motion.xi, motion.eta))}`;
       const rightEdge = panel.x0 + PANEL - 8;
-      const tx = Math.min(Math.max(mx + 6 * ux + 4, panel.x0 + 8), rightEdge - text.length * 6.6);
+      const tx = Math.min(Math.max(mx + 6 * ux + 4, panel.x0 + 8), rightEdge - text.length * 7.4);
       const ty = Math.min(Math.max(my + 6 * uy + 4, panel.y0 + 16), panel.y0 + PANEL - 30);
       inner.push(el('text', { x: tx, y: ty, fill: '#7f3f00', 'paint-order': 'stroke', stroke: '#ffffff', 'stroke-width': 3 }, esc(text)));
     }
@@ -350,7 +350,8 @@ function renderPanel(panel: Panel, input: SkyChartInput, members: { xi: number; 
     el(
       'g',
       { class: 'compass' },
-      el('line', { x1: ox, y1: oy, x2: ox, y2: oy - 30, stroke: '#000', 'stroke-width': 1.5 }) +
+      el('rect', { x: ox - 50, y: oy - 48, width: 58, height: 58, fill: '#ffffff', 'fill-opacity': 0.8 }) +
+        el('line', { x1: ox, y1: oy, x2: ox, y2: oy - 30, stroke: '#000', 'stroke-width': 1.5 }) +
         el('line', { x1: ox, y1: oy, x2: ox - 30, y2: oy, stroke: '#000', 'stroke-width': 1.5 }) +
         el('text', { x: ox - 4, y: oy - 34 }, 'N') +
         el('text', { x: ox - 44, y: oy + 4 }, 'E'),
