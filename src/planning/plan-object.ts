@@ -10,7 +10,7 @@ import { siteVExtinctionMagPerAirmass, skyBrightnessKS } from '../sky/sky-bright
 import { PlanningInputError, requireDate, requireFinite } from './errors.js';
 import { DEFAULT_SCORE_WEIGHTS, scoreRequest, type Score, type ScoreWeights } from './score.js';
 import { searchPattern, type SearchPattern } from './search-pattern.js';
-import { buildTrack, type Track, type TrackPoint } from './track.js';
+import { buildTrack, TRACK_STEP_MIN, type Track, type TrackPoint } from './track.js';
 
 /**
  * The planner: for one assessed object and every configured site, either up to
@@ -287,9 +287,11 @@ function candidatesIn(w: ObservableWindow, stepMs: number, originMs: number, mak
 }
 
 /** Maximal runs of bright-enough candidates; a run keeps the sky edge where it reaches the window's first or last time. */
-function brightRuns(w: ObservableWindow, cands: Candidate[]): WindowRun[] {
+function brightRuns(w: ObservableWindow, cands: Candidate[], what: string): WindowRun[] {
   const runs: WindowRun[] = [];
   let cur: Candidate[] = [];
+  const seen = (c: Candidate | undefined) =>
+    c === undefined || c.c.observing === null ? '' : ` (V ${c.c.observing.vMag.toFixed(1)}, airmass ${c.c.airmass.toFixed(2)}, sky V ${c.c.skyV.toFixed(1)} mag/arcsec^2)`;
   const close = (lastIndex: number) => {
     if (cur.length === 0) return;
     const first = cur[0]!;
@@ -299,8 +301,8 @@ function brightRuns(w: ObservableWindow, cands: Candidate[]): WindowRun[] {
     runs.push({
       startMs: first.tMs,
       endMs: last.tMs,
-      opensBecause: atStart ? w.starts.detail : 'bright enough from here (brightness and sky)',
-      closesBecause: atEnd ? w.ends.detail : 'too faint for this kind beyond here (brightness and sky)',
+      opensBecause: atStart ? w.starts.detail : `bright enough for ${what} from here${seen(first)}`,
+      closesBecause: atEnd ? w.ends.detail : `too faint for ${what} ${fmt(TRACK_STEP_MIN)} min later${seen(cands[lastIndex + 1])}`,
       members: cur,
     });
     cur = [];
@@ -450,7 +452,7 @@ function planSite(input: PlanObjectInput, site: Site, startMs: number, endMs: nu
   const usefulRuns = perWindow.map(({ w, byKind }) => {
     const kinds = [...byKind.values()];
     const merged = (kinds[0] ?? []).map((cand, i) => ({ ...cand, bright: kinds.map((list) => list[i]!.bright).find((b) => b.feasible) ?? cand.bright }));
-    return brightRuns(w, merged);
+    return brightRuns(w, merged, 'any request');
   });
   const feasibleWindows = usefulRuns.filter((runs) => runs.length > 0).length;
   const lastRun = usefulRuns.flat().at(-1);
@@ -463,12 +465,20 @@ function planSite(input: PlanObjectInput, site: Site, startMs: number, endMs: nu
       continue;
     }
     let choice: KindChoice | null = null;
+    // The failure with the most time available says most about why the kind does not fit.
     let fitFailure: string | null = null;
+    let fitFailureS = -1;
+    const failed = (reason: string, availableS: number) => {
+      if (availableS > fitFailureS) {
+        fitFailure = reason;
+        fitFailureS = availableS;
+      }
+    };
     for (const { w, byKind } of perWindow) {
-      for (const run of brightRuns(w, byKind.get(kind) ?? [])) {
+      for (const run of brightRuns(w, byKind.get(kind) ?? [], kind)) {
         const runS = (run.endMs - run.startMs) / 1000;
         if (kind === 'photometry' && runS < MIN_PHOTOMETRY_WINDOW_S) {
-          fitFailure ??= `window of ${fmt(runS / 60)} min is shorter than the ${MIN_PHOTOMETRY_WINDOW_S / 60} min a light curve needs`;
+          failed(`window of ${fmt(runS / 60)} min is shorter than the ${MIN_PHOTOMETRY_WINDOW_S / 60} min a light curve needs`, runS);
           continue;
         }
         // Light curves start as early as possible (longest coverage); colours and spectra at the lowest airmass that still fits.
@@ -481,7 +491,8 @@ function planSite(input: PlanObjectInput, site: Site, startMs: number, endMs: nu
             choice = { kind, window: w, startMs: run.startMs, endMs: run.endMs, opensBecause: run.opensBecause, closesBecause: run.closesBecause, recommended: cand, plan };
             break;
           }
-          if (!plan.feasible) fitFailure ??= plan.reason;
+          if (!plan.feasible) failed(plan.reason, availableS);
+          else failed(`the sequence takes ${fmt(plan.totalS)} s, only ${fmt(availableS)} s left in the window`, availableS);
         }
         if (choice !== null) break;
       }
