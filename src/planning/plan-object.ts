@@ -1,7 +1,7 @@
 import type { Site } from '../config/schema.js';
 import type { ObjectEstimate } from '../orbit/estimate-types.js';
 import type { EphemerisRow } from '../orbit/ephemeris.js';
-import { DEFAULT_TARGET_SNR, planExposure, type ExposurePlan, type PlanResult } from '../photometry/plans.js';
+import { planExposure, type ExposurePlan, type PlanResult } from '../photometry/plans.js';
 import type { NotFeasible, ObservingConditions, RequestKind } from '../photometry/conditions.js';
 import { buildSkyTimeline, skyFromTimeline, type SkyTimeline } from '../sky/timeline.js';
 import { observableWindows, type ObservableWindow } from '../sky/windows.js';
@@ -101,6 +101,8 @@ export interface RequestBody {
     raDeg: number;
     decDeg: number;
     vMag: number;
+    /** Faintest V this kind's plan still reaches under the same conditions and time. */
+    limitingVMag: number | null;
     vMagSigma: number | null;
     uncertainty1Sigma: { majorArcsec: number; minorArcsec: number; paDeg: number } | null;
     region3SigmaAcrossArcsec: number | null;
@@ -235,15 +237,32 @@ function planAt(kind: RequestKind, site: Site, c: Conditions, windowS: number): 
   };
 }
 
-/** Faintest V for which the kind is feasible under these conditions, by bisection on V (null if none found). */
+/**
+ * Faintest V for which the kind is still feasible under these conditions (same sky, airmass, rate,
+ * time available), by bracketing in 1-mag steps and bisecting to 0.01 mag; null when it is not
+ * feasible even 12 mag brighter (e.g. saturation).
+ */
 function limitingV(kind: RequestKind, site: Site, c: Conditions, windowS: number): number | null {
   if (c.observing === null) return null;
-  const feasibleAt = (v: number) => planAt(kind, site, { ...c, observing: { ...c.observing!, vMag: v } }, windowS).feasible;
-  let faint = c.observing.vMag;
-  if (feasibleAt(faint)) return faint;
-  let bright = faint - 12;
-  if (!feasibleAt(bright)) return null;
-  for (let k = 0; k < 30 && faint - bright > 0.01; k++) {
+  const observing = c.observing;
+  const feasibleAt = (v: number) => planAt(kind, site, { ...c, observing: { ...observing, vMag: v } }, windowS).feasible;
+  const v0 = observing.vMag;
+  let bright: number;
+  let faint: number;
+  if (feasibleAt(v0)) {
+    bright = v0;
+    faint = v0 + 1;
+    while (feasibleAt(faint)) {
+      bright = faint;
+      faint += 1;
+      if (faint > v0 + 15) return bright;
+    }
+  } else {
+    faint = v0;
+    bright = v0 - 12;
+    if (!feasibleAt(bright)) return null;
+  }
+  for (let k = 0; k < 40 && faint - bright > 0.01; k++) {
     const mid = (faint + bright) / 2;
     if (feasibleAt(mid)) bright = mid;
     else faint = mid;
@@ -363,11 +382,6 @@ function sequenceOf(plan: ExposurePlan): RequestBody['sequence'] {
     case 'spectrum':
       return { steps, recentreEveryS: plan.recentreEveryS === null ? null : r(plan.recentreEveryS, 0), acquisitionS: plan.acquisitionS, resolvingPower: r(plan.resolvingPower, 0), notes: plan.notes };
   }
-}
-
-/** Expected SNR of the weakest step over the photometry module's default target for the kind. */
-function snrRatioOf(plan: ExposurePlan): number {
-  return Math.min(...plan.steps.map((s) => s.snr)) / DEFAULT_TARGET_SNR[plan.kind];
 }
 
 function checkInput(input: PlanObjectInput): void {
@@ -587,6 +601,9 @@ function buildRequest(
   // Without an airmass limit, the airmass at the lowest allowed altitude.
   const maxAirmass = site.limits.maxAirmass ?? airmassKastenYoung(Math.max(site.limits.minAltitudeDeg, 1));
   const summary = estimate.summary;
+  const limitV = limitingV(choice.kind, site, rec.c, (choice.endMs - rec.tMs) / 1000);
+  const vMag = rec.c.observing?.vMag ?? Number.NaN;
+  const marginMag = limitV === null ? 0 : Math.max(0, limitV - vMag);
   const score = scoreRequest(
     {
       horizonH: input.horizonH,
@@ -595,7 +612,8 @@ function buildRequest(
       hMag: future.hP50,
       minDistanceLunar: summary.minGeocentricDistance.lunarDistances.p50,
       neoFraction: summary.classFractions.neo,
-      snrRatio: snrRatioOf(plan),
+      marginMag,
+      limitingVMag: limitV,
       windowS: (choice.endMs - choice.startMs) / 1000,
       sequenceS: plan.totalS,
       airmass: Math.max(1, rec.c.airmass),
@@ -622,7 +640,8 @@ function buildRequest(
     target: {
       raDeg: r(atStart.ra, 6),
       decDeg: r(atStart.dec, 6),
-      vMag: r(rec.c.observing?.vMag ?? Number.NaN, 2),
+      vMag: r(vMag, 2),
+      limitingVMag: limitV === null ? null : r(limitV, 2),
       vMagSigma: rec.c.point.magSigma === null ? null : r(rec.c.point.magSigma, 2),
       uncertainty1Sigma: atStart.unc === null ? null : { majorArcsec: r(atStart.unc.major, 1), minorArcsec: r(atStart.unc.minor, 1), paDeg: r(atStart.unc.pa, 1) },
       region3SigmaAcrossArcsec: extent === null ? null : r(extent, 1),
@@ -643,8 +662,8 @@ function buildRequest(
       method: summary.method,
       members: summary.members,
       firstObservedAtUtc: estimate.firstObservedAt,
-      hMagP50: future.hP50,
-      diameterM: summary.diameterM,
+      hMagP50: future.hP50 === null ? null : r(future.hP50, 2),
+      diameterM: summary.diameterM === null ? null : { min: r(summary.diameterM.min, 1), max: r(summary.diameterM.max, 1) },
       neoFraction: summary.classFractions.neo,
       closeApproach: summary.closeApproach,
       minDistanceLunarP50: r(summary.minGeocentricDistance.lunarDistances.p50, 2),

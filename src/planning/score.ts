@@ -38,6 +38,8 @@ export const CLOSE_LD_ZERO = 50;
 /** Freshness: full for the first 12 h after discovery (the first night), then e-folding every 24 h. */
 export const FRESH_FULL_H = 12;
 export const FRESH_EFOLD_H = 24;
+/** Brightness margin at which the feasibility part is full, mag (2 mag: 6.3 x the flux at the limit). */
+export const MARGIN_FULL_MAG = 2;
 
 export interface ScoreInputs {
   /** Planning horizon, h. */
@@ -52,8 +54,10 @@ export interface ScoreInputs {
   minDistanceLunar: number | null;
   /** Fraction of the virtual orbits that are NEO-like, 0..1. */
   neoFraction: number;
-  /** Expected SNR over the target SNR of the request's sequence. */
-  snrRatio: number;
+  /** How much brighter the object is than the faintest V the request's plan still reaches there, mag (0 at the limit). */
+  marginMag: number;
+  /** That limiting V, for the sentence (null when not found). */
+  limitingVMag?: number | null;
   /** Length of the request window, s, and of its sequence, s. */
   windowS: number;
   sequenceS: number;
@@ -121,15 +125,18 @@ export function valueFactor(i: Pick<ScoreInputs, 'hMag' | 'minDistanceLunar' | '
   };
 }
 
-/** Feasibility = mean of SNR margin (0.5 + 0.5 log2 ratio), room (window / 2 sequence) and airmass ((Xmax - X)/(Xmax - 1)), each clamped. */
-export function feasibilityFactor(i: Pick<ScoreInputs, 'snrRatio' | 'windowS' | 'sequenceS' | 'airmass' | 'maxAirmass'>): { value: number; parts: ScorePart[]; why: string } {
-  const snr = clamp01(0.5 + 0.5 * Math.log2(Math.max(i.snrRatio, 1e-9)));
+/**
+ * Feasibility = mean of the brightness margin (margin mag / 2: 0 at the limit, 1 at 2 mag brighter;
+ * the SNR margin in magnitudes), room (window / 2 sequence) and airmass ((Xmax - X)/(Xmax - 1)), each clamped.
+ */
+export function feasibilityFactor(i: Pick<ScoreInputs, 'marginMag' | 'limitingVMag' | 'windowS' | 'sequenceS' | 'airmass' | 'maxAirmass'>): { value: number; parts: ScorePart[]; why: string } {
+  const margin = clamp01(i.marginMag / MARGIN_FULL_MAG);
   const room = clamp01(i.windowS / (2 * Math.max(i.sequenceS, 1)));
   const air = i.maxAirmass > 1 ? clamp01((i.maxAirmass - i.airmass) / (i.maxAirmass - 1)) : 1;
   return {
-    value: (snr + room + air) / 3,
-    parts: [{ name: 'snrMargin', value: r3(snr) }, { name: 'room', value: r3(room) }, { name: 'airmass', value: r3(air) }],
-    why: `SNR ${i.snrRatio.toFixed(2)} x the target; window ${f1(i.windowS / 60)} min for a ${f1(i.sequenceS / 60)} min sequence; airmass ${i.airmass.toFixed(2)} (limit ${i.maxAirmass.toFixed(2)})`,
+    value: (margin + room + air) / 3,
+    parts: [{ name: 'brightnessMargin', value: r3(margin) }, { name: 'room', value: r3(room) }, { name: 'airmass', value: r3(air) }],
+    why: `${i.marginMag.toFixed(1)} mag brighter than the limit${i.limitingVMag === undefined || i.limitingVMag === null ? '' : ` V ${i.limitingVMag.toFixed(1)}`}; window ${f1(i.windowS / 60)} min for a ${f1(i.sequenceS / 60)} min sequence; airmass ${i.airmass.toFixed(2)} (limit ${i.maxAirmass.toFixed(2)})`,
   };
 }
 
@@ -153,7 +160,7 @@ export function scoreRequest(inputs: ScoreInputs, weights: ScoreWeights = DEFAUL
   if (inputs.hMag !== null) requireFinite('hMag', inputs.hMag);
   if (inputs.minDistanceLunar !== null) requireFinite('minDistanceLunar', inputs.minDistanceLunar, 0);
   requireFinite('neoFraction', inputs.neoFraction, 0, 1);
-  requireFinite('snrRatio', inputs.snrRatio, 0);
+  requireFinite('marginMag', inputs.marginMag, 0);
   requireFinite('windowS', inputs.windowS, 0);
   requireFinite('sequenceS', inputs.sequenceS, 0);
   requireFinite('airmass', inputs.airmass, 1);

@@ -10,7 +10,7 @@ const worked: ScoreInputs = {
   hMag: 25,
   minDistanceLunar: 5,
   neoFraction: 0.9,
-  snrRatio: 1.5,
+  marginMag: 1.2,
   windowS: 7200,
   sequenceS: 1800,
   airmass: 1.4,
@@ -21,20 +21,20 @@ const worked: ScoreInputs = {
 const factor = (inputs: ScoreInputs, name: string) => scoreRequest(inputs).factors.find((f) => f.name === name)!;
 
 describe('scoreRequest', () => {
-  it('reproduces the worked example of docs/scoring.md: 71.3', () => {
+  it('reproduces the worked example of docs/scoring.md: 69.7', () => {
     const score = scoreRequest(worked);
-    expect(score.total).toBe(71.3);
+    expect(score.total).toBe(69.7);
     expect(score.factors.map((f) => [f.name, f.value])).toEqual([
       ['urgency', 0.333],
       ['value', 0.847],
-      ['feasibility', 0.836],
+      ['feasibility', 0.771],
       ['freshness', 1],
     ]);
     expect(score.factors.map((f) => f.weight)).toEqual([0.3, 0.3, 0.25, 0.15]);
   });
 
-  it('reproduces the example 20 h after discovery: 67.0', () => {
-    expect(scoreRequest({ ...worked, hoursSinceDiscovery: 20 }).total).toBe(67);
+  it('reproduces the example 20 h after discovery: 65.4', () => {
+    expect(scoreRequest({ ...worked, hoursSinceDiscovery: 20 }).total).toBe(65.4);
     expect(factor({ ...worked, hoursSinceDiscovery: 20 }, 'freshness').value).toBe(0.717);
   });
 
@@ -55,8 +55,8 @@ describe('scoreRequest', () => {
   });
 
   it('stays within 0-100 at the extremes', () => {
-    const best = scoreRequest({ ...worked, feasibleWindows: 1, hoursLeft: 0, hMag: 30, minDistanceLunar: 0.1, neoFraction: 1, snrRatio: 10, airmass: 1, hoursSinceDiscovery: 0 });
-    const worst = scoreRequest({ ...worked, feasibleWindows: 9, hoursLeft: 36, hMag: 10, minDistanceLunar: 1000, neoFraction: 0, snrRatio: 0.1, windowS: 100, sequenceS: 100_000, airmass: 2.4, hoursSinceDiscovery: 1000 });
+    const best = scoreRequest({ ...worked, feasibleWindows: 1, hoursLeft: 0, hMag: 30, minDistanceLunar: 0.1, neoFraction: 1, marginMag: 5, airmass: 1, hoursSinceDiscovery: 0 });
+    const worst = scoreRequest({ ...worked, feasibleWindows: 9, hoursLeft: 36, hMag: 10, minDistanceLunar: 1000, neoFraction: 0, marginMag: 0, windowS: 100, sequenceS: 100_000, airmass: 2.4, hoursSinceDiscovery: 1000 });
     expect(best.total).toBe(100);
     expect(worst.total).toBeGreaterThanOrEqual(0);
     expect(worst.total).toBeLessThan(10);
