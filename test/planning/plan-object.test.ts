@@ -83,6 +83,21 @@ describe('planObject: a bright circumpolar object at a northern site', () => {
     }
   });
 
+  it('states the limiting V of each request and scores its margin as (limit - V) / 2', () => {
+    for (const r of sitePlan.requests) {
+      const { vMag, limitingVMag } = r.body.target;
+      expect(limitingVMag!).toBeGreaterThan(vMag);
+      const part = r.body.score.factors.find((f) => f.name === 'feasibility')!.parts.find((p) => p.name === 'brightnessMargin')!;
+      expect(part.value).toBeCloseTo(Math.min(1, (limitingVMag! - vMag) / 2), 2);
+    }
+  });
+
+  it('refuses a horizon out of range and an invalid clock, naming them', () => {
+    expect(() => planObject({ estimate: bright.estimate, sites: [site], now: NOW, horizonH: 0 })).toThrow(/horizonH/);
+    expect(() => planObject({ estimate: bright.estimate, sites: [site], now: new Date('x'), horizonH: 24 })).toThrow(/now/);
+    expect(() => planObject({ estimate: bright.estimate, sites: [], now: NOW, horizonH: 24 })).toThrow(/sites/);
+  });
+
   it('gives the same plan for the same inputs', () => {
     expect(JSON.stringify(plan(bright, site))).toBe(JSON.stringify(result));
   });
