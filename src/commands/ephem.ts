@@ -6,6 +6,8 @@ import { parseNotice, type Notice, type NoticeOrbit } from '../intake/notice.js'
 import { ephemerisFromElements, type EphemerisRow } from '../orbit/ephemeris.js';
 import type { PerihelionElements } from '../orbit/elements.js';
 import { ttFromTtIso } from '../orbit/time.js';
+import { DEFAULT_MEMBERS, estimateObject } from '../orbit/estimation/index.js';
+import type { TrackletObservation } from '../orbit/estimate-types.js';
 import { parseCommandArgs } from './args.js';
 import type { CommandMain } from './io.js';
 import { UsageError } from './io.js';
@@ -14,11 +16,12 @@ import { UsageError } from './io.js';
  * `nightjar ephem`: the topocentric ephemeris of the object in one notice, from a
  * configured site or an ad-hoc place, at listed times or on a regular grid.
  * A notice with an `orbit` block is propagated from its elements; a notice with
- * only a tracklet is refused until orbit estimation from tracklets exists.
+ * only a tracklet is answered by short-arc estimation (systematic ranging into
+ * virtual orbits), whose rows carry the 1-sigma ellipse `unc` and `magSigma`.
  */
 export const HELP = `nightjar ephem --notice FILE (--site ID | --lat DEG --lon DEG --height M)
                (--times ISO[,ISO...] | --start ISO --end ISO --step MINUTES)
-               [--json] [--config FILE]
+               [--members N] [--seed S] [--json] [--config FILE]
 
 Prints where the object of a notice is, as seen from a site: astrometric ICRS
 RA/Dec (light-time corrected, no aberration), rates in arcsec/s (RA rate times
@@ -27,8 +30,13 @@ and solar elongation, apparent altitude/azimuth with refraction, airmass, and
 V magnitude from H and G when the notice gives H. Times are ISO-8601 UTC.
 
 The notice is checked as intake checks it, except for its age: any past or
-future time may be asked for. It must carry an orbit block; estimating an orbit
-from a tracklet alone is not available yet.
+future time may be asked for. A notice with an orbit block is propagated from
+its elements. A notice with only a tracklet is estimated: its positions are
+fitted over a grid of distances and range-rates and resampled into virtual
+orbits; each row is the nominal (a robust centre of the cloud) with unc, the
+1-sigma uncertainty ellipse {major, minor, pa} in arcsec (pa east of north;
+3 x unc holds about 99 % of the virtual orbits), and magSigma, the spread of
+V in mag. These are estimates from a short arc, not an impact prediction.
 
 Options:
   --notice FILE      notice v1 JSON file (required)
@@ -39,6 +47,8 @@ Options:
   --times LIST       comma-separated ISO-8601 UTC times
   --start, --end     first and last time of a grid (ISO-8601 UTC)
   --step MINUTES     grid spacing, minutes
+  --members N        virtual orbits for a tracklet-only notice (default 1000)
+  --seed S           seed of the virtual orbits' draws (default 1; same seed, same rows)
   --json             print a JSON array of rows instead of text
   --config FILE      configuration file (default: NIGHTJAR_CONFIG, else the demo)
   -h, --help         show this help`;
@@ -47,7 +57,7 @@ Options:
 export const MAX_ROWS = 20_000;
 const ISO_UTC = /^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}(:\d{2}(\.\d{1,9})?)?Z$/;
 
-/** Exit code when the notice has no orbit block: nothing can be computed yet. */
+/** Exit code once used for a notice without an orbit block; such notices are now estimated (kept for callers that import it). */
 export const EXIT_NO_ORBIT = 2;
 
 function parseUtc(option: string, text: string): Date {
@@ -73,6 +83,8 @@ interface Options {
   end?: string | undefined;
   step?: string | undefined;
   json?: boolean | undefined;
+  members?: string | undefined;
+  seed?: string | undefined;
   config?: string | undefined;
   help?: boolean | undefined;
 }
@@ -163,9 +175,9 @@ export function roundRow(row: EphemerisRow): EphemerisRow {
     dec: round(row.dec, 7),
     raRate: round(row.raRate, 5),
     decRate: round(row.decRate, 5),
-    unc: row.unc,
+    unc: row.unc === null ? null : { major: roundSignificant(row.unc.major, 4), minor: roundSignificant(row.unc.minor, 4), pa: round(row.unc.pa, 1) },
     mag: row.mag === null ? null : round(row.mag, 2),
-    magSigma: row.magSigma,
+    magSigma: row.magSigma === null ? null : round(row.magSigma, 2),
     delta: roundSignificant(row.delta, 10),
     r: roundSignificant(row.r, 10),
     phase: round(row.phase, 4),
@@ -174,6 +186,30 @@ export function roundRow(row: EphemerisRow): EphemerisRow {
     az: round(row.az, 4),
     airmass: row.airmass === null ? null : round(row.airmass, 4),
   };
+}
+
+function ensembleOptions(values: Options): { members: number; seed: number } {
+  const members = values.members === undefined ? DEFAULT_MEMBERS : parseNumber('--members', values.members);
+  if (!Number.isInteger(members) || members < 10 || members > 100_000) throw new UsageError(`--members: ${values.members}; expected a whole number from 10 to 100000`);
+  const seed = values.seed === undefined ? 1 : parseNumber('--seed', values.seed);
+  if (!Number.isInteger(seed)) throw new UsageError(`--seed: ${values.seed}; expected a whole number`);
+  return { members, seed };
+}
+
+/** The notice's observations as estimation takes them (each with its own observer, else the notice's). */
+export function trackletOf(notice: Notice): TrackletObservation[] {
+  return (notice.observations ?? []).map((o) => {
+    const observer = o.observer ?? notice.observer;
+    return {
+      t: o.t,
+      raDeg: o.ra,
+      decDeg: o.dec,
+      sigmaArcsec: o.sigma,
+      mag: o.mag ?? null,
+      band: o.band ?? null,
+      observer: { latDeg: observer.lat, lonDeg: observer.lon, heightM: observer.height },
+    };
+  });
 }
 
 function formatRa(deg: number): string {
@@ -194,13 +230,20 @@ function formatDec(deg: number): string {
   return `${sign}${String(d).padStart(2, '0')} ${String(m).padStart(2, '0')} ${s.toFixed(1).padStart(4, '0')}`;
 }
 
+function formatArcsec(x: number): string {
+  return x >= 100 ? `${x.toFixed(0)}"` : `${x.toFixed(1)}"`;
+}
+
 function formatText(rows: EphemerisRow[], notice: Notice, label: string): string {
+  const estimated = rows.some((r) => r.unc !== null);
   const lines = [
     `ephemeris of ${notice.objectId} (notice ${notice.noticeId}) from ${label}`,
     'astrometric ICRS, light-time corrected; rates in arcsec/s (RA rate x cos Dec); distances in au; angles in deg',
     '',
-    'time (UTC)            RA (h m s)    Dec (d m s)     raRate   decRate      delta         r   phase   elong     alt      az  airmass     V',
+    'time (UTC)            RA (h m s)    Dec (d m s)     raRate   decRate      delta         r   phase   elong     alt      az  airmass     V' +
+      (estimated ? '    unc 1-sigma (maj x min @ pa)  Vsig' : ''),
   ];
+  if (estimated) lines.splice(2, 0, 'estimated from the tracklet alone (virtual orbits); unc is the 1-sigma ellipse, not an impact prediction');
   for (const row of rows) {
     lines.push(
       [
@@ -217,6 +260,7 @@ function formatText(rows: EphemerisRow[], notice: Notice, label: string): string
         row.az.toFixed(1).padStart(7),
         (row.airmass === null ? '-' : row.airmass.toFixed(2)).padStart(8),
         (row.mag === null ? '-' : row.mag.toFixed(1)).padStart(5),
+        ...(row.unc === null ? [] : [`${formatArcsec(row.unc.major)} x ${formatArcsec(row.unc.minor)} @ ${row.unc.pa.toFixed(0)}`.padStart(22), (row.magSigma === null ? '-' : row.magSigma.toFixed(2)).padStart(6)]),
       ].join(' '),
     );
   }
@@ -235,6 +279,8 @@ export const main: CommandMain = async (argv, io) => {
         end: { type: 'string' },
         step: { type: 'string' },
         json: { type: 'boolean' },
+        members: { type: 'string' },
+        seed: { type: 'string' },
         config: { type: 'string' }
       }, HELP, io);
   if (parsed === null) return 0;
@@ -249,11 +295,11 @@ export const main: CommandMain = async (argv, io) => {
   }
   const notice = read.notice;
   if (notice.orbit === undefined) {
-    io.stderr(
-      `nightjar ephem: notice ${notice.noticeId} (${notice.objectId}) carries observations but no orbit block; ` +
-        'estimating an orbit from a tracklet alone is not available yet, so no ephemeris is printed\n',
-    );
-    return EXIT_NO_ORBIT;
+    const { members, seed } = ensembleOptions(values);
+    const estimate = estimateObject({ objectId: notice.objectId, observations: trackletOf(notice), now: new Date(notice.issuedAt), members, seed });
+    const rows = estimate.ephemeris(location, times).map((row) => roundRow(row));
+    io.stdout(values.json ? `${JSON.stringify(rows, null, 2)}\n` : formatText(rows, notice, label));
+    return 0;
   }
   const { elements, epochTt } = elementsFromNoticeOrbit(notice.orbit);
   const photometry = notice.orbit.H === undefined ? undefined : { hMag: notice.orbit.H, g: notice.orbit.G ?? 0.15 };

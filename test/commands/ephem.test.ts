@@ -84,11 +84,36 @@ describe('nightjar ephem', () => {
     expect(text).toMatch(/\n2027-03-05T03:00:00Z +\d{2} \d{2} \d{2}\.\d{2} +[+-]\d{2} \d{2} \d{2}\.\d/);
   });
 
-  it('exits 2 without numbers when the notice has only a tracklet', async () => {
+  it('answers a tracklet-only notice with estimated rows carrying unc {major, minor, pa} and magSigma', async () => {
     const io = collectingIo();
-    expect(await main(['--notice', trackletOnlyPath, '--site', 'lantern-ridge', '--times', '2026-11-30T06:00:00Z', '--json'], io)).toBe(2);
-    expect(io.out.join('')).toBe('');
-    expect(io.err.join('')).toMatch(/no orbit block; estimating an orbit from a tracklet alone is not available yet/);
+    const args = ['--notice', trackletOnlyPath, '--site', 'lantern-ridge', '--times', '2026-11-30T06:00:00Z,2026-12-01T05:00:00Z', '--members', '200', '--seed', '3', '--json'];
+    expect(await main(args, io)).toBe(0);
+    const rows = JSON.parse(io.out.join('')) as (Row & { unc: { major: number; minor: number; pa: number }; magSigma: number })[];
+    expect(rows).toHaveLength(2);
+    expect(Object.keys(rows[0]!)).toEqual(['t', 'ra', 'dec', 'raRate', 'decRate', 'unc', 'mag', 'magSigma', 'delta', 'r', 'phase', 'elong', 'alt', 'az', 'airmass']);
+    expect(Object.keys(rows[0]!.unc)).toEqual(['major', 'minor', 'pa']);
+    expect(rows[1]!.unc.major).toBeGreaterThan(rows[0]!.unc.major);
+    expect(rows[0]!.unc.major).toBeGreaterThanOrEqual(rows[0]!.unc.minor);
+    expect(rows[0]!.magSigma).toBeGreaterThanOrEqual(0);
+    // The demo tracklet moves 0.07 deg in RA per 20 min: 50 min after its last position (61.61217) the line gives 61.787;
+    // the nominal stays within 0.01 deg of that straight-line extrapolation so soon after the arc.
+    expect(Math.abs(rows[0]!.ra - 61.78717)).toBeLessThan(0.01);
+    const again = collectingIo();
+    expect(await main(args, again)).toBe(0);
+    expect(again.out.join('')).toBe(io.out.join(''));
+  });
+
+  it('prints the uncertainty columns in text for a tracklet-only notice', async () => {
+    const io = collectingIo();
+    expect(await main(['--notice', trackletOnlyPath, '--site', 'lantern-ridge', '--times', '2026-11-30T06:00:00Z', '--members', '100'], io)).toBe(0);
+    const text = io.out.join('');
+    expect(text).toMatch(/estimated from the tracklet alone/);
+    expect(text).toMatch(/unc 1-sigma/);
+  });
+
+  it('refuses a member count that is not a whole number from 10 to 100000', async () => {
+    await expect(main(['--notice', trackletOnlyPath, '--site', 'lantern-ridge', '--times', '2026-11-30T06:00:00Z', '--members', '5'], collectingIo())).rejects.toThrow(UsageError);
+    await expect(main(['--notice', trackletOnlyPath, '--site', 'lantern-ridge', '--times', '2026-11-30T06:00:00Z', '--seed', '1.5'], collectingIo())).rejects.toThrow(/--seed/);
   });
 
   it('does not check the age of a notice: a notice from the future is accepted', async () => {

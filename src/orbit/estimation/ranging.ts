@@ -6,7 +6,7 @@ import { streamEnsemble } from '../propagate.js';
 import { ttFromUtc } from '../time.js';
 import type { Attributable } from './attributable.js';
 import { EstimationFailedError } from './errors.js';
-import { cholesky } from './linalg.js';
+import { cholesky, invert } from './linalg.js';
 import type { PreparedObservation } from './observations.js';
 import type { RandomSource } from './random.js';
 import { project, unitFromRaDec, unproject, type Vec3 } from './tangent.js';
@@ -33,8 +33,8 @@ import { project, unitFromRaDec, unproject, type Vec3 } from './tangent.js';
  * log range) by default. Grid refinement: while the posterior weight is
  * concentrated (99.9 % inside less than half the current span of log range,
  * or fewer than 40 nodes effectively carrying it), a new grid covers that
- * span, each row's range-rates following the weighted range-rates of its
- * neighbours in the previous pass; at most five passes.
+ * span of log range (each row again over its whole admissible range-rate
+ * interval, then profiled); at most five passes.
  */
 
 /** Smallest range on the grid, au (45 000 km, about a ninth of the Moon's distance). */
@@ -183,56 +183,104 @@ function paramsRate(ctx: Context): [number, number] {
 
 /**
  * Fits the four angular parameters at many (rho, rhoDot) nodes at once: one
- * ensemble propagation per Gauss-Newton evaluation. Returns params and chi^2 per node.
+ * ensemble propagation per Gauss-Newton evaluation. With `fitRate` the
+ * range-rate is a fifth parameter, its partials by a forward difference of
+ * RATE_STEP_AU_PER_DAY (one more propagation per evaluation). Returns the
+ * parameters, chi^2 and (with fitRate) the fitted rate and its sigma per node.
  */
-function fitNodes(ctx: Context, nodes: readonly { rho: number; rate: number }[], evaluations: number): { params: number[][]; chiSquare: number[] } {
+function fitNodes(
+  ctx: Context,
+  nodes: readonly { rho: number; rate: number }[],
+  evaluations: number,
+  options: { fitRate?: boolean; start?: readonly (readonly number[])[] } = {},
+): { params: number[][]; chiSquare: number[]; rates: number[]; rateSigma: number[] } {
   const [xiDot, etaDot] = paramsRate(ctx);
-  const params = nodes.map(() => [0, 0, xiDot, etaDot]);
+  const params = nodes.map((_, j) => [...(options.start?.[j] ?? [0, 0, xiDot, etaDot])]);
+  const rates = nodes.map((n) => n.rate);
+  const rateSigma = nodes.map(() => Infinity);
   const chiSquare = nodes.map(() => Infinity);
   const nObs = ctx.observations.length;
   const [n00, n01, n11] = ctx.normalInverse;
-  for (let evaluation = 0; evaluation < evaluations; evaluation++) {
-    const states = nodes.map((node, j) => stateOf(ctx, params[j]!, node.rho, node.rate));
-    const resXi = new Float64Array(nodes.length * nObs);
-    const resEta = new Float64Array(nodes.length * nObs);
+  const fitRate = options.fitRate ?? false;
+  const residuals = (states: HeliocentricState[]): { xi: Float64Array; eta: Float64Array } => {
+    const xi = new Float64Array(states.length * nObs);
+    const eta = new Float64Array(states.length * nObs);
     streamEnsemble(
       states,
       ctx.timesTt,
       (k, pos, vel) => {
         const geometry = ctx.geometries[k]!;
-        for (let m = 0; m < nodes.length; m++) {
+        for (let m = 0; m < states.length; m++) {
           const place = astrometricPlace(
             { x: pos[3 * m]!, y: pos[3 * m + 1]!, z: pos[3 * m + 2]! },
             { x: vel[3 * m]!, y: vel[3 * m + 1]!, z: vel[3 * m + 2]! },
             geometry,
           );
           const p = project(ctx.attributable.frame, unitFromRaDec((place.raDeg * Math.PI) / 180, (place.decDeg * Math.PI) / 180));
-          resXi[m * nObs + k] = ctx.observedXi[k]! - p[0];
-          resEta[m * nObs + k] = ctx.observedEta[k]! - p[1];
+          xi[m * nObs + k] = ctx.observedXi[k]! - p[0];
+          eta[m * nObs + k] = ctx.observedEta[k]! - p[1];
         }
       },
       { stepFraction: 0.2, maxStepDays: 0.05 },
     );
+    return { xi, eta };
+  };
+  for (let evaluation = 0; evaluation < evaluations; evaluation++) {
+    const last = evaluation === evaluations - 1;
+    const states = nodes.map((node, j) => stateOf(ctx, params[j]!, node.rho, rates[j]!));
+    if (fitRate && !last) nodes.forEach((node, j) => states.push(stateOf(ctx, params[j]!, node.rho, rates[j]! + RATE_STEP_AU_PER_DAY)));
+    const res = residuals(states);
     for (let m = 0; m < nodes.length; m++) {
-      let chi = 0, bx0 = 0, bx1 = 0, by0 = 0, by1 = 0;
+      let chi = 0;
       for (let k = 0; k < nObs; k++) {
-        const w = ctx.weights[k]!, dt = ctx.dtDays[k]!;
-        const rx = resXi[m * nObs + k]!, ry = resEta[m * nObs + k]!;
-        chi += w * (rx * rx + ry * ry);
-        bx0 += w * rx; bx1 += w * rx * dt; by0 += w * ry; by1 += w * ry * dt;
+        const rx = res.xi[m * nObs + k]!, ry = res.eta[m * nObs + k]!;
+        chi += ctx.weights[k]! * (rx * rx + ry * ry);
       }
       chiSquare[m] = chi;
-      if (evaluation < evaluations - 1) {
-        const p = params[m]!;
+      if (last) continue;
+      const p = params[m]!;
+      if (!fitRate) {
+        let bx0 = 0, bx1 = 0, by0 = 0, by1 = 0;
+        for (let k = 0; k < nObs; k++) {
+          const w = ctx.weights[k]!, dt = ctx.dtDays[k]!;
+          const rx = res.xi[m * nObs + k]!, ry = res.eta[m * nObs + k]!;
+          bx0 += w * rx; bx1 += w * rx * dt; by0 += w * ry; by1 += w * ry * dt;
+        }
         p[0]! += n00 * bx0 + n01 * bx1;
         p[2]! += n01 * bx0 + n11 * bx1;
         p[1]! += n00 * by0 + n01 * by1;
         p[3]! += n01 * by0 + n11 * by1;
+        continue;
       }
+      // Five parameters: rows [1, 0, dt, 0, Jx] (xi) and [0, 1, 0, dt, Jy] (eta); residual = obs - pred, J = d(pred)/d(rate).
+      const normal = Array.from({ length: 5 }, () => new Array<number>(5).fill(0));
+      const rhs = new Array<number>(5).fill(0);
+      const off = nodes.length + m;
+      for (let k = 0; k < nObs; k++) {
+        const w = ctx.weights[k]!, dt = ctx.dtDays[k]!;
+        const jx = (res.xi[m * nObs + k]! - res.xi[off * nObs + k]!) / RATE_STEP_AU_PER_DAY;
+        const jy = (res.eta[m * nObs + k]! - res.eta[off * nObs + k]!) / RATE_STEP_AU_PER_DAY;
+        const rowX = [1, 0, dt, 0, jx], rowY = [0, 1, 0, dt, jy];
+        for (const [row, r] of [[rowX, res.xi[m * nObs + k]!], [rowY, res.eta[m * nObs + k]!]] as const) {
+          for (let a = 0; a < 5; a++) {
+            rhs[a]! += w * row[a]! * r;
+            for (let b2 = 0; b2 < 5; b2++) normal[a]![b2]! += w * row[a]! * row[b2]!;
+          }
+        }
+      }
+      const inverse = invert(normal);
+      if (!inverse) continue;
+      const step = inverse.map((row) => row.reduce((sum, c, b2) => sum + c * rhs[b2]!, 0));
+      for (let a = 0; a < 4; a++) p[a]! += step[a]!;
+      rates[m] = rates[m]! + step[4]!;
+      rateSigma[m] = Math.sqrt(Math.max(inverse[4]![4]!, 0));
     }
   }
-  return { params, chiSquare };
+  return { params, chiSquare, rates, rateSigma };
 }
+
+/** Forward-difference step for range-rate partials, au/day (1.7 m/s). */
+const RATE_STEP_AU_PER_DAY = 1e-6;
 
 interface Box {
   logLo: number;
@@ -255,17 +303,14 @@ export function systematicRanging(observations: readonly PreparedObservation[], 
   let minChi = Infinity;
   while (pass < maxPasses) {
     pass++;
-    const previous = nodes;
     const logWidth = (box.logHi - box.logLo) / rangeNodes;
     const grid: GridNode[] = [];
     for (let i = 0; i < rangeNodes; i++) {
       const rho = Math.exp(box.logLo + (i + 0.5) * logWidth);
       const interval = admissibleRates(ctx, rho);
       if (!interval) continue;
-      // After the first pass each row follows the weighted range-rates of its neighbours in the last pass (a tilted ridge stays covered).
-      const band = previous.length > 0 ? rateBand(previous, Math.log(rho)) : { lo: -Infinity, hi: Infinity };
-      if (!band) continue;
-      const lo = Math.max(interval.lo, band.lo), hi = Math.min(interval.hi, band.hi);
+      // Every row spans its whole admissible interval; the row profile then finds a tight range-rate wherever the ridge runs.
+      const lo = interval.lo, hi = interval.hi;
       if (!(hi > lo)) continue;
       const rateWidth = (hi - lo) / rateNodes;
       for (let j = 0; j < rateNodes; j++) {
@@ -279,7 +324,7 @@ export function systematicRanging(observations: readonly PreparedObservation[], 
       break;
     }
     const evaluations = options.evaluations ?? 3;
-    let fitted = fitNodes(ctx, grid, evaluations);
+    let fitted: { params: number[][]; chiSquare: number[] } = fitNodes(ctx, grid, evaluations);
     evaluated += grid.length;
     // Rows where the data pin the range-rate more tightly than the grid resolves are re-gridded around their minimum.
     const profiled = profileRows(ctx, grid, fitted, rateNodes, evaluations);
@@ -305,6 +350,7 @@ export function systematicRanging(observations: readonly PreparedObservation[], 
       break;
     }
     for (const n of candidate) n.weight /= total;
+    if (process.env['NIGHTJAR_DEBUG_RANGING']) console.error('pass', pass, 'box', Math.exp(box.logLo).toExponential(3), Math.exp(box.logHi).toExponential(3), 'nodes', grid.length, 'min', passMin.toFixed(2), 'eff', (1 / candidate.reduce((s2, n) => s2 + n.weight * n.weight, 0)).toFixed(1));
     // A later pass replaces the earlier one only if it found fits at least as good.
     if (pass > 1 && passMin > minChi + 1) break;
     nodes = candidate;
@@ -328,63 +374,47 @@ export function systematicRanging(observations: readonly PreparedObservation[], 
 type GridNode = { rho: number; rate: number; logWidth: number; rateWidth: number };
 
 /**
- * Per range row: the chi-square minimum over range-rate by three rounds of
- * parabolic interpolation through the row's three best points (Brent 1973,
- * Algorithms for Minimization without Derivatives, ch. 5, without the
- * golden-section fallback), all rows evaluated together; sigma from the
- * parabola's curvature (delta chi^2 = 1). A row whose +-5 sigma band is
- * narrower than a quarter of its grid span gets `rateNodes` new nodes across
- * that band instead of its old ones.
+ * Per range row: the range-rate that best fits the data, by Gauss-Newton with
+ * range-rate as a fifth parameter started from the row's best grid node (four
+ * evaluations), and its sigma from the normal matrix. A row whose +-5 sigma
+ * band is narrower than a quarter of its grid span gets `rateNodes` new nodes
+ * across that band, fitted from the profile's angles, instead of its old ones;
+ * such a tight range-rate is what a close object's changing parallax gives.
  */
 function profileRows(ctx: Context, grid: GridNode[], fitted: { params: number[][]; chiSquare: number[] }, rateNodes: number, evaluations: number): { grid: GridNode[]; fitted: { params: number[][]; chiSquare: number[] }; evaluated: number } {
-  const rows = new Map<number, { points: { x: number; chi: number }[]; lo: number; hi: number; logWidth: number }>();
+  const rows = new Map<number, { best: number; lo: number; hi: number; logWidth: number }>();
   grid.forEach((g, j) => {
-    const row = rows.get(g.rho) ?? { points: [], lo: Infinity, hi: -Infinity, logWidth: g.logWidth };
-    row.points.push({ x: g.rate, chi: fitted.chiSquare[j]! });
+    const row = rows.get(g.rho) ?? { best: j, lo: Infinity, hi: -Infinity, logWidth: g.logWidth };
+    if (fitted.chiSquare[j]! < fitted.chiSquare[row.best]!) row.best = j;
     row.lo = Math.min(row.lo, g.rate - g.rateWidth / 2);
     row.hi = Math.max(row.hi, g.rate + g.rateWidth / 2);
     rows.set(g.rho, row);
   });
-  let evaluated = 0;
-  const parabola = (pts: { x: number; chi: number }[]): { a: number; vertex: number } | null => {
-    const [p, q, r] = [...pts].sort((u, v) => u.chi - v.chi).slice(0, 3);
-    if (!p || !q || !r || p.x === q.x || q.x === r.x || p.x === r.x) return null;
-    // Divided differences of chi(x) = a x^2 + b x + c.
-    const d1 = (q.chi - p.chi) / (q.x - p.x), d2 = (r.chi - q.chi) / (r.x - q.x);
-    const a = (d2 - d1) / (r.x - p.x);
-    const b = d1 - a * (p.x + q.x);
-    return a > 0 ? { a, vertex: -b / (2 * a) } : null;
-  };
-  for (let round = 0; round < 3; round++) {
-    const trial: { rho: number; rate: number }[] = [];
-    for (const [rho, row] of rows) {
-      if (row.points.length < 3) continue;
-      const fit = parabola(row.points);
-      if (!fit) continue;
-      const x = Math.min(Math.max(fit.vertex, row.lo), row.hi);
-      if (row.points.some((pt) => Math.abs(pt.x - x) < 1e-12 * (row.hi - row.lo))) continue;
-      trial.push({ rho, rate: x });
-    }
-    if (trial.length === 0) break;
-    const result = fitNodes(ctx, trial, evaluations);
-    evaluated += trial.length;
-    trial.forEach((t, j) => rows.get(t.rho)!.points.push({ x: t.rate, chi: result.chiSquare[j]! }));
-  }
+  const entries = [...rows.entries()];
+  const profile = fitNodes(
+    ctx,
+    entries.map(([rho, row]) => ({ rho, rate: grid[row.best]!.rate })),
+    4,
+    { fitRate: true, start: entries.map(([, row]) => fitted.params[row.best]!) },
+  );
+  let evaluated = entries.length;
   const replaced = new Map<number, GridNode[]>();
-  for (const [rho, row] of rows) {
-    const fit = parabola(row.points);
-    if (!fit) continue;
-    const sigma = 1 / Math.sqrt(fit.a);
-    const best = row.points.reduce((m, pt) => (pt.chi < m.chi ? pt : m));
-    const lo = Math.max(row.lo, best.x - 5 * sigma), hi = Math.min(row.hi, best.x + 5 * sigma);
-    if (!(hi > lo) || hi - lo > 0.25 * (row.hi - row.lo)) continue;
+  const starts = new Map<number, number[]>();
+  entries.forEach(([rho, row], j) => {
+    const sigma = profile.rateSigma[j]!;
+    const centre = profile.rates[j]!;
+    if (process.env['NIGHTJAR_DEBUG_RANGING']) console.error('  row', rho.toExponential(4), 'grid best', fitted.chiSquare[row.best]!.toFixed(2), 'at', grid[row.best]!.rate.toExponential(3), 'profile', profile.chiSquare[j]!.toFixed(2), 'rate', centre.toExponential(4), 'sigma', sigma.toExponential(2), 'span', row.lo.toExponential(3), row.hi.toExponential(3));
+    if (!Number.isFinite(sigma) || !(sigma > 0) || centre < row.lo || centre > row.hi) return;
+    const lo = Math.max(row.lo, centre - 5 * sigma), hi = Math.min(row.hi, centre + 5 * sigma);
+    if (!(hi > lo) || hi - lo > 0.25 * (row.hi - row.lo)) return;
     const rateWidth = (hi - lo) / rateNodes;
-    replaced.set(rho, Array.from({ length: rateNodes }, (_, j) => ({ rho, rate: lo + (j + 0.5) * rateWidth, logWidth: row.logWidth, rateWidth })));
-  }
+    replaced.set(rho, Array.from({ length: rateNodes }, (_, k) => ({ rho, rate: lo + (k + 0.5) * rateWidth, logWidth: row.logWidth, rateWidth })));
+    starts.set(rho, profile.params[j]!);
+  });
   if (replaced.size === 0) return { grid, fitted, evaluated };
   const kept = grid.map((g, j) => ({ g, j })).filter(({ g }) => !replaced.has(g.rho));
   const fresh = [...replaced.values()].flat();
-  const freshFit = fitNodes(ctx, fresh, evaluations);
+  const freshFit = fitNodes(ctx, fresh, evaluations, { start: fresh.map((g) => starts.get(g.rho)!) });
   evaluated += fresh.length;
   return {
     grid: [...kept.map((k) => k.g), ...fresh],
@@ -398,19 +428,6 @@ function profileRows(ctx: Context, grid: GridNode[], fitted: { params: number[][
 
 /** Refinement continues while fewer nodes than this carry the weight (1 / sum of squared weights). */
 const MIN_EFFECTIVE_NODES = 40;
-
-/** Range-rate band (au/day) of the weighted last-pass nodes within one row of ln(range) `logRho`, widened by a cell; null when none. */
-function rateBand(previous: readonly RangingNode[], logRho: number): { lo: number; hi: number } | null {
-  let lo = Infinity, hi = -Infinity;
-  const maxWeight = previous.reduce((m, n) => Math.max(m, n.weight), 0);
-  for (const n of previous) {
-    if (n.weight < 1e-6 * maxWeight) continue;
-    if (Math.abs(Math.log(n.rangeAu) - logRho) > 1.5 * n.logRangeWidth) continue;
-    lo = Math.min(lo, n.rangeRateAuPerDay - n.rateWidth);
-    hi = Math.max(hi, n.rangeRateAuPerDay + n.rateWidth);
-  }
-  return hi > lo ? { lo, hi } : null;
-}
 
 /** The box holding the central 99.9 % of the weight in ln(range) and range-rate, widened by one cell. */
 function concentratedBox(nodes: readonly RangingNode[]): Box {
@@ -439,9 +456,9 @@ function concentratedBox(nodes: readonly RangingNode[]): Box {
 /**
  * Draws `count` virtual orbits from the ranging posterior: nodes by
  * systematic resampling of their weights (Kitagawa 1996, J. Comput. Graph.
- * Stat. 5, 1), a uniform position inside the node's cell in ln(range) and
- * range-rate, and the angular parameters from the node's fit plus Gaussian
- * noise with the attributable's covariance.
+ * Stat. 5, 1) at the node's range and range-rate, and the angular
+ * parameters from the node's fit plus Gaussian noise with the attributable's
+ * covariance.
  */
 export function drawVirtualOrbits(ranging: RangingResult, covariance: readonly (readonly number[])[], count: number, random: RandomSource): VirtualOrbit[] {
   const chol = cholesky(covariance);
@@ -457,8 +474,10 @@ export function drawVirtualOrbits(ranging: RangingResult, covariance: readonly (
       j++;
     }
     const node = nodes[j]!;
-    const rho = node.rangeAu * Math.exp((random.uniform() - 0.5) * node.logRangeWidth);
-    const rate = node.rangeRateAuPerDay + (random.uniform() - 0.5) * node.rateWidth;
+    // Members sit on their node's (range, range-rate): the node's angles are fitted there, and a tightly
+    // constrained arc does not tolerate moving within the cell at fixed angles.
+    const rho = node.rangeAu;
+    const rate = node.rangeRateAuPerDay;
     const z = [random.normal(), random.normal(), random.normal(), random.normal()];
     const params = node.params.map((p, a) => p + chol[a]!.reduce((s, l, b) => s + l * z[b]!, 0));
     out.push({ state: ranging.stateOf(params, rho, rate), rangeAu: rho, rangeRateAuPerDay: rate, node: j });
