@@ -12,6 +12,7 @@ import { createRateLimiter } from './rate-limit.js';
 import { defineRoute, openApiDocument, registerRoutes, type AnyRouteSpec } from './route-spec.js';
 import { noticeRoutes } from './routes/notices.js';
 import { objectRoutes } from './routes/objects.js';
+import { pictureRoutes } from './routes/pictures.js';
 import { requestRoutes } from './routes/requests.js';
 import { deliveryRoutes, serviceRoutes } from './routes/service.js';
 
@@ -106,6 +107,7 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
     ...requestRoutes(ctx),
     ...objectRoutes(ctx),
     ...deliveryRoutes(ctx),
+    ...pictureRoutes(ctx),
     ...(options.extraRoutes ? options.extraRoutes(ctx) : []),
   ];
   const info = {

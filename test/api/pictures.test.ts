@@ -2,7 +2,7 @@ import type { FastifyInstance } from 'fastify';
 import { afterEach, beforeAll, describe, expect, it } from 'vitest';
 import { buildApp } from '../../src/api/app.js';
 import { CAUTIONS } from '../../src/api/docs-page.js';
-import { currentLocalDate, pictureRoutes } from '../../src/api/routes/pictures.js';
+import { currentLocalDate } from '../../src/api/routes/pictures.js';
 import { MIGRATIONS_DIR } from '../../src/config/load.js';
 import type { ObjectEstimate } from '../../src/orbit/estimate-types.js';
 import type { NewRequest } from '../../src/store/requests.js';
@@ -53,7 +53,6 @@ async function setup(options: { withEstimates?: boolean } = {}) {
     store,
     clock,
     migrationsDir: MIGRATIONS_DIR,
-    extraRoutes: pictureRoutes,
     ...(options.withEstimates ? { estimateFor: (id: string) => estimates.get(id) ?? null } : {}),
   });
   return { app, store };
