@@ -8,7 +8,7 @@
  *                  90th-percentile error of the nominal, median error of linear extrapolation,
  *                  fraction of truths inside the 3-sigma ellipse, median 1-sigma major axis and its
  *                  ratio to the median error; for all cases and per kind.
- *   priors       - the same bar for range priors rho^k, k = -1 (flat in log range), -0.5, 0 (flat in range).
+ *   priors       - the same bar for range priors rho^k, k = -1 (flat in log range), -0.5, 0 (flat in range), 0.5.
  * Cases come from src/orbit/estimation/synthetic.ts (invented sites, independent RK4 truth).
  */
 import { estimateObject } from '../../src/orbit/estimation/index.js';
@@ -99,5 +99,5 @@ if (mode === 'speed' || mode === 'all') speed();
 if (mode === 'calibration' || mode === 'all' || mode === 'priors') {
   const all = cases();
   if (mode !== 'priors') calibration(all);
-  if (mode === 'priors') for (const k of [-1, -0.5, 0]) calibration(all, { rangePriorExponent: k }, `prior rho^${k}`);
+  if (mode === 'priors') for (const k of [-1, -0.5, 0, 0.5]) calibration(all, { rangePriorExponent: k }, `prior rho^${k}`);
 }

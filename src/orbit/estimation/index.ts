@@ -5,7 +5,7 @@
 export { estimateObject, orbitClass, DEFAULT_MEMBERS, CLOSE_APPROACH_AU, CLOSE_APPROACH_WINDOW_DAYS, LUNAR_DISTANCE_KM, ALBEDO_RANGE, ORBIT_BLOCK_DEFAULT_SIGMA } from './estimate.js';
 export type { EstimateInput, EstimatedEphemerisRow, NoticeOrbitBlock, ShortArcEstimate } from './estimate.js';
 export { fitAttributable, extrapolateAttributable, OUTLIER_CHI2_2DOF, type Attributable } from './attributable.js';
-export { systematicRanging, drawVirtualOrbits, RANGE_MIN_AU, RANGE_MAX_AU, type RangingOptions, type RangingResult, type VirtualOrbit } from './ranging.js';
+export { systematicRanging, drawVirtualOrbits, RANGE_MIN_AU, RANGE_MAX_AU, DEFAULT_RANGE_PRIOR_EXPONENT, type RangingOptions, type RangingResult, type VirtualOrbit } from './ranging.js';
 export { prepareObservations, type PreparedObservation } from './observations.js';
 export { skySpread, ellipseDistanceSquared, offsetArcsec, GAUSSIAN_3SIGMA_CONTENT_2D, type SkySpread } from './sky-spread.js';
 export { createRandom, type RandomSource } from './random.js';

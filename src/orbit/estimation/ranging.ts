@@ -29,13 +29,25 @@ import { project, unitFromRaDec, unproject, type Vec3 } from './tangent.js';
  * the rates), three evaluations per node. Likelihood exp(-chi^2/2).
  *
  * Prior (documented in docs/accuracy.md): density in (rho, rhoDot) proportional
- * to rho^k, flat in range-rate inside the admissible region; k = -1 (flat in
- * log range) by default. Grid refinement: while the posterior weight is
+ * to rho^k, flat in range-rate inside the admissible region; k =
+ * DEFAULT_RANGE_PRIOR_EXPONENT (0, flat in range) unless given. Grid refinement: while the posterior weight is
  * concentrated (99.9 % inside less than half the current span of log range,
  * or fewer than 40 nodes effectively carrying it), a new grid covers that
  * span of log range (each row again over its whole admissible range-rate
  * interval, then profiled); at most five passes.
  */
+
+/**
+ * Default exponent k of the range prior rho^k: 0, flat in range. Reasoning
+ * (population, from memory): for a magnitude-limited search near the Earth
+ * (r about 1 au, Delta about rho) the objects brighter than the limit at range
+ * rho number rho^2 (shell volume) times 10^(alpha H_lim) with H_lim = V_lim -
+ * 5 log10(rho), i.e. rho^(2 - 5 alpha); a cumulative H slope alpha of about
+ * 0.4 (the NEO size distribution's slope near H = 20-25, e.g. Harris &
+ * D'Abramo 2015, Icarus 257, 302) gives rho^0. Measured against -1 (flat in
+ * log range) and -0.5 on the calibration generator in docs/accuracy.md.
+ */
+export const DEFAULT_RANGE_PRIOR_EXPONENT = 0;
 
 /** Smallest range on the grid, au (45 000 km, about a ninth of the Moon's distance). */
 export const RANGE_MIN_AU = 3e-4;
@@ -43,7 +55,7 @@ export const RANGE_MIN_AU = 3e-4;
 export const RANGE_MAX_AU = 6;
 
 export interface RangingOptions {
-  /** Exponent k of the range prior rho^k; default -1 (flat in log range). */
+  /** Exponent k of the range prior rho^k; default 0 (flat in range, see DEFAULT_RANGE_PRIOR_EXPONENT). */
   readonly rangePriorExponent?: number;
   readonly rangeNodes?: number;
   readonly rateNodes?: number;
@@ -292,7 +304,7 @@ interface Box {
 /** Runs the ranging passes for a tracklet whose attributable is given. */
 export function systematicRanging(observations: readonly PreparedObservation[], attributable: Attributable, options: RangingOptions = {}): RangingResult {
   const ctx = makeContext(observations, attributable);
-  const k = options.rangePriorExponent ?? -1;
+  const k = options.rangePriorExponent ?? DEFAULT_RANGE_PRIOR_EXPONENT;
   const rangeNodes = options.rangeNodes ?? 36;
   const rateNodes = options.rateNodes ?? 10;
   const maxPasses = options.passes ?? 5;
@@ -350,7 +362,6 @@ export function systematicRanging(observations: readonly PreparedObservation[], 
       break;
     }
     for (const n of candidate) n.weight /= total;
-    if (process.env['NIGHTJAR_DEBUG_RANGING']) console.error('pass', pass, 'box', Math.exp(box.logLo).toExponential(3), Math.exp(box.logHi).toExponential(3), 'nodes', grid.length, 'min', passMin.toFixed(2), 'eff', (1 / candidate.reduce((s2, n) => s2 + n.weight * n.weight, 0)).toFixed(1));
     // A later pass replaces the earlier one only if it found fits at least as good.
     if (pass > 1 && passMin > minChi + 1) break;
     nodes = candidate;
@@ -403,7 +414,6 @@ function profileRows(ctx: Context, grid: GridNode[], fitted: { params: number[][
   entries.forEach(([rho, row], j) => {
     const sigma = profile.rateSigma[j]!;
     const centre = profile.rates[j]!;
-    if (process.env['NIGHTJAR_DEBUG_RANGING']) console.error('  row', rho.toExponential(4), 'grid best', fitted.chiSquare[row.best]!.toFixed(2), 'at', grid[row.best]!.rate.toExponential(3), 'profile', profile.chiSquare[j]!.toFixed(2), 'rate', centre.toExponential(4), 'sigma', sigma.toExponential(2), 'span', row.lo.toExponential(3), row.hi.toExponential(3));
     if (!Number.isFinite(sigma) || !(sigma > 0) || centre < row.lo || centre > row.hi) return;
     const lo = Math.max(row.lo, centre - 5 * sigma), hi = Math.min(row.hi, centre + 5 * sigma);
     if (!(hi > lo) || hi - lo > 0.25 * (row.hi - row.lo)) return;
