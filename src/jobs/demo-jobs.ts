@@ -6,15 +6,14 @@ import type { JobSpec } from './scheduler.js';
 
 /**
  * The living demo: invented notices observed shortly before `now`, written
- * into the inbox (temporary name, then renamed into place). Every other notice
- * goes without its orbit block, so the demo exercises both the orbit-block path
- * and short-arc estimation from the tracklet alone.
+ * into the inbox (temporary name, then renamed into place). Like most survey
+ * notices of new objects they carry a tracklet only, so the demo runs the
+ * short-arc estimation.
  */
 export function writeSimulatedNotices(inboxPath: string, now: Date, count: number, seed: number): string[] {
   mkdirSync(inboxPath, { recursive: true });
-  return simulateNight({ now, count, seed, withOrbit: true }).map((s, k) => {
+  return simulateNight({ now, count, seed }).map((s) => {
     const notice = { ...s.notice };
-    if (k % 2 === 1) delete notice['orbit'];
     const name = `sim-${String(notice['noticeId'])}.json`;
     const tmp = join(inboxPath, `.${name}.part`);
     writeFileSync(tmp, `${JSON.stringify(notice, null, 2)}\n`);
