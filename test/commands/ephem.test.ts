@@ -37,7 +37,7 @@ const write = (name: string, body: unknown) => {
   return path;
 };
 const orbitPath = write('orbit.json', orbitNotice);
-const trackletOnlyPath = resolve('config/demo/notices/0001-HF26K0A.json');
+const trackletOnlyPath = resolve('config/demo/notices/0001-close-approacher.json');
 
 interface Row {
   t: string; ra: number; dec: number; raRate: number; decRate: number; unc: unknown; mag: number | null; magSigma: unknown;
@@ -86,7 +86,7 @@ describe('nightjar ephem', () => {
 
   it('answers a tracklet-only notice with estimated rows carrying unc {major, minor, pa} and magSigma', async () => {
     const io = collectingIo();
-    const args = ['--notice', trackletOnlyPath, '--site', 'lantern-ridge', '--times', '2026-11-30T06:00:00Z,2026-12-01T05:00:00Z', '--members', '200', '--seed', '3', '--json'];
+    const args = ['--notice', trackletOnlyPath, '--site', 'lantern-ridge', '--times', '2026-11-30T07:43:12Z,2026-12-01T05:00:00Z', '--members', '200', '--seed', '3', '--json'];
     expect(await main(args, io)).toBe(0);
     const rows = JSON.parse(io.out.join('')) as (Row & { unc: { major: number; minor: number; pa: number }; magSigma: number })[];
     expect(rows).toHaveLength(2);
@@ -95,9 +95,13 @@ describe('nightjar ephem', () => {
     expect(rows[1]!.unc.major).toBeGreaterThan(rows[0]!.unc.major);
     expect(rows[0]!.unc.major).toBeGreaterThanOrEqual(rows[0]!.unc.minor);
     expect(rows[0]!.magSigma).toBeGreaterThanOrEqual(0);
-    // The demo tracklet moves 0.07 deg in RA per 20 min: 50 min after its last position (61.61217) the line gives 61.787;
-    // the nominal stays within 0.01 deg of that straight-line extrapolation so soon after the arc.
-    expect(Math.abs(rows[0]!.ra - 61.78717)).toBeLessThan(0.01);
+    // 50 min after its last position the nominal stays within 0.02 deg of the straight line through the
+    // tracklet's last two positions (the survey site is not the follow-up site, hence the margin).
+    const demo = JSON.parse(readFileSync(trackletOnlyPath, 'utf8')) as { observations: { t: string; ra: number }[] };
+    const [a, b] = demo.observations.slice(-2);
+    const perMs = (b!.ra - a!.ra) / (Date.parse(b!.t) - Date.parse(a!.t));
+    const line = b!.ra + perMs * (Date.parse('2026-11-30T07:43:12Z') - Date.parse(b!.t));
+    expect(Math.abs(rows[0]!.ra - line)).toBeLessThan(0.02);
     const again = collectingIo();
     expect(await main(args, again)).toBe(0);
     expect(again.out.join('')).toBe(io.out.join(''));
@@ -105,7 +109,7 @@ describe('nightjar ephem', () => {
 
   it('prints the uncertainty columns in text for a tracklet-only notice', async () => {
     const io = collectingIo();
-    expect(await main(['--notice', trackletOnlyPath, '--site', 'lantern-ridge', '--times', '2026-11-30T06:00:00Z', '--members', '100'], io)).toBe(0);
+    expect(await main(['--notice', trackletOnlyPath, '--site', 'lantern-ridge', '--times', '2026-11-30T07:43:12Z', '--members', '100'], io)).toBe(0);
     const text = io.out.join('');
     expect(text).toMatch(/estimated from the tracklet alone/);
     expect(text).toMatch(/unc 1-sigma/);

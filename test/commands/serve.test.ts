@@ -23,9 +23,9 @@ describe('nightjar serve', () => {
     expect((await (await fetch(`${url}/healthz`)).json()) as object).toMatchObject({ status: 'ok' });
     const notices = await until('the demo notices', async () => {
       const body = (await (await fetch(`${url}/v1/notices?limit=100`)).json()) as { items: unknown[] };
-      return body.items.length >= 6 ? body.items : null;
+      return body.items.length >= 5 ? body.items : null;
     });
-    expect(notices.length).toBeGreaterThanOrEqual(6);
+    expect(notices.length).toBeGreaterThanOrEqual(5);
 
     writeFileSync(join(inbox, 'broken.json.part'), '{"format": "nightjar.notice.v1", "noticeId": ');
     const { renameSync } = await import('node:fs');
