@@ -5,6 +5,7 @@ import { astrometricPlace, observerGeometry, type ObserverGeometry } from '../ep
 import { streamEnsemble } from '../propagate.js';
 import { ttFromUtc } from '../time.js';
 import type { Attributable } from './attributable.js';
+import { OrbitConvergenceError } from '../errors.js';
 import { EstimationFailedError } from './errors.js';
 import { cholesky, invert } from './linalg.js';
 import type { PreparedObservation } from './observations.js';
@@ -204,7 +205,7 @@ function fitNodes(
   ctx: Context,
   nodes: readonly { rho: number; rate: number }[],
   evaluations: number,
-  options: { fitRate?: boolean; start?: readonly (readonly number[])[] } = {},
+  options: { fitRate?: boolean; start?: readonly (readonly number[])[]; rateBounds?: readonly { lo: number; hi: number }[] } = {},
 ): { params: number[][]; chiSquare: number[]; rates: number[]; rateSigma: number[] } {
   const [xiDot, etaDot] = paramsRate(ctx);
   const params = nodes.map((_, j) => [...(options.start?.[j] ?? [0, 0, xiDot, etaDot])]);
@@ -223,11 +224,20 @@ function fitNodes(
       (k, pos, vel) => {
         const geometry = ctx.geometries[k]!;
         for (let m = 0; m < states.length; m++) {
-          const place = astrometricPlace(
-            { x: pos[3 * m]!, y: pos[3 * m + 1]!, z: pos[3 * m + 2]! },
-            { x: vel[3 * m]!, y: vel[3 * m + 1]!, z: vel[3 * m + 2]! },
-            geometry,
-          );
+          let place;
+          try {
+            place = astrometricPlace(
+              { x: pos[3 * m]!, y: pos[3 * m + 1]!, z: pos[3 * m + 2]! },
+              { x: vel[3 * m]!, y: vel[3 * m + 1]!, z: vel[3 * m + 2]! },
+              geometry,
+            );
+          } catch (err) {
+            // A trial state far outside the admissible region (a wild Gauss-Newton step) gets no weight.
+            if (!(err instanceof OrbitConvergenceError)) throw err;
+            xi[m * nObs + k] = Infinity;
+            eta[m * nObs + k] = Infinity;
+            continue;
+          }
           const p = project(ctx.attributable.frame, unitFromRaDec((place.raDeg * Math.PI) / 180, (place.decDeg * Math.PI) / 180));
           xi[m * nObs + k] = ctx.observedXi[k]! - p[0];
           eta[m * nObs + k] = ctx.observedEta[k]! - p[1];
@@ -249,7 +259,7 @@ function fitNodes(
         chi += ctx.weights[k]! * (rx * rx + ry * ry);
       }
       chiSquare[m] = chi;
-      if (last) continue;
+      if (last || !Number.isFinite(chi)) continue;
       const p = params[m]!;
       if (!fitRate) {
         let bx0 = 0, bx1 = 0, by0 = 0, by1 = 0;
@@ -280,11 +290,13 @@ function fitNodes(
           }
         }
       }
+      if (!rhs.every(Number.isFinite)) continue;
       const inverse = invert(normal);
       if (!inverse) continue;
       const step = inverse.map((row) => row.reduce((sum, c, b2) => sum + c * rhs[b2]!, 0));
       for (let a = 0; a < 4; a++) p[a]! += step[a]!;
-      rates[m] = rates[m]! + step[4]!;
+      const bounds = options.rateBounds?.[m];
+      rates[m] = bounds ? Math.min(Math.max(rates[m]! + step[4]!, bounds.lo), bounds.hi) : rates[m]! + step[4]!;
       rateSigma[m] = Math.sqrt(Math.max(inverse[4]![4]!, 0));
     }
   }
@@ -406,7 +418,7 @@ function profileRows(ctx: Context, grid: GridNode[], fitted: { params: number[][
     ctx,
     entries.map(([rho, row]) => ({ rho, rate: grid[row.best]!.rate })),
     4,
-    { fitRate: true, start: entries.map(([, row]) => fitted.params[row.best]!) },
+    { fitRate: true, start: entries.map(([, row]) => fitted.params[row.best]!), rateBounds: entries.map(([, row]) => ({ lo: row.lo, hi: row.hi })) },
   );
   let evaluated = entries.length;
   const replaced = new Map<number, GridNode[]>();
