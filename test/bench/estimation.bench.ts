@@ -52,8 +52,13 @@ function cases(): CalibrationCase[] {
 function calibration(all: CalibrationCase[], ranging: { rangePriorExponent?: number } = {}, label = 'all cases'): void {
   const results: { c: CalibrationCase; r: HorizonResult[] }[] = [];
   const t0 = performance.now();
-  for (const c of all) results.push({ c, r: evaluateCase(c, { members: 1000, seed: 1, ranging }) });
-  console.log(`estimated ${all.length} cases in ${((performance.now() - t0) / 1000).toFixed(1)} s (${((performance.now() - t0) / all.length).toFixed(0)} ms per case incl. 6 horizons)`);
+  const perCase: number[] = [];
+  for (const c of all) {
+    const tc = performance.now();
+    results.push({ c, r: evaluateCase(c, { members: 1000, seed: 1, ranging }) });
+    perCase.push(performance.now() - tc);
+  }
+  console.log(`estimated ${all.length} cases in ${((performance.now() - t0) / 1000).toFixed(1)} s: per case (estimate + 6-row ephemeris) median ${quantile(perCase, 0.5).toFixed(0)} ms, p90 ${quantile(perCase, 0.9).toFixed(0)} ms, max ${Math.max(...perCase).toFixed(0)} ms`);
   table(label, results.map((x) => x.r));
   table(`${label}: close approachers (0.002-0.1 au)`, results.filter((x) => x.c.kind === 'close').map((x) => x.r));
   table(`${label}: ordinary`, results.filter((x) => x.c.kind === 'ordinary').map((x) => x.r));
