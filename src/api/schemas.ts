@@ -70,6 +70,16 @@ export function toRequestView(r: RequestRow) {
   };
 }
 
+/**
+ * The request view as JSON text with the stored plan spliced in unparsed: the plan
+ * (ephemeris table and all) is most of the bytes, and re-encoding it is most of the cost.
+ */
+export function requestViewJson(row: Omit<RequestRow, 'body'>, bodyJson: string): string {
+  const { plan: _plan, ...view } = toRequestView({ ...row, body: null });
+  const head = JSON.stringify(view);
+  return `${head.slice(0, -1)},"plan":${bodyJson}}`;
+}
+
 export const pageOf = <T extends z.ZodType>(item: T) =>
   z.object({ items: z.array(item), nextCursor: z.string().nullable().describe('pass as ?cursor= for the next page; null on the last') });
 

@@ -40,7 +40,8 @@ export function createJobRunner(specs: readonly JobSpec[], onError: JobErrorHand
   return {
     start() {
       for (const spec of specs) {
-        tasks.push(cron.schedule(spec.schedule, () => execute(spec), { name: spec.name, noOverlap: true }));
+        // Overlap is prevented by execute(): a tick while the job runs joins the running one.
+        tasks.push(cron.schedule(spec.schedule, () => execute(spec), { name: spec.name }));
       }
     },
     async stop() {

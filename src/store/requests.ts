@@ -93,6 +93,16 @@ export function createRequestStore(db: Db) {
   const insertEvent = db.prepare(`INSERT INTO request_events (request_id, at, from_state, to_state, detail) VALUES (?, ?, ?, ?, ?)`);
   const setState = db.prepare(`UPDATE requests SET state = ?, state_reason = ?, updated_at = ? WHERE id = ?`);
 
+  function queueRows(options: { siteId: string; from: string; to: string; kind?: RequestKind; limit: number }): RawRequestRow[] {
+    const kindClause = options.kind ? 'AND kind = ?' : '';
+    const args: (string | number)[] = [options.siteId, options.from, options.to];
+    if (options.kind) args.push(options.kind);
+    return db
+      .prepare(`SELECT ${COLUMNS} FROM requests WHERE site_id = ? AND state = 'queued' AND window_end > ? AND window_start <= ? ${kindClause}
+        ORDER BY score DESC, window_start, id LIMIT ?`)
+      .all(...args, options.limit) as RawRequestRow[];
+  }
+
   const get = (id: string): RequestRow | null => {
     const row = byId.get(id) as RawRequestRow | undefined;
     return row ? decode(row) : null;
@@ -255,15 +265,15 @@ export function createRequestStore(db: Db) {
     }),
     /** Queued requests for a site whose window is open at `from` or opens before `to`, best score first. */
     queue(options: { siteId: string; from: string; to: string; kind?: RequestKind; limit: number }): RequestRow[] {
-      const kindClause = options.kind ? 'AND kind = ?' : '';
-      const args: (string | number)[] = [options.siteId, options.from, options.to];
-      if (options.kind) args.push(options.kind);
-      return (
-        db
-          .prepare(`SELECT ${COLUMNS} FROM requests WHERE site_id = ? AND state = 'queued' AND window_end > ? AND window_start <= ? ${kindClause}
-            ORDER BY score DESC, window_start, id LIMIT ?`)
-          .all(...args, options.limit) as RawRequestRow[]
-      ).map(decode);
+      return queueRows(options).map(decode);
+    },
+    /** The same as `queue`, with each body left as its stored JSON text (for answering without re-encoding it). */
+    queueWithBodyText(options: { siteId: string; from: string; to: string; kind?: RequestKind; limit: number }): { row: Omit<RequestRow, 'body'>; bodyJson: string }[] {
+      return queueRows(options).map((raw) => {
+        const { body, ...rest } = decode({ ...raw, body: 'null' });
+        void body;
+        return { row: rest, bodyJson: raw.body };
+      });
     },
     /** Filtered list ordered by creation (newest first); `cursor` is the last id's created_at|id of the previous page. */
     list(options: { state?: RequestState; siteId?: string; objectId?: string; before?: { createdAt: string; id: string }; limit: number }): RequestRow[] {
