@@ -139,11 +139,11 @@ function magnitudesInV(observations: readonly PreparedObservation[], used: reado
 
 /**
  * H of each state from the tracklet magnitudes: the mean over observations of
- * V - 5 log10(r Delta) - phase term (H-G with G = 0.15, Bowell et al. 1989, via
+ * V - 5 log10(r Delta) - phase term (H-G with slope `slopeG`, Bowell et al. 1989, via
  * photometry's absoluteMagnitudeFromObserved), geometry of each member at each
  * observation time (light-time corrected, from that observation's observer).
  */
-function absoluteMagnitudes(states: readonly HeliocentricState[], observations: readonly PreparedObservation[], mags: readonly MagnitudeObservation[]): Float64Array | null {
+function absoluteMagnitudes(states: readonly HeliocentricState[], observations: readonly PreparedObservation[], mags: readonly MagnitudeObservation[], slopeG: number): Float64Array | null {
   if (mags.length === 0) return null;
   const n = states.length;
   const sums = new Float64Array(n);
@@ -156,7 +156,7 @@ function absoluteMagnitudes(states: readonly HeliocentricState[], observations: 
       for (let j = 0; j < n; j++) {
         const place = astrometricPlace({ x: pos[3 * j]!, y: pos[3 * j + 1]!, z: pos[3 * j + 2]! }, { x: vel[3 * j]!, y: vel[3 * j + 1]!, z: vel[3 * j + 2]! }, geometries[k]!);
         if (place.phaseDeg > 179) continue;
-        sums[j]! += absoluteMagnitudeFromObserved(mags[k]!.vMag, DEFAULT_SLOPE_G, place.rAu, place.deltaAu, place.phaseDeg);
+        sums[j]! += absoluteMagnitudeFromObserved(mags[k]!.vMag, slopeG, place.rAu, place.deltaAu, place.phaseDeg);
         counts[j]! += 1;
       }
     },
@@ -327,7 +327,8 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
     if (attributable!.degreesOfFreedom === 0) notes.push('the fit has no redundancy (as many parameters as measurements): the uncertainty rests on the stated sigmas alone');
   }
 
-  // Absolute magnitudes.
+  // Absolute magnitudes (H-G; the orbit block's G when given, else 0.15).
+  const slopeG = input.orbit?.G ?? DEFAULT_SLOPE_G;
   let nominalH: number | null = null;
   let memberH: Float64Array | null = null;
   if (input.orbit?.H !== undefined) {
@@ -335,7 +336,7 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
     memberH = new Float64Array(members).fill(input.orbit.H);
   } else if (observations.length > 0) {
     const mags = magnitudesInV(observations, used, notes);
-    const hs = absoluteMagnitudes([nominal, ...states], observations, mags);
+    const hs = absoluteMagnitudes([nominal, ...states], observations, mags, slopeG);
     if (hs) {
       nominalH = Number.isFinite(hs[0]!) ? hs[0]! : null;
       memberH = hs.subarray(1);
@@ -382,7 +383,7 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
     const span = timesUtc.reduce((m, d) => Math.max(m, Math.abs(ttFromUtc(d) - epochTt)), 0);
     const places = batchedEnsemblePlaces(allStates, location, timesUtc, span);
     const n = places.memberCount;
-    const photometry = nominalH === null ? undefined : { hMag: nominalH, g: DEFAULT_SLOPE_G };
+    const photometry = nominalH === null ? undefined : { hMag: nominalH, g: slopeG };
     const rows = rowsFromPlaces(places, 0, location, photometry);
     return rows.map((row, k) => {
       const spread = skySpread(row.ra, row.dec, places.raDeg, places.decDeg, k * n + 1, n - 1);
@@ -393,7 +394,7 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
           const h = memberH[m - 1]!;
           const j = k * n + m;
           if (!Number.isFinite(h) || places.phaseDeg[j]! > 179.9) continue;
-          mags.push(apparentMagnitudeHG(h, DEFAULT_SLOPE_G, places.rAu[j]!, places.deltaAu[j]!, places.phaseDeg[j]!));
+          mags.push(apparentMagnitudeHG(h, slopeG, places.rAu[j]!, places.deltaAu[j]!, places.phaseDeg[j]!));
         }
         if (mags.length > 1) {
           mags.sort((a, b) => a - b);

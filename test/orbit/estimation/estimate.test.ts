@@ -98,7 +98,7 @@ describe('honest uncertainty from little data', () => {
 });
 
 describe('estimateObject with an orbit block', () => {
-  const orbit = { epoch: '2027-05-10T00:00:00Z', q: 0.92, e: 0.31, i: 7.5, node: 120.5, peri: 250.25, tp: '2027-04-20T06:00:00Z', H: 22.1 };
+  const orbit = { epoch: '2027-05-10T00:00:00Z', q: 0.92, e: 0.31, i: 7.5, node: 120.5, peri: 250.25, tp: '2027-04-20T06:00:00Z', H: 22.1, G: 0.25 };
   const estimate = estimateObject({ objectId: 'ZQ0042', observations: [], orbit, now: new Date('2027-05-10T00:00:00Z'), members: 200, seed: 1 });
 
   it('uses the block as the nominal: rows agree with the orbit module\'s ephemeris of the same elements (0.001 arcsec)', () => {
@@ -109,7 +109,7 @@ describe('estimateObject with an orbit block', () => {
       ttFromTtIso('epoch', orbit.epoch),
       FOLLOW_UP_SITE,
       times,
-      { photometry: { hMag: 22.1, g: 0.15 } },
+      { photometry: { hMag: 22.1, g: 0.25 } },
     );
     rows.forEach((row, k) => {
       const [e, n] = offsetArcsec(reference[k]!.ra, reference[k]!.dec, row.ra, row.dec);
