@@ -293,8 +293,20 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
   const notes: string[] = [];
   const hasObservations = input.observations.length > 0;
   if (!hasObservations && input.orbit === undefined) throw new EstimationInputError('observations', 0, 'a notice without an orbit block needs at least 2 observations');
-  const observations = hasObservations ? prepareObservations(input.observations) : [];
-  const attributable = observations.length >= 2 ? fitAttributable(observations) : null;
+  let observations: PreparedObservation[] = [];
+  let attributable: Attributable | null = null;
+  try {
+    if (hasObservations) {
+      observations = prepareObservations(input.observations);
+      attributable = fitAttributable(observations);
+    }
+  } catch (err) {
+    // With an orbit block the tracklet only adds residuals and H: a degenerate one is noted, not fatal.
+    if (input.orbit === undefined || !(err instanceof EstimationInputError)) throw err;
+    notes.push(`tracklet not used: ${err.message}`);
+    observations = [];
+    attributable = null;
+  }
   const used = attributable ? attributable.used : [];
   if (attributable && attributable.residuals.some((r) => r.outlier)) {
     notes.push(`${attributable.residuals.filter((r) => r.outlier).length} observation(s) flagged as outliers and left out of the fit`);

@@ -150,3 +150,15 @@ describe('bad input to estimateObject', () => {
     expect(() => estimateObject({ ...base, observations: c.observations, now: new Date(Number.NaN) })).toThrow(/now/);
   });
 });
+
+describe('an orbit block with an unusable tracklet', () => {
+  it('still answers from the orbit block and says why the tracklet was not used', () => {
+    const orbit = { epoch: '2027-05-10T00:00:00Z', q: 2.4, e: 0.1, i: 5, node: 40, peri: 80, tp: '2027-01-20T00:00:00Z' };
+    const site = { latDeg: 23.4, lonDeg: 45.2, heightM: 1800 };
+    const one = [{ t: '2027-05-10T01:00:00Z', raDeg: 200, decDeg: -10, sigmaArcsec: 0.5, mag: 19, band: 'V', observer: site }];
+    const estimate = estimateObject({ objectId: 'ZQ0043', observations: one, orbit, now: new Date('2027-05-10T02:00:00Z'), members: 50 });
+    expect(estimate.summary.method).toBe('orbit-block');
+    expect(estimate.summary.notes.join(' ')).toMatch(/tracklet not used: observations = 1/);
+    expect(estimate.summary.classFractions.mainBelt).toBe(1);
+  });
+});
