@@ -114,7 +114,6 @@ interface Context {
 }
 
 const dot = (a: Vec3, b: Vec3): number => a[0] * b[0] + a[1] * b[1] + a[2] * b[2];
-const v3 = (p: { x: number; y: number; z: number }): Vec3 => [p.x, p.y, p.z];
 
 function makeContext(observations: readonly PreparedObservation[], attributable: Attributable): Context {
   const used = observations.filter((_, i) => attributable.used[i]);
