@@ -283,3 +283,15 @@ describe('service documents', () => {
     expect(other.statusCode).toBe(200);
   });
 });
+
+describe('replanning after an outcome', () => {
+  it('puts the object back on the work queue when a request is reported done without astrometry', async () => {
+    const { ids, store } = await setup();
+    store.work.claimNext(clock());
+    store.work.finish('ZX27A01', clock());
+    const token = (await lease(ids[0]!)).json().leaseToken as string;
+    const res = await app!.inject({ method: 'POST', url: `/v1/requests/${ids[0]}/outcome`, headers: scheduler, payload: { leaseToken: token, result: 'done', observedAt: at(5) } });
+    expect(res.json().replanQueued).toBe(true);
+    expect(store.work.get('ZX27A01')?.state).toBe('waiting');
+  });
+});

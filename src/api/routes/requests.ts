@@ -176,12 +176,15 @@ export function requestRoutes(ctx: ApiContext): AnyRouteSpec[] {
       tag: 'queue',
       summary: 'Report a leased request done or failed',
       description:
-        'Needs the current lease token. Astrometry measured at the site is stored as a new notice for the object (sender `site:<id>`), which puts the object back on the work queue so its orbit and remaining requests are recomputed.',
+        'Needs the current lease token. The object is put back on the work queue so its remaining requests are recomputed; astrometry measured at the site is first stored as a new notice for the object (sender `site:<id>`), so the orbit improves too.',
       role: 'scheduler',
       params: idParams,
       body: outcomeBody,
       responses: {
-        200: { description: 'recorded', schema: z.object({ request: requestView, astrometry: z.unknown().nullable() }) },
+        200: {
+          description: 'recorded; the object is queued for a new assessment',
+          schema: z.object({ request: requestView, astrometry: z.unknown().nullable().describe('what happened to the astrometry notice'), replanQueued: z.boolean() }),
+        },
         404: { description: 'no such request', schema: errorSchema },
         409: { description: 'not leased, stale token or expired lease', schema: errorSchema },
       },
@@ -206,7 +209,9 @@ export function requestRoutes(ctx: ApiContext): AnyRouteSpec[] {
           const [result] = ctx.intake.ingestValue(notice, JSON.stringify(notice), `outcome:${r.request.id}`);
           astrometry = result ?? null;
         }
-        return { request: toRequestView(r.request), astrometry };
+        // Replan the object: what is left to do for it has changed.
+        store.work.enqueueIdle([r.request.objectId], now);
+        return { request: toRequestView(r.request), astrometry, replanQueued: true };
       },
     }),
     defineRoute({
