@@ -4,8 +4,9 @@ import { parseArgs } from 'node:util';
 import { loadConfig } from '../config/load.js';
 import { parseNotice, observerOf, type Notice } from '../intake/notice.js';
 import type { TrackletObservation } from '../orbit/estimate-types.js';
-import { DEFAULT_MEMBERS, estimateObject, EstimationFailedError, EstimationInputError } from '../orbit/estimation/index.js';
-import { planObject, type ObjectPlan, type PlannedRequest, type SitePlan } from '../planning/plan-object.js';
+import { EstimationFailedError, EstimationInputError } from '../orbit/estimation/index.js';
+import { assessObject, weightsFromConfig } from '../planning/assess.js';
+import type { ObjectPlan, PlannedRequest, SitePlan } from '../planning/plan-object.js';
 import type { CommandMain, CommandIo } from './io.js';
 import { UsageError } from './io.js';
 
@@ -33,8 +34,8 @@ Options:
   --site ID       plan only this configured site
   --now ISO       the present (ISO-8601 UTC); default the system clock
   --json          print the plan as JSON (the request bodies as stored)
-  --members N     virtual orbits in the ensemble (default ${DEFAULT_MEMBERS})
-  --seed S        seed of the ensemble's random draws (default 1)
+  --members N     virtual orbits in the ensemble (default: planning.members of the config, as the service)
+  --seed S        seed of the ensemble's random draws (default: derived from the object id, as the service)
   --config FILE   configuration file (default: NIGHTJAR_CONFIG, else the demo)
   -h, --help      show this help`;
 
@@ -166,9 +167,9 @@ export const main: CommandMain = async (argv: string[], io: CommandIo) => {
   }
   if (values.notice === undefined) throw new UsageError('--notice FILE is required');
   const now = values.now === undefined ? new Date() : parseUtc('--now', values.now);
-  const members = values.members === undefined ? DEFAULT_MEMBERS : parseWhole('--members', values.members, 1, 100_000);
-  const seed = values.seed === undefined ? 1 : parseWhole('--seed', values.seed, 0, 2 ** 32 - 1);
   const config = loadConfig({ path: values.config, env: io.env, cwd: io.cwd });
+  const members = values.members === undefined ? config.planning.members : parseWhole('--members', values.members, 1, 100_000);
+  const seedOption = values.seed === undefined ? undefined : parseWhole('--seed', values.seed, 0, 2 ** 32 - 1);
   const sites = values.site === undefined ? config.sites : config.sites.filter((s) => s.id === values.site);
   if (sites.length === 0) throw new UsageError(`unknown site "${values.site}" (configured: ${config.sites.map((s) => s.id).join(', ')})`);
   const read = readNotice(values.notice, io.cwd);
@@ -181,9 +182,20 @@ export const main: CommandMain = async (argv: string[], io: CommandIo) => {
     io.stdout(`notice ${notice.noticeId} retracts ${notice.objectId}: ${notice.reason ?? ''}\nnothing to plan\n`);
     return 0;
   }
-  let estimate;
+  // The same assessment the service runs: estimate, then plan, with the service's seed and weights.
+  let assessment;
   try {
-    estimate = estimateObject({ objectId: notice.objectId, observations: trackletOf(notice), orbit: notice.orbit, now, members, seed });
+    assessment = assessObject({
+      objectId: notice.objectId,
+      observations: trackletOf(notice),
+      orbit: notice.orbit ?? null,
+      now,
+      sites,
+      horizonH: config.planning.horizonH,
+      members,
+      weights: weightsFromConfig(config.planning.weights),
+      ...(seedOption !== undefined ? { seed: seedOption } : {}),
+    });
   } catch (err) {
     if (err instanceof EstimationFailedError || err instanceof EstimationInputError) {
       io.stderr(`nightjar plan: cannot estimate ${notice.objectId}: ${err.message}\n`);
@@ -191,8 +203,8 @@ export const main: CommandMain = async (argv: string[], io: CommandIo) => {
     }
     throw err;
   }
-  const plan = planObject({ estimate, sites, now, horizonH: config.planning.horizonH });
-  const s = estimate.summary;
+  const plan = assessment.plan;
+  const s = assessment.estimateSummary;
   if (values.json) {
     io.stdout(`${JSON.stringify({ noticeId: notice.noticeId, summary: s, plan }, null, 2)}\n`);
     return 0;

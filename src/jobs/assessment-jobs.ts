@@ -1,6 +1,6 @@
 import { availableParallelism } from 'node:os';
 import type { Config } from '../config/schema.js';
-import type { ScoreWeights } from '../planning/score.js';
+import { weightsFromConfig } from '../planning/assess.js';
 import type { Store } from '../store/index.js';
 import type { ServiceMetrics } from '../telemetry/metrics.js';
 import type { AssessTask } from './assess-worker.js';
@@ -16,12 +16,6 @@ export function assessWorkerUrl(): URL {
 
 export function defaultWorkerCount(config: Config): number {
   return config.service.workers ?? Math.max(1, availableParallelism() - 1);
-}
-
-function weightsOf(config: Config): Partial<ScoreWeights> {
-  const out: Partial<ScoreWeights> = {};
-  for (const [k, v] of Object.entries(config.planning.weights)) if (typeof v === 'number') out[k as keyof ScoreWeights] = v;
-  return out;
 }
 
 export interface AssessmentService {
@@ -45,7 +39,7 @@ export function createAssessmentService(deps: {
   const { config } = deps;
   const size = deps.workers ?? defaultWorkerCount(config);
   const pool = createWorkerPool<AssessTask, AssessOutput>(assessWorkerUrl(), size);
-  const weights = weightsOf(config);
+  const weights = weightsFromConfig(config.planning.weights);
   const runner = createAssessmentRunner({
     config,
     store: deps.store,

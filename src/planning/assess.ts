@@ -1,5 +1,5 @@
 import type { Site } from '../config/schema.js';
-import { seedForObject, type TrackletObservation } from '../orbit/estimate-types.js';
+import { seedForObject, type EstimateSummary, type TrackletObservation } from '../orbit/estimate-types.js';
 import { estimateObject, type NoticeOrbitBlock } from '../orbit/estimation/index.js';
 import type { ScoreWeights } from './score.js';
 import { planObject, type ObjectPlan, type PlannedRequest } from './plan-object.js';
@@ -20,6 +20,7 @@ export interface AssessmentInput {
 
 export interface Assessment {
   plan: ObjectPlan;
+  estimateSummary: EstimateSummary;
   requests: PlannedRequest[];
   /** Stored as the assessment's summary: the estimate and, per site, windows, requests' scores and reasons. */
   summary: {
@@ -35,6 +36,13 @@ export interface Assessment {
 }
 
 export { seedForObject };
+
+/** Score weights from the configuration, leaving out the ones not set (they take the defaults). */
+export function weightsFromConfig(weights: Readonly<Record<string, number | undefined>>): Partial<ScoreWeights> {
+  const out: Partial<ScoreWeights> = {};
+  for (const [k, v] of Object.entries(weights)) if (typeof v === 'number') out[k as keyof ScoreWeights] = v;
+  return out;
+}
 
 /**
  * The whole assessment of one object: orbit estimate (ranging, or the orbit
@@ -61,6 +69,7 @@ export function assessObject(input: AssessmentInput): Assessment {
   const noWindow = plan.sites.every((s) => s.windows.length === 0);
   return {
     plan,
+    estimateSummary: estimate.summary,
     requests,
     summary: {
       objectId: input.objectId,
