@@ -381,7 +381,8 @@ export function systematicRanging(observations: readonly PreparedObservation[], 
     const next = concentratedBox(nodes);
     const shrinksRange = next.logHi - next.logLo < 0.5 * (box.logHi - box.logLo);
     if (!shrinksRange && effective > MIN_EFFECTIVE_NODES) break;
-    box = { ...next, rateLo: -Infinity, rateHi: Infinity };
+    // Refined passes stay inside the documented range interval.
+    box = { logLo: Math.max(next.logLo, Math.log(RANGE_MIN_AU)), logHi: Math.min(next.logHi, Math.log(RANGE_MAX_AU)), rateLo: -Infinity, rateHi: Infinity };
   }
   return {
     epochTt: ctx.epochTt,
