@@ -1,4 +1,5 @@
 import type { GeodeticLocation } from '../config/schema.js';
+import { airmassKastenYoung, horizontalFromIcrs } from '../sky/site.js';
 import type { EphemerisRow } from '../orbit/ephemeris.js';
 import type { ObjectEstimate } from '../orbit/estimate-types.js';
 import type { TargetState } from '../sky/limits.js';
@@ -45,6 +46,14 @@ export interface Track {
   readonly rows: readonly EphemerisRow[];
   at(tMs: number): TrackPoint;
   targetAt(timeUtc: Date): TargetState;
+  /**
+   * A full ephemeris row at `tMs` from the track: position by the Hermite
+   * interpolation of `at`, the other quantities linear between samples, and
+   * altitude, azimuth and airmass computed afresh for the site.
+   */
+  rowAt(tMs: number): EphemerisRow;
+  /** The largest total sky rate in the track between two times, arcsec/s. */
+  maxRateArcsecPerS(fromMs: number, toMs: number): number;
 }
 
 function requireRow(row: EphemerisRow, k: number): void {
@@ -107,12 +116,50 @@ export function buildTrack(estimate: ObjectEstimate, location: GeodeticLocation,
       delta: lin(a.delta, b.delta),
     };
   };
+  const rowAt = (t: number): EphemerisRow => {
+    const p = at(t);
+    const i = Math.max(0, Math.min(rows.length - 2, Math.floor((t - startMs) / stepMs)));
+    const a = rows[i]!;
+    const b = rows[i + 1] ?? a;
+    const h = (tMs[i + 1] ?? tMs[i]!) - tMs[i]!;
+    const f = h > 0 ? Math.min(1, Math.max(0, (t - tMs[i]!) / h)) : 0;
+    const lin = (x: number, y: number) => x + (y - x) * f;
+    const when = new Date(t);
+    const { altDeg, azDeg } = horizontalFromIcrs(location, when, p.ra, p.dec);
+    return {
+      t: when.toISOString(),
+      ra: p.ra,
+      dec: p.dec,
+      raRate: p.raRate,
+      decRate: p.decRate,
+      unc: p.uncMajor === null || p.uncMinor === null || p.uncPa === null ? null : { major: p.uncMajor, minor: p.uncMinor, pa: p.uncPa },
+      mag: p.mag,
+      magSigma: p.magSigma,
+      delta: p.delta,
+      r: lin(a.r, b.r),
+      phase: lin(a.phase, b.phase),
+      elong: lin(a.elong, b.elong),
+      alt: altDeg,
+      az: azDeg,
+      airmass: altDeg > 0 ? airmassKastenYoung(altDeg) : null,
+    };
+  };
+  const maxRateArcsecPerS = (fromMs: number, toMs: number): number => {
+    let most = 0;
+    rows.forEach((row, k) => {
+      const t = tMs[k]!;
+      if (t >= fromMs - stepMs && t <= toMs + stepMs) most = Math.max(most, Math.hypot(row.raRate, row.decRate));
+    });
+    return most;
+  };
   return {
     startMs,
     endMs,
     stepMs,
     rows,
     at,
+    rowAt,
+    maxRateArcsecPerS,
     targetAt: (timeUtc: Date): TargetState => {
       const p = at(timeUtc.getTime());
       return { raDeg: p.ra, decDeg: p.dec, raRateArcsecPerS: p.raRate, decRateArcsecPerS: p.decRate };
