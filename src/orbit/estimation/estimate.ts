@@ -239,11 +239,16 @@ function checkInput(input: EstimateInput): { members: number; seed: number } {
 }
 
 /** Draws elements around an orbit block with ORBIT_BLOCK_DEFAULT_SIGMA and returns states at the block's epoch. */
-function orbitBlockEnsemble(orbit: NoticeOrbitBlock, members: number, random: RandomSource): { epochTt: number; nominal: HeliocentricState; states: HeliocentricState[] } {
+function orbitBlockEnsemble(orbit: NoticeOrbitBlock, members: number, random: RandomSource, spreadScale = 1): { epochTt: number; nominal: HeliocentricState; states: HeliocentricState[] } {
   const epochTt = ttFromTtIso('orbit.epoch', orbit.epoch);
   const base: PerihelionElements = { qAu: orbit.q, e: orbit.e, iDeg: orbit.i, nodeDeg: orbit.node, periDeg: orbit.peri, tpTt: ttFromTtIso('orbit.tp', orbit.tp) };
   const nominal = stateFromPerihelionElements(base, epochTt);
-  const sd = ORBIT_BLOCK_DEFAULT_SIGMA;
+  const sd = {
+    qRelative: ORBIT_BLOCK_DEFAULT_SIGMA.qRelative * spreadScale,
+    e: ORBIT_BLOCK_DEFAULT_SIGMA.e * spreadScale,
+    angleDeg: ORBIT_BLOCK_DEFAULT_SIGMA.angleDeg * spreadScale,
+    tpDays: ORBIT_BLOCK_DEFAULT_SIGMA.tpDays * spreadScale,
+  };
   const states = Array.from({ length: members }, () => {
     const el: PerihelionElements = {
       qAu: base.qAu * Math.max(0.5, 1 + sd.qRelative * random.normal()),
@@ -256,6 +261,76 @@ function orbitBlockEnsemble(orbit: NoticeOrbitBlock, members: number, random: Ra
     return stateFromPerihelionElements(el, epochTt);
   });
   return { epochTt, nominal, states };
+}
+
+/** Fewest effective members for the tracklet weighting of an orbit-block ensemble to be used. */
+const MIN_EFFECTIVE_MEMBERS = 30;
+
+/** Chi-square of each state against the used observations of the tracklet (per-axis sigmas). */
+function trackletChiSquare(states: readonly HeliocentricState[], observations: readonly PreparedObservation[], used: readonly boolean[]): Float64Array {
+  const n = states.length;
+  const chi2 = new Float64Array(n);
+  const byObserver = new Map<string, PreparedObservation[]>();
+  observations.forEach((o, k) => {
+    if (!used[k]) return;
+    const key = `${o.observer.latDeg},${o.observer.lonDeg},${o.observer.heightM}`;
+    byObserver.set(key, [...(byObserver.get(key) ?? []), o]);
+  });
+  for (const group of byObserver.values()) {
+    const places = ensemblePlaces(states, group[0]!.observer, group.map((o) => o.timeUtc));
+    group.forEach((o, k) => {
+      const cosDec = Math.cos(o.decRad);
+      for (let m = 0; m < n; m++) {
+        const j = k * n + m;
+        let dRa = places.raDeg[j]! * RAD_PER_DEG - o.raRad;
+        if (dRa > Math.PI) dRa -= 2 * Math.PI;
+        else if (dRa < -Math.PI) dRa += 2 * Math.PI;
+        const dDec = places.decDeg[j]! * RAD_PER_DEG - o.decRad;
+        chi2[m]! += ((dRa * cosDec) ** 2 + dDec ** 2) / o.sigmaRad ** 2;
+      }
+    });
+  }
+  return chi2;
+}
+
+/**
+ * Weights an orbit-block ensemble by its fit to the tracklet and resamples it
+ * (importance resampling with weights exp(-chi^2/2), systematic resampling;
+ * e.g. Muinonen & Bowell's statistical-ranging practice of weighting sample
+ * orbits by their likelihood). The block's default spread is a stated guess;
+ * the observations then decide which part of it is consistent. Returns null
+ * when too few members fit (effective size below MIN_EFFECTIVE_MEMBERS).
+ */
+function weightByTracklet(
+  states: readonly HeliocentricState[],
+  observations: readonly PreparedObservation[],
+  used: readonly boolean[],
+  random: RandomSource,
+): { states: HeliocentricState[]; effective: number } | null {
+  const n = states.length;
+  const chi2 = trackletChiSquare(states, observations, used);
+  let best = Infinity;
+  for (const c of chi2) best = Math.min(best, c);
+  const w = Float64Array.from(chi2, (c) => Math.exp(-(c - best) / 2));
+  let sum = 0;
+  let sum2 = 0;
+  for (const x of w) (sum += x), (sum2 += x * x);
+  const effective = (sum * sum) / sum2;
+  if (!(effective >= MIN_EFFECTIVE_MEMBERS)) return null;
+  // Systematic resampling: one uniform offset, n evenly spaced pointers through the cumulative weights.
+  const out: HeliocentricState[] = [];
+  const step = sum / n;
+  let pointer = random.uniform() * step;
+  let cumulative = 0;
+  for (let m = 0; m < n && out.length < n; m++) {
+    cumulative += w[m]!;
+    while (pointer < cumulative && out.length < n) {
+      out.push(states[m]!);
+      pointer += step;
+    }
+  }
+  while (out.length < n) out.push(states[n - 1]!);
+  return { states: out, effective };
 }
 
 /** Observed minus computed of one state against the tracklet, arcsec, with the attributable's outlier flags. */
@@ -320,11 +395,45 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
   let rangeAu: Float64Array;
   let rangingInfo: ShortArcEstimate['ranging'] = null;
   let method: EstimateSummary['method'];
+  // An orbit block with a tracklet: weight the block's default spread by the fit to the tracklet,
+  // narrowing it 10x while too few members fit; if none of the spreads fits, the tracklet decides
+  // alone (ranging), which is honest about how little a short arc says.
+  let blockStates: HeliocentricState[] | null = null;
+  let blockNominalFits = false;
+  let blockNote = '';
+  let blockDrawn: ReturnType<typeof orbitBlockEnsemble> | null = null;
   if (input.orbit !== undefined) {
+    blockDrawn = orbitBlockEnsemble(input.orbit, members, random);
+    if (observations.length >= 2 && attributable) {
+      for (let scale = 1; scale >= 0.01 && blockStates === null; scale /= 10) {
+        const drawn: ReturnType<typeof orbitBlockEnsemble> = scale === 1 ? blockDrawn : orbitBlockEnsemble(input.orbit, members, random, scale);
+        const weighted = weightByTracklet(drawn.states, observations, used, random);
+        if (weighted === null) continue;
+        blockDrawn = drawn;
+        blockStates = weighted.states;
+        blockNote = `orbit block taken as the nominal; its default element spread${scale < 1 ? ` x ${scale}` : ''} (no covariance given) weighted by the fit to the tracklet (effective ${Math.round(weighted.effective)} of ${members} members)`;
+      }
+      if (blockStates === null) {
+        const nominalChi2 = trackletChiSquare([blockDrawn.nominal], observations, used)[0]!;
+        const usedCount = used.filter(Boolean).length;
+        blockNominalFits = nominalChi2 <= 9 * 2 * usedCount;
+        notes.push(
+          blockNominalFits
+            ? "the orbit block fits the tracklet but its default spread is too wide to weight: the block is the nominal and the uncertainty is the tracklet's own (systematic ranging), which can only overstate it"
+            : `the orbit block does not fit the tracklet (chi-square ${nominalChi2.toFixed(0)} for ${usedCount} positions): the estimate is the tracklet's own (systematic ranging); the block's H and G are kept`,
+        );
+      }
+    } else {
+      blockStates = blockDrawn.states;
+      blockNote = 'orbit block taken as the nominal; the ensemble uses the default element spread (no covariance given)';
+    }
+  }
+  if (blockStates !== null && blockDrawn !== null) {
     method = 'orbit-block';
-    const drawn = orbitBlockEnsemble(input.orbit, members, random);
-    ({ epochTt, nominal, states } = drawn);
-    notes.push('orbit block taken as the nominal; the ensemble uses the default element spread (no covariance given)');
+    epochTt = blockDrawn.epochTt;
+    nominal = blockDrawn.nominal;
+    states = blockStates;
+    notes.push(blockNote);
     const refTime = attributable ? new Date(attributable.epochMs) : input.now;
     const viewpoint = observations[0]?.observer ?? 'geocentre';
     rangeAu = Float64Array.from(ensemblePlaces(states, viewpoint, [refTime]).deltaAu);
@@ -337,6 +446,15 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
     rangeAu = Float64Array.from(drawn.map((d) => d.rangeAu));
     const centre = drawn[robustCentreIndex(rangeAu.map(Math.log), Float64Array.from(drawn.map((d) => d.rangeRateAuPerDay)))]!;
     nominal = ranging.stateOf(ranging.nodes[centre.node]!.params, centre.rangeAu, centre.rangeRateAuPerDay);
+    if (blockNominalFits && blockDrawn !== null) {
+      // The block's place as the nominal, moved to the ranging epoch so it propagates with the cloud.
+      const target = epochTt;
+      let moved: HeliocentricState | null = null;
+      streamEnsemble([blockDrawn.nominal], [target], (_k, pos, vel) => {
+        moved = { tt: target, x: pos[0]!, y: pos[1]!, z: pos[2]!, vx: vel[0]!, vy: vel[1]!, vz: vel[2]! };
+      });
+      if (moved !== null) nominal = moved;
+    }
     rangingInfo = { passes: ranging.passes, evaluatedNodes: ranging.evaluatedNodes, minChiSquare: ranging.minChiSquare };
     if (attributable!.degreesOfFreedom === 0) notes.push('the fit has no redundancy (as many parameters as measurements): the uncertainty rests on the stated sigmas alone');
   }
