@@ -51,9 +51,16 @@ export function hyperbolicAnomalyFromMean(meanAnomalyRad: number, e: number): nu
   requireFinite('e', e);
   if (e <= 1) throw new OrbitInputError('e', e, 'hyperbolic Kepler equation needs e > 1');
   const m = meanAnomalyRad;
-  let h = Math.sign(m) * Math.log((2 * Math.abs(m)) / e + 1.8);
+  // Start: the logarithmic guess for large |M|; for small |M| the smaller root of the
+  // series (e - 1) H + e H^3 / 6 = M, which keeps Newton safe near e = 1.
+  let h =
+    Math.abs(m) < 1
+      ? Math.sign(m) * Math.min(Math.abs(m) / (e - 1), Math.cbrt((6 * Math.abs(m)) / e))
+      : Math.sign(m) * Math.log((2 * Math.abs(m)) / e + 1.8);
   for (let k = 0; k < MAX_ITERATIONS; k++) {
     const f = e * Math.sinh(h) - h - m;
+    // Converged when the residual is at rounding level (the step can stall above 1e-15 when e - 1 is tiny).
+    if (Math.abs(f) <= 4e-16 * (Math.abs(m) + e * Math.abs(Math.sinh(h)))) return h;
     const step = f / (e * Math.cosh(h) - 1);
     h -= step;
     if (Math.abs(step) <= 1e-15 * (1 + Math.abs(h))) return h;
