@@ -539,11 +539,19 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
     });
   };
 
+  /** Where the virtual orbits are seen from `location` at `timeUtc` (astrometric ICRS, deg): an evenly spaced subset of at most `maxMembers`. */
+  const memberPositions = (location: GeodeticLocation, timeUtc: Date, maxMembers = 500): { raDeg: number; decDeg: number }[] => {
+    const stride = Math.max(1, Math.ceil(states.length / Math.max(1, maxMembers)));
+    const subset = states.filter((_, k) => k % stride === 0);
+    const places = batchedEnsemblePlaces(subset, location, [timeUtc], Math.abs(ttFromUtc(timeUtc) - epochTt));
+    return Array.from({ length: subset.length }, (_, m) => ({ raDeg: places.raDeg[m]!, decDeg: places.decDeg[m]! }));
+  };
   return {
     objectId: input.objectId,
     firstObservedAt,
     summary,
     ephemeris,
+    memberPositions,
     nominal,
     virtualOrbits: states,
     nominalH,
