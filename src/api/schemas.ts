@@ -1,5 +1,6 @@
 import { z } from 'zod';
 import { REQUEST_KINDS, REQUEST_STATES, type RequestRow } from '../store/requests.js';
+import { planSchema } from './plan-schema.js';
 
 /** Shared zod schemas of the HTTP API: inputs are validated with them and the OpenAPI document is built from them. */
 
@@ -38,11 +39,7 @@ export const requestView = z
     stateReason: z.string().nullable().describe('why it is in its state, in words'),
     lease: z.object({ holder: z.string(), expiresAt: z.string() }).nullable(),
     outcome: z.unknown().nullable(),
-    plan: z
-      .unknown()
-      .describe(
-        'What to execute: exposure sequence (filter or slit, exposureS, count), tracking (non-sidereal raRate/decRate in arcsec/s, RA rate times cos Dec), ephemeris table (t, ra, dec deg ICRS astrometric topocentric, raRate, decRate, unc {major, minor arcsec, pa deg}, mag V, alt deg, airmass), score factors',
-      ),
+    plan: planSchema.describe('What to execute: the exposure sequence, tracking rates, ephemeris table and score factors'),
     createdAt: z.string(),
     updatedAt: z.string(),
   })
