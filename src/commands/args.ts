@@ -45,3 +45,21 @@ export function parseCommandArgs<O extends Options>(
   }
   return values;
 }
+
+const ISO_UTC = /^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}(:\d{2}(\.\d{1,9})?)?Z$/;
+
+/** An option value as an ISO-8601 UTC instant (with Z). */
+export function parseUtc(option: string, text: string): Date {
+  const ms = ISO_UTC.test(text) ? Date.parse(text) : Number.NaN;
+  if (!Number.isFinite(ms)) throw new UsageError(`${option}: "${text}" is not an ISO-8601 UTC time such as 2027-03-04T05:06:07Z`);
+  return new Date(ms);
+}
+
+/** An option value as a whole number in [min, max]. */
+export function parseWhole(option: string, text: string, min: number, max: number): number {
+  const value = Number(text);
+  if (!/^\d+$/.test(text.trim()) || !Number.isInteger(value) || value < min || value > max) {
+    throw new UsageError(`${option}: "${text}" is not a whole number from ${min} to ${max}`);
+  }
+  return value;
+}

@@ -1,14 +1,12 @@
-import { readFileSync } from 'node:fs';
-import { resolve } from 'node:path';
 import { loadConfig } from '../config/load.js';
 import { locationSchema, type GeodeticLocation } from '../config/schema.js';
-import { parseNotice, type Notice, type NoticeOrbit } from '../intake/notice.js';
+import type { Notice, NoticeOrbit } from '../intake/notice.js';
 import { ephemerisFromElements, type EphemerisRow } from '../orbit/ephemeris.js';
 import type { PerihelionElements } from '../orbit/elements.js';
 import { ttFromTtIso } from '../orbit/time.js';
 import { DEFAULT_MEMBERS, estimateObject } from '../orbit/estimation/index.js';
-import type { TrackletObservation } from '../orbit/estimate-types.js';
-import { parseCommandArgs } from './args.js';
+import { parseCommandArgs, parseUtc } from './args.js';
+import { readNoticeFile, trackletOf } from './notice-file.js';
 import type { CommandMain } from './io.js';
 import { UsageError } from './io.js';
 
@@ -55,16 +53,10 @@ Options:
 
 /** More rows than this is almost certainly a typo in --step. */
 export const MAX_ROWS = 20_000;
-const ISO_UTC = /^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}(:\d{2}(\.\d{1,9})?)?Z$/;
 
 /** Exit code once used for a notice without an orbit block; such notices are now estimated (kept for callers that import it). */
 export const EXIT_NO_ORBIT = 2;
 
-function parseUtc(option: string, text: string): Date {
-  const ms = ISO_UTC.test(text) ? Date.parse(text) : Number.NaN;
-  if (!Number.isFinite(ms)) throw new UsageError(`${option}: "${text}" is not an ISO-8601 UTC time such as 2027-03-04T05:06:07Z`);
-  return new Date(ms);
-}
 
 function parseNumber(option: string, text: string): number {
   const value = Number(text);
@@ -136,25 +128,6 @@ function viewpoint(values: Options, io: Parameters<CommandMain>[1]): { location:
   return { location: checked.data, label: `lat ${raw.latDeg} lon ${raw.lonDeg} height ${raw.heightM} m` };
 }
 
-function readNotice(path: string, cwd: string): { ok: true; notice: Notice } | { ok: false; message: string } {
-  const full = resolve(cwd, path);
-  let text: string;
-  try {
-    text = readFileSync(full, 'utf8');
-  } catch (err) {
-    throw new UsageError(`--notice: cannot read ${full}: ${(err as Error).message}`);
-  }
-  let raw: unknown;
-  try {
-    raw = JSON.parse(text.replace(/^\uFEFF/, ''));
-  } catch (err) {
-    return { ok: false, message: `${full} is not valid JSON: ${(err as Error).message}` };
-  }
-  // The present only matters for the age checks, which this command skips.
-  const parsed = parseNotice(raw, { now: new Date(0), checkAge: false });
-  if (!parsed.ok) return { ok: false, message: `${full} is not a valid notice:\n${parsed.issues.map((i) => `  ${i.path}: ${i.message}`).join('\n')}` };
-  return { ok: true, notice: parsed.notice };
-}
 
 /** Notice orbit block (ISO TT times, degrees, au) to the orbit module's perihelion elements and epoch. */
 export function elementsFromNoticeOrbit(orbit: NoticeOrbit): { elements: PerihelionElements; epochTt: number } {
@@ -196,21 +169,6 @@ function ensembleOptions(values: Options): { members: number; seed: number } {
   return { members, seed };
 }
 
-/** The notice's observations as estimation takes them (each with its own observer, else the notice's). */
-export function trackletOf(notice: Notice): TrackletObservation[] {
-  return (notice.observations ?? []).map((o) => {
-    const observer = o.observer ?? notice.observer;
-    return {
-      t: o.t,
-      raDeg: o.ra,
-      decDeg: o.dec,
-      sigmaArcsec: o.sigma,
-      mag: o.mag ?? null,
-      band: o.band ?? null,
-      observer: { latDeg: observer.lat, lonDeg: observer.lon, heightM: observer.height },
-    };
-  });
-}
 
 function formatRa(deg: number): string {
   const rounded = Math.round((deg / 15) * 3600 * 100) / 100; // round first so 59.999 s never prints as 60.00
@@ -288,7 +246,7 @@ export const main: CommandMain = async (argv, io) => {
   if (values.notice === undefined) throw new UsageError('--notice FILE is required');
   const times = requestedTimes(values);
   const { location, label } = viewpoint(values, io);
-  const read = readNotice(values.notice, io.cwd);
+  const read = readNoticeFile(values.notice, io.cwd);
   if (!read.ok) {
     io.stderr(`nightjar ephem: ${read.message}\n`);
     return 1;

@@ -1,12 +1,11 @@
-import { readFileSync } from 'node:fs';
-import { resolve } from 'node:path';
 import { parseArgs } from 'node:util';
 import { loadConfig } from '../config/load.js';
-import { parseNotice, observerOf, type Notice } from '../intake/notice.js';
-import type { TrackletObservation } from '../orbit/estimate-types.js';
+import type { Notice } from '../intake/notice.js';
 import { EstimationFailedError, EstimationInputError } from '../orbit/estimation/index.js';
 import { assessObject, weightsFromConfig } from '../planning/assess.js';
 import type { ObjectPlan, PlannedRequest, SitePlan } from '../planning/plan-object.js';
+import { readNoticeFile, trackletOf } from './notice-file.js';
+import { parseUtc, parseWhole } from './args.js';
 import type { CommandMain, CommandIo } from './io.js';
 import { UsageError } from './io.js';
 
@@ -39,56 +38,10 @@ Options:
   --config FILE   configuration file (default: NIGHTJAR_CONFIG, else the demo)
   -h, --help      show this help`;
 
-const ISO_UTC = /^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}(:\d{2}(\.\d{1,9})?)?Z$/;
 
-function parseUtc(option: string, text: string): Date {
-  const ms = ISO_UTC.test(text) ? Date.parse(text) : Number.NaN;
-  if (!Number.isFinite(ms)) throw new UsageError(`${option}: "${text}" is not an ISO-8601 UTC time such as 2027-03-04T05:06:07Z`);
-  return new Date(ms);
-}
 
-function parseWhole(option: string, text: string, min: number, max: number): number {
-  const value = Number(text);
-  if (!/^\d+$/.test(text.trim()) || !Number.isInteger(value) || value < min || value > max) {
-    throw new UsageError(`${option}: "${text}" is not a whole number from ${min} to ${max}`);
-  }
-  return value;
-}
 
-function readNotice(path: string, cwd: string): { ok: true; notice: Notice } | { ok: false; message: string } {
-  const full = resolve(cwd, path);
-  let text: string;
-  try {
-    text = readFileSync(full, 'utf8');
-  } catch (err) {
-    throw new UsageError(`--notice: cannot read ${full}: ${(err as Error).message}`);
-  }
-  let raw: unknown;
-  try {
-    raw = JSON.parse(text.replace(/^\uFEFF/, ''));
-  } catch (err) {
-    return { ok: false, message: `${full} is not valid JSON: ${(err as Error).message}` };
-  }
-  const parsed = parseNotice(raw, { now: new Date(0), checkAge: false });
-  if (!parsed.ok) return { ok: false, message: `${full} is not a valid notice:\n${parsed.issues.map((i) => `  ${i.path}: ${i.message}`).join('\n')}` };
-  return { ok: true, notice: parsed.notice };
-}
 
-/** The notice's observations as estimation takes them. */
-export function trackletOf(notice: Notice): TrackletObservation[] {
-  return (notice.observations ?? []).map((o) => {
-    const observer = observerOf(notice, o);
-    return {
-      t: o.t,
-      raDeg: o.ra,
-      decDeg: o.dec,
-      sigmaArcsec: o.sigma,
-      mag: o.mag ?? null,
-      band: o.band ?? null,
-      observer: { latDeg: observer.lat, lonDeg: observer.lon, heightM: observer.height },
-    };
-  });
-}
 
 const short = (iso: string) => iso.replace(/:\d{2}\.\d{3}Z$/, 'Z');
 
@@ -172,7 +125,7 @@ export const main: CommandMain = async (argv: string[], io: CommandIo) => {
   const seedOption = values.seed === undefined ? undefined : parseWhole('--seed', values.seed, 0, 2 ** 32 - 1);
   const sites = values.site === undefined ? config.sites : config.sites.filter((s) => s.id === values.site);
   if (sites.length === 0) throw new UsageError(`unknown site "${values.site}" (configured: ${config.sites.map((s) => s.id).join(', ')})`);
-  const read = readNotice(values.notice, io.cwd);
+  const read = readNoticeFile(values.notice, io.cwd);
   if (!read.ok) {
     io.stderr(`nightjar plan: ${read.message}\n`);
     return 1;

@@ -4,6 +4,7 @@ import { parseArgs } from 'node:util';
 import { loadConfig } from '../config/load.js';
 import { parseNotice } from '../intake/notice.js';
 import { simulateNight } from '../planning/simulate.js';
+import { parseWhole } from './args.js';
 import type { CommandMain, CommandIo } from './io.js';
 import { UsageError } from './io.js';
 
@@ -32,11 +33,6 @@ Options:
 
 const ISO_UTC = /^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}(:\d{2}(\.\d{1,9})?)?Z$/;
 
-function parseWhole(option: string, text: string, min: number, max: number): number {
-  const value = Number(text);
-  if (!/^\d+$/.test(text.trim()) || value < min || value > max) throw new UsageError(`${option}: "${text}" is not a whole number from ${min} to ${max}`);
-  return value;
-}
 
 interface Options {
   now?: string | undefined;
