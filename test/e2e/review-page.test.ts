@@ -1,11 +1,11 @@
-import { spawn, type ChildProcess } from 'node:child_process';
 import { existsSync, mkdirSync, readFileSync, statSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
-import { MIGRATIONS_DIR, PROJECT_ROOT } from '../../src/config/load.js';
+import { MIGRATIONS_DIR } from '../../src/config/load.js';
 import { openStore } from '../../src/store/index.js';
 import { demoConfig, demoConfigRaw, tempDir } from '../helpers.js';
 import { INVENTED, inventedEstimate, plannedRequests } from '../views/fixtures.js';
+import { startServe, type ServiceProcess } from '../service-process.js';
 
 /**
  * The review page in a real browser: the service started as `nightjar serve` on a temporary
@@ -18,41 +18,11 @@ const CHROMIUM = '/usr/bin/chromium';
 const hasChromium = existsSync(CHROMIUM);
 if (!hasChromium) console.log(`review page browser test skipped: ${CHROMIUM} not found (install Debian's chromium package to run it)`);
 
-let child: ChildProcess | null = null;
+let child: ServiceProcess | null = null;
 afterEach(() => {
-  if (child && child.exitCode === null) child.kill('SIGKILL');
+  if (child && child.proc.exitCode === null) child.proc.kill('SIGKILL');
   child = null;
 });
-
-function startServe(configPath: string): { proc: ChildProcess; url: Promise<string>; logs: string[] } {
-  const proc = spawn(process.execPath, ['--import', 'tsx', join(PROJECT_ROOT, 'src', 'cli.ts'), 'serve'], {
-    cwd: PROJECT_ROOT,
-    env: { ...process.env, NIGHTJAR_CONFIG: configPath },
-    stdio: ['ignore', 'pipe', 'pipe'],
-  });
-  const logs: string[] = [];
-  const url = new Promise<string>((resolve, reject) => {
-    let buffer = '';
-    proc.stdout!.on('data', (chunk: Buffer) => {
-      buffer += chunk.toString();
-      let nl: number;
-      while ((nl = buffer.indexOf('\n')) >= 0) {
-        const line = buffer.slice(0, nl);
-        buffer = buffer.slice(nl + 1);
-        logs.push(line);
-        try {
-          const entry = JSON.parse(line) as { msg?: string; url?: string };
-          if (entry.msg === 'nightjar listening' && entry.url) resolve(entry.url);
-        } catch {
-          /* not a log line */
-        }
-      }
-    });
-    proc.stderr!.on('data', (chunk: Buffer) => logs.push(chunk.toString()));
-    proc.on('exit', () => reject(new Error(`serve exited early:\n${logs.join('\n')}`)));
-  });
-  return { proc, url, logs };
-}
 
 /** A temporary config (port 0, its own database and inbox) and a database holding tonight's requests. */
 function prepare(dir: string): string {
@@ -96,7 +66,7 @@ describe.skipIf(!hasChromium)('the review page in headless Chromium', () => {
     const dir = tempDir('nightjar-e2e-');
     const configPath = prepare(dir);
     const serve = startServe(configPath);
-    child = serve.proc;
+    child = serve;
     const url = await serve.url;
 
     const userDataDir = join(dir, 'chromium-profile');
