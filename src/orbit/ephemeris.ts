@@ -306,6 +306,38 @@ export function ensemblePlaces(
   return { timesUtc, memberCount: n, ...out };
 }
 
+/** ensemblePlaces for several viewpoints from one propagation (one EnsemblePlaces per viewpoint, same order). */
+export function ensemblePlacesForSites(
+  states: readonly HeliocentricState[],
+  viewpoints: readonly Viewpoint[],
+  timesUtc: readonly Date[],
+  options: PropagationOptions = {},
+): EnsemblePlaces[] {
+  const n = states.length;
+  const size = timesUtc.length * n;
+  const outs = viewpoints.map(() => ({
+    raDeg: new Float64Array(size),
+    decDeg: new Float64Array(size),
+    raRateArcsecPerS: new Float64Array(size),
+    decRateArcsecPerS: new Float64Array(size),
+    deltaAu: new Float64Array(size),
+    rAu: new Float64Array(size),
+    phaseDeg: new Float64Array(size),
+    elongationDeg: new Float64Array(size),
+  }));
+  streamEnsemblePlacesForSites(
+    states,
+    viewpoints,
+    timesUtc,
+    (k, v, p) => {
+      const out = outs[v]!;
+      for (const key of Object.keys(out) as (keyof PlacesAtTime)[]) out[key].set(p[key], k * n);
+    },
+    options,
+  );
+  return outs.map((out) => ({ timesUtc, memberCount: n, ...out }));
+}
+
 /** Astrometric places from an already propagated trajectory whose times are `timesUtc` (same order). */
 export function placesFromTrajectory(trajectory: EnsembleTrajectory, viewpoint: Viewpoint, timesUtc: readonly Date[]): EnsemblePlaces {
   const n = trajectory.memberCount;

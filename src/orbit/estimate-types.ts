@@ -62,6 +62,8 @@ export interface ObjectEstimate {
   summary: EstimateSummary;
   /** Nominal rows with `unc` (1-sigma ellipse, arcsec) and `magSigma` from the ensemble. */
   ephemeris(location: GeodeticLocation, timesUtc: readonly Date[]): EphemerisRow[];
+  /** The same for several sites at once (one row list per location, same order), when the estimate can share the work. */
+  ephemerisForSites?(locations: readonly GeodeticLocation[], timesUtc: readonly Date[]): EphemerisRow[][];
   /**
    * Where each virtual orbit is seen from `location` at `timeUtc` (astrometric ICRS, degrees),
    * for pictures of the uncertainty region; at most `maxMembers` of them. Absent when the

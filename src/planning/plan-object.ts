@@ -10,7 +10,7 @@ import { siteVExtinctionMagPerAirmass, skyBrightnessKS } from '../sky/sky-bright
 import { PlanningInputError, requireDate, requireFinite } from './errors.js';
 import { DEFAULT_SCORE_WEIGHTS, scoreRequest, type Score, type ScoreWeights } from './score.js';
 import { searchPattern, type SearchPattern } from './search-pattern.js';
-import { buildTrack, TRACK_STEP_MIN, type Track, type TrackPoint } from './track.js';
+import { buildTrack, TRACK_STEP_MIN, trackRowsForSites, type Track, type TrackPoint } from './track.js';
 
 /**
  * The planner: for one assessed object and every configured site, either up to
@@ -404,7 +404,9 @@ export function planObject(input: PlanObjectInput): ObjectPlan {
     plannedAt: input.now.toISOString(),
     horizonEnd: new Date(endMs).toISOString(),
     horizonH: input.horizonH,
-    sites: input.sites.map((site) => planSite(input, site, startMs, endMs, weights)),
+    sites: ((rows) => input.sites.map((site, i) => planSite(input, site, startMs, endMs, weights, rows[i])))(
+      trackRowsForSites(input.estimate, input.sites.map((s) => s.location), startMs, endMs),
+    ),
   };
 }
 
@@ -423,11 +425,11 @@ function noWindowReasons(reasons: string[], track: Track, site: Site, horizonH: 
   ];
 }
 
-function planSite(input: PlanObjectInput, site: Site, startMs: number, endMs: number, weights: ScoreWeights): SitePlan {
+function planSite(input: PlanObjectInput, site: Site, startMs: number, endMs: number, weights: ScoreWeights, trackRows?: readonly EphemerisRow[]): SitePlan {
   const { estimate, horizonH } = input;
   const maxPointings = input.options?.maxSearchPointings ?? DEFAULT_MAX_SEARCH_POINTINGS;
   const out: SitePlan = { siteId: site.id, siteName: site.name, windows: [], requests: [], reasons: [] };
-  const track = buildTrack(estimate, site.location, startMs, endMs);
+  const track = buildTrack(estimate, site.location, startMs, endMs, TRACK_STEP_MIN, trackRows);
   const timeline = buildSkyTimeline(site, new Date(startMs), new Date(endMs));
   const found = observableWindows(site, new Date(startMs), new Date(endMs), track.targetAt, { timeline });
   out.windows = found.windows.map((w) => ({

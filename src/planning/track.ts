@@ -63,12 +63,36 @@ function requireRow(row: EphemerisRow, k: number): void {
 }
 
 /** Samples the estimate from `location` every `stepMin` minutes over [startMs, endMs] (end included). */
-export function buildTrack(estimate: ObjectEstimate, location: GeodeticLocation, startMs: number, endMs: number, stepMin = TRACK_STEP_MIN): Track {
+/** The sample times of a track: every `stepMin` from start, and the end. */
+export function trackTimes(startMs: number, endMs: number, stepMin = TRACK_STEP_MIN): Date[] {
   const stepMs = stepMin * 60_000;
   const times: Date[] = [];
   for (let t = startMs; t < endMs; t += stepMs) times.push(new Date(t));
   times.push(new Date(endMs));
-  const rows = estimate.ephemeris(location, times);
+  return times;
+}
+
+/**
+ * Rows at `trackTimes` for every site, from one call when the estimate can serve
+ * several sites at once (one propagation of the ensemble), else one call per site.
+ */
+export function trackRowsForSites(estimate: ObjectEstimate, locations: readonly GeodeticLocation[], startMs: number, endMs: number, stepMin = TRACK_STEP_MIN): EphemerisRow[][] {
+  const times = trackTimes(startMs, endMs, stepMin);
+  if (estimate.ephemerisForSites && locations.length > 1) return estimate.ephemerisForSites(locations, times);
+  return locations.map((l) => estimate.ephemeris(l, times));
+}
+
+export function buildTrack(
+  estimate: ObjectEstimate,
+  location: GeodeticLocation,
+  startMs: number,
+  endMs: number,
+  stepMin = TRACK_STEP_MIN,
+  precomputedRows?: readonly EphemerisRow[],
+): Track {
+  const stepMs = stepMin * 60_000;
+  const times = trackTimes(startMs, endMs, stepMin);
+  const rows = precomputedRows ?? estimate.ephemeris(location, times);
   if (rows.length !== times.length) {
     throw new PlanningInputError('estimate.ephemeris', rows.length, `expected ${times.length} rows, one per requested time`);
   }

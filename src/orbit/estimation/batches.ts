@@ -1,6 +1,6 @@
 import { Body, HelioState, MakeTime } from 'astronomy-engine';
 import type { HeliocentricState } from '../elements.js';
-import { ensemblePlaces, type EnsemblePlaces, type Viewpoint } from '../ephemeris.js';
+import { ensemblePlacesForSites, type EnsemblePlaces, type Viewpoint } from '../ephemeris.js';
 import { streamEnsemble, type PropagationOptions } from '../propagate.js';
 import { utcFromTt } from '../time.js';
 
@@ -39,9 +39,24 @@ export function encounterBatches(states: readonly HeliocentricState[], windowDay
 
 /** ensemblePlaces in encounter batches (same layout: timeIndex * memberCount + member). */
 export function batchedEnsemblePlaces(states: readonly HeliocentricState[], viewpoint: Viewpoint, timesUtc: readonly Date[], windowDays: number, options: PropagationOptions = {}): EnsemblePlaces {
+  return batchedEnsemblePlacesForSites(states, [viewpoint], timesUtc, windowDays, options)[0]!;
+}
+
+/** As batchedEnsemblePlaces for several viewpoints, each batch propagated once for all of them. */
+export function batchedEnsemblePlacesForSites(
+  states: readonly HeliocentricState[],
+  viewpoints: readonly Viewpoint[],
+  timesUtc: readonly Date[],
+  windowDays: number,
+  options: PropagationOptions = {},
+): EnsemblePlaces[] {
+  return viewpoints.length === 0 ? [] : gatherBatches(states, viewpoints, timesUtc, windowDays, options);
+}
+
+function gatherBatches(states: readonly HeliocentricState[], viewpoints: readonly Viewpoint[], timesUtc: readonly Date[], windowDays: number, options: PropagationOptions): EnsemblePlaces[] {
   const n = states.length;
   const size = n * timesUtc.length;
-  const out = {
+  const outs = viewpoints.map(() => ({
     raDeg: new Float64Array(size),
     decDeg: new Float64Array(size),
     raRateArcsecPerS: new Float64Array(size),
@@ -50,18 +65,21 @@ export function batchedEnsemblePlaces(states: readonly HeliocentricState[], view
     rAu: new Float64Array(size),
     phaseDeg: new Float64Array(size),
     elongationDeg: new Float64Array(size),
-  };
+  }));
   for (const batch of encounterBatches(states, windowDays)) {
-    const places = ensemblePlaces(batch.map((i) => states[i]!), viewpoint, timesUtc, options);
-    for (const key of Object.keys(out) as (keyof typeof out)[]) {
-      const from = places[key];
-      const to = out[key];
-      for (let k = 0; k < timesUtc.length; k++) {
-        for (let b = 0; b < batch.length; b++) to[k * n + batch[b]!] = from[k * batch.length + b]!;
+    const perSite = ensemblePlacesForSites(batch.map((i) => states[i]!), viewpoints, timesUtc, options);
+    perSite.forEach((places, v) => {
+      const out = outs[v]!;
+      for (const key of Object.keys(out) as (keyof typeof out)[]) {
+        const from = places[key];
+        const to = out[key];
+        for (let k = 0; k < timesUtc.length; k++) {
+          for (let b = 0; b < batch.length; b++) to[k * n + batch[b]!] = from[k * batch.length + b]!;
+        }
       }
-    }
+    });
   }
-  return { timesUtc, memberCount: n, ...out };
+  return outs.map((out) => ({ timesUtc, memberCount: n, ...out }));
 }
 
 /**

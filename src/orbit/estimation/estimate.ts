@@ -3,11 +3,11 @@ import type { GeodeticLocation } from '../../config/schema.js';
 import { absoluteMagnitudeFromObserved, apparentMagnitudeHG, DEFAULT_BAND_OFFSETS, diameterRangeM } from '../../photometry/magnitudes.js';
 import { ARCSEC_PER_RAD, GM_SUN_AU3_PER_DAY2, KM_PER_AU, RAD_PER_DEG } from '../constants.js';
 import { stateFromPerihelionElements, type HeliocentricState, type PerihelionElements } from '../elements.js';
-import { astrometricPlace, DEFAULT_SLOPE_G, ensemblePlaces, observerGeometry, rowsFromPlaces, type EphemerisRow, type UncertaintyEllipse } from '../ephemeris.js';
+import { astrometricPlace, DEFAULT_SLOPE_G, ensemblePlaces, observerGeometry, rowsFromPlaces, type EnsemblePlaces, type EphemerisRow, type UncertaintyEllipse } from '../ephemeris.js';
 import type { EstimateSummary, ObjectEstimate, Percentiles, ResidualRow, TrackletObservation } from '../estimate-types.js';
 import { streamEnsemble } from '../propagate.js';
 import { ttFromTtIso, ttFromUtc, utcFromTt } from '../time.js';
-import { batchedEnsemblePlaces, batchedStream } from './batches.js';
+import { batchedEnsemblePlaces, batchedEnsemblePlacesForSites, batchedStream } from './batches.js';
 import { fitAttributable, type Attributable } from './attributable.js';
 import { EstimationInputError } from './errors.js';
 import { prepareObservations, type PreparedObservation } from './observations.js';
@@ -512,9 +512,8 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
 
   const firstObservedAt = observations.length > 0 ? observations[0]!.timeUtc.toISOString() : utcFromTt(epochTt).toISOString();
   const allStates = [nominal, ...states];
-  const ephemeris = (location: GeodeticLocation, timesUtc: readonly Date[]): EstimatedEphemerisRow[] => {
-    const span = timesUtc.reduce((m, d) => Math.max(m, Math.abs(ttFromUtc(d) - epochTt)), 0);
-    const places = batchedEnsemblePlaces(allStates, location, timesUtc, span);
+  const spanOf = (timesUtc: readonly Date[]) => timesUtc.reduce((m, d) => Math.max(m, Math.abs(ttFromUtc(d) - epochTt)), 0);
+  const rowsFrom = (places: EnsemblePlaces, location: GeodeticLocation): EstimatedEphemerisRow[] => {
     const n = places.memberCount;
     const photometry = nominalH === null ? undefined : { hMag: nominalH, g: slopeG };
     const rows = rowsFromPlaces(places, 0, location, photometry);
@@ -538,6 +537,11 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
       return { ...row, unc: spread.sigma, magSigma, extent99: spread.extent99 };
     });
   };
+  const ephemeris = (location: GeodeticLocation, timesUtc: readonly Date[]): EstimatedEphemerisRow[] =>
+    rowsFrom(batchedEnsemblePlaces(allStates, location, timesUtc, spanOf(timesUtc)), location);
+  /** The same rows for several sites from one propagation of the ensemble. */
+  const ephemerisForSites = (locations: readonly GeodeticLocation[], timesUtc: readonly Date[]): EstimatedEphemerisRow[][] =>
+    batchedEnsemblePlacesForSites(allStates, locations, timesUtc, spanOf(timesUtc)).map((places, i) => rowsFrom(places, locations[i]!));
 
   /** Where the virtual orbits are seen from `location` at `timeUtc` (astrometric ICRS, deg): an evenly spaced subset of at most `maxMembers`. */
   const memberPositions = (location: GeodeticLocation, timeUtc: Date, maxMembers = 500): { raDeg: number; decDeg: number }[] => {
@@ -551,6 +555,7 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
     firstObservedAt,
     summary,
     ephemeris,
+    ephemerisForSites,
     memberPositions,
     nominal,
     virtualOrbits: states,
