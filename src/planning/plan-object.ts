@@ -17,7 +17,7 @@ import { buildTrack, TRACK_STEP_MIN, trackRowsForSites, type Track, type TrackPo
  * three requests (photometry, colours, spectrum) inside the site's observable
  * windows, or the reasons in words and numbers why not.
  *
- * Method, per site: sample the estimate's nominal track every 10 min over the
+ * Method, per site: sample the estimate's nominal track every 20 min over the
  * horizon (track.ts); find the observable windows with the sky module (every hard
  * limit, Sun avoidance included, is the sky module's and never relaxed here);
  * at the window edges and every grid time inside, work out the observing
@@ -571,7 +571,7 @@ function tableTimesMs(choice: KindChoice): number[] {
 }
 
 /**
- * Below this sky rate the track's Hermite interpolation (10-minute samples with their rates)
+ * Below this sky rate the track's Hermite interpolation (20-minute samples with their rates)
  * matches a fresh ensemble ephemeris to about a milliarcsecond (measured on the simulated night),
  * so the request tables are taken from the track instead of propagating the ensemble again.
  */
