@@ -1,4 +1,6 @@
 #!/usr/bin/env node
+import { realpathSync } from 'node:fs';
+import { fileURLToPath } from 'node:url';
 import { ConfigError } from './config/load.js';
 import { MigrationError } from './store/migrations.js';
 import type { CommandIo, CommandMain } from './commands/io.js';
@@ -49,7 +51,18 @@ export async function runCli(argv: string[], io: CommandIo): Promise<number> {
   }
 }
 
-const isMain = process.argv[1] !== undefined && /cli\.(js|ts)$/.test(process.argv[1]);
+/** True when this file is the program being run (directly, or through the `nightjar` bin link). */
+function isMainModule(): boolean {
+  const script = process.argv[1];
+  if (script === undefined) return false;
+  try {
+    return realpathSync(script) === realpathSync(fileURLToPath(import.meta.url));
+  } catch {
+    return false;
+  }
+}
+
+const isMain = isMainModule();
 if (isMain) {
   const io: CommandIo = {
     stdout: (t) => process.stdout.write(t),
