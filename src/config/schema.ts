@@ -72,6 +72,25 @@ export const filterSchema = z
     extinctionMagPerAirmass: nonNegative().max(2),
     /** Sky brightness at zenith on a dark night in this band, mag/arcsec^2 (V value used when absent). */
     darkSkyMagPerArcsec2: finite().min(10).max(25).optional(),
+    /** Mean asteroid colour in this band, m_band - V, mag; absent: the photometry module's table of mean colours. */
+    asteroidColourFromVMag: finite().min(-3).max(3).optional(),
+  })
+  .strict();
+
+/** Exposure-planning choices of a site; absent ones take the photometry module's documented defaults. */
+export const exposureSettingsSchema = z
+  .object({
+    /** SNR to reach: per light-curve frame, per colour filter, per spectral resolution element. */
+    targetSnr: z
+      .object({ photometry: positive().max(1000).optional(), colours: positive().max(1000).optional(), spectrum: positive().max(1000).optional() })
+      .strict()
+      .optional(),
+    /** Per-frame overhead beyond readout (file write, guiding settle), s. */
+    frameOverheadS: nonNegative().max(600).optional(),
+    /** Time to change filters, s. */
+    filterChangeS: nonNegative().max(600).optional(),
+    /** Fraction of full well the brightest pixel may reach. */
+    saturationFraction: finite().gt(0).max(1).optional(),
   })
   .strict();
 
@@ -126,6 +145,7 @@ export const siteSchema = z
     telescope: telescopeSchema,
     imager: imagerSchema,
     spectrograph: spectrographSchema.optional(),
+    exposure: exposureSettingsSchema.optional(),
     typicalSeeingArcsec: positive().max(20),
     /** V-band zenith sky brightness on a moonless dark night, mag/arcsec^2. */
     darkSkyVMagPerArcsec2: finite().min(15).max(23),

@@ -80,7 +80,9 @@ export function imagingSetup(site: Site, filterName: string, conditions: Observi
   checkConditions(conditions);
   const imager = site.imager;
   const filter = findFilter(imager, filterName);
-  const bandMag = conditions.vMag + bandOffsetFromV(filter.name, options.bandOffsets ?? DEFAULT_BAND_OFFSETS);
+  // The configured colour of the filter, else the table (or the caller's table).
+  const colour = options.bandOffsets === undefined ? filter.asteroidColourFromVMag : undefined;
+  const bandMag = conditions.vMag + (colour ?? bandOffsetFromV(filter.name, options.bandOffsets ?? DEFAULT_BAND_OFFSETS));
   const zenithSeeing = options.seeingArcsec ?? site.typicalSeeingArcsec;
   requirePositive('seeingArcsec', zenithSeeing);
   const fwhmArcsec = seeingAtAirmass(zenithSeeing, conditions.airmass);
@@ -141,7 +143,7 @@ export function imagingLimits(site: Site, setup: ImagingSetup, conditions: Obser
       detail: `rate ${fmt(conditions.rateArcsecPerS)} arcsec/s x t must stay below FWHM = ${fmt(setup.fwhmArcsec)} arcsec (sidereal tracking)`,
     });
   }
-  const fraction = options.saturationFraction ?? 0.8;
+  const fraction = options.saturationFraction ?? site.exposure?.saturationFraction ?? 0.8;
   requireInRange('saturationFraction', fraction, 0.05, 1);
   const capacityE = fraction * site.imager.fullWellE;
   const peakRate = setup.peakSourceEPerS + setup.signal.skyEPerPixelPerS + setup.signal.darkEPerPixelPerS;

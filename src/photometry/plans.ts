@@ -222,16 +222,17 @@ interface CommonOptions {
   filterChangeS: number;
 }
 
-function commonOptions(kind: RequestKind, options: PlanOptions): CommonOptions {
-  const targetSnr = options.targetSnr ?? DEFAULT_TARGET_SNR[kind];
+function commonOptions(kind: RequestKind, options: PlanOptions, site: Site): CommonOptions {
+  const settings = site.exposure;
+  const targetSnr = options.targetSnr ?? settings?.targetSnr?.[kind] ?? DEFAULT_TARGET_SNR[kind];
   requirePositive('targetSnr', targetSnr);
   const minExposureS = options.minExposureS ?? 1;
   requirePositive('minExposureS', minExposureS);
   const maxCount = options.maxCount ?? 60;
   requireInRange('maxCount', maxCount, 1, 10_000);
-  const frameOverheadS = options.frameOverheadS ?? 5;
+  const frameOverheadS = options.frameOverheadS ?? settings?.frameOverheadS ?? 5;
   requireNonNegative('frameOverheadS', frameOverheadS);
-  const filterChangeS = options.filterChangeS ?? 10;
+  const filterChangeS = options.filterChangeS ?? settings?.filterChangeS ?? 10;
   requireNonNegative('filterChangeS', filterChangeS);
   if (options.windowS !== undefined) requirePositive('windowS', options.windowS);
   return { targetSnr, minExposureS, maxCount: Math.floor(maxCount), frameOverheadS, filterChangeS };
@@ -245,7 +246,7 @@ function commonOptions(kind: RequestKind, options: PlanOptions): CommonOptions {
  */
 export function photometryPlan(site: Site, conditions: ObservingConditions, options: PlanOptions = {}): PlanResult<PhotometryPlan> {
   checkConditions(conditions);
-  const common = commonOptions('photometry', options);
+  const common = commonOptions('photometry', options, site);
   const minUsefulSnr = options.minUsefulSnr ?? 10;
   requirePositive('minUsefulSnr', minUsefulSnr);
   const filterName = options.filter ?? (site.imager.filters.some((f) => f.name === 'V') ? 'V' : (site.imager.filters[0]?.name ?? 'V'));
@@ -303,7 +304,7 @@ export const DEFAULT_COLOUR_FILTERS: readonly string[] = Object.freeze(['g', 'r'
  */
 export function coloursPlan(site: Site, conditions: ObservingConditions, options: PlanOptions = {}): PlanResult<ColoursPlan> {
   checkConditions(conditions);
-  const common = commonOptions('colours', options);
+  const common = commonOptions('colours', options, site);
   const configured = site.imager.filters.map((f) => f.name);
   let names: string[];
   if (options.colourFilters !== undefined) {
@@ -373,7 +374,7 @@ export function coloursPlan(site: Site, conditions: ObservingConditions, options
  */
 export function spectrumPlan(site: Site, conditions: ObservingConditions, options: PlanOptions = {}): PlanResult<SpectrumPlan> {
   checkConditions(conditions);
-  const common = commonOptions('spectrum', options);
+  const common = commonOptions('spectrum', options, site);
   const sp = requireSpectrograph(site);
   const slits = options.slitArcsec !== undefined ? [options.slitArcsec] : [...sp.slitWidthsArcsec].sort((a, b) => a - b);
   const windowS = options.windowS ?? DEFAULT_WINDOW_S;
