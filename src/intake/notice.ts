@@ -109,10 +109,12 @@ function crossFieldIssues(notice: Notice, options: ParseNoticeOptions): Validati
   } else {
     if (notice.reason !== undefined)
       issues.push({ path: 'reason', message: 'reason is only allowed together with "retracted": true' });
-    if (observations.length < MIN_OBSERVATIONS) {
+    // An orbit block alone is enough to compute an ephemeris; without one, a tracklet is needed.
+    const orbitOnly = notice.orbit !== undefined && observations.length === 0;
+    if (observations.length < MIN_OBSERVATIONS && !orbitOnly) {
       issues.push({
         path: 'observations',
-        message: `expected at least ${MIN_OBSERVATIONS} observations, got ${observations.length}`,
+        message: `expected at least ${MIN_OBSERVATIONS} observations${notice.orbit === undefined ? ' (or an orbit block)' : ''}, got ${observations.length}`,
       });
     }
   }

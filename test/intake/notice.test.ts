@@ -65,6 +65,20 @@ describe('notice v1', () => {
   it('rejects a single observation', () => {
     const n = exampleNotice();
     (n['observations'] as unknown[]).splice(1);
+    expect(reasons(n)).toEqual(['observations: expected at least 2 observations (or an orbit block), got 1']);
+  });
+
+  it('accepts an orbit block without observations (an ephemeris needs no tracklet then)', () => {
+    const orbit = { epoch: '2027-03-01T00:00:00Z', q: 0.91, e: 0.32, i: 7.5, node: 120.1, peri: 48.7, tp: '2027-02-10T12:00:00Z' };
+    const n = exampleNotice({ orbit });
+    delete n['observations'];
+    expect(reasons(n)).toEqual([]);
+  });
+
+  it('still wants two observations beside an orbit block that brings some', () => {
+    const orbit = { epoch: '2027-03-01T00:00:00Z', q: 0.91, e: 0.32, i: 7.5, node: 120.1, peri: 48.7, tp: '2027-02-10T12:00:00Z' };
+    const n = exampleNotice({ orbit });
+    (n['observations'] as unknown[]).splice(1);
     expect(reasons(n)).toEqual(['observations: expected at least 2 observations, got 1']);
   });
 
