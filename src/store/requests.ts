@@ -123,6 +123,10 @@ export function createRequestStore(db: Db) {
       const open = (
         db.prepare(`SELECT ${COLUMNS} FROM requests WHERE object_id = ? AND state IN ('queued', 'leased')`).all(input.objectId) as RawRequestRow[]
       ).map(decode);
+      const done = db
+        .prepare(`SELECT id, site_id AS siteId, kind, window_start AS windowStart, window_end AS windowEnd, updated_at AS at FROM requests
+          WHERE object_id = ? AND state = 'done'`)
+        .all(input.objectId) as { id: string; siteId: string; kind: RequestKind; windowStart: string; windowEnd: string; at: string }[];
       const created: string[] = [];
       const skipped: { siteId: string; kind: RequestKind; reason: string }[] = [];
       const insert = db.prepare(`INSERT INTO requests (id, object_id, site_id, kind, state, score, window_start, window_end,
@@ -133,6 +137,12 @@ export function createRequestStore(db: Db) {
         const leased = open.find((o) => o.state === 'leased' && o.siteId === r.siteId && o.kind === r.kind);
         if (leased) {
           skipped.push({ siteId: r.siteId, kind: r.kind, reason: `request ${leased.id} of this kind is leased by ${leased.leaseHolder ?? 'someone'}` });
+          continue;
+        }
+        // Observed already in this window (the same night): not proposed again; the next night's window is.
+        const observed = done.find((d) => d.siteId === r.siteId && d.kind === r.kind && d.windowStart < r.windowEnd && r.windowStart < d.windowEnd);
+        if (observed) {
+          skipped.push({ siteId: r.siteId, kind: r.kind, reason: `request ${observed.id} of this kind was done in this window (reported ${observed.at})` });
           continue;
         }
         const id = newRequestId();

@@ -124,3 +124,18 @@ describe('request store', () => {
     expect(store.requests.queue({ siteId: 'lantern-ridge', from: at(200).toISOString(), to: at(300).toISOString(), limit: 10 })).toEqual([]);
   });
 });
+
+describe('requests already observed', () => {
+  it('are not proposed again in the same window, but are in a later one', () => {
+    const store = setup();
+    const [id] = assess(store, [proposal('photometry')]).created;
+    const lease = store.requests.lease(id!, 'queue-a', 7200, at(11));
+    if (lease.status !== 'leased') throw new Error('not leased');
+    store.requests.recordOutcome(id!, lease.leaseToken, { result: 'done', observedAt: at(60).toISOString(), notes: null }, at(61));
+    const again = assess(store, [proposal('photometry')], 62);
+    expect(again.created).toEqual([]);
+    expect(again.skipped[0]?.reason).toMatch(/was done in this window/);
+    const nextNight: NewRequest = { ...proposal('photometry'), windowStart: at(24 * 60).toISOString(), windowEnd: at(26 * 60).toISOString() };
+    expect(assess(store, [nextNight], 63).created).toHaveLength(1);
+  });
+});
