@@ -32,12 +32,20 @@ const MEMBERS = Number(values.members);
 const pct = (sorted: number[], p: number) => sorted[Math.min(sorted.length - 1, Math.floor((p / 100) * sorted.length))]!;
 const ms = (x: number) => `${x.toFixed(0)} ms`;
 
+/** `count` invented 4-observation notices (in batches of the simulator's 200), each its own object. */
 function trackletNotices(now: Date, count: number, seed: number) {
-  return simulateNight({ now, count, seed }).map((s) => {
-    const n = { ...s.notice } as Record<string, unknown>;
-    n['observations'] = (n['observations'] as unknown[]).slice(0, 4);
-    return n;
-  });
+  const out: Record<string, unknown>[] = [];
+  for (let batch = 0; out.length < count; batch++) {
+    for (const s of simulateNight({ now, count: Math.min(200, count - out.length), seed: seed + batch })) {
+      const n = { ...s.notice } as Record<string, unknown>;
+      n['observations'] = (n['observations'] as unknown[]).slice(0, 4);
+      // Unique designations and notice ids across batches.
+      n['objectId'] = `${String(n['objectId'])}${out.length}`;
+      n['noticeId'] = `${String(n['noticeId'])}-${out.length}`;
+      out.push(n);
+    }
+  }
+  return out;
 }
 
 async function latency(): Promise<void> {
