@@ -93,6 +93,12 @@ export async function startService(options: StartOptions): Promise<RunningServic
       ...demoJobs({ config, clock, log }),
     ],
     (job, err) => jobLog.error({ job, err }, 'job failed'),
+    {
+      info: (m) => jobLog.debug({ scheduler: m }, 'cron'),
+      warn: (m) => jobLog.warn({ scheduler: m }, 'cron'),
+      error: (m, e) => jobLog.error({ scheduler: String(m), err: e }, 'cron'),
+      debug: (m) => jobLog.debug({ scheduler: String(m) }, 'cron'),
+    },
   );
   let address: string;
   try {

@@ -21,7 +21,15 @@ export type JobErrorHandler = (job: string, err: unknown) => void;
  * Schedules jobs with node-cron. The same job never overlaps itself: a tick that
  * comes while the previous run is still going is skipped.
  */
-export function createJobRunner(specs: readonly JobSpec[], onError: JobErrorHandler): JobRunner {
+/** Where node-cron's own warnings (e.g. a tick missed while the thread was busy) go. */
+export interface CronLogger {
+  info(message: string): void;
+  warn(message: string): void;
+  error(message: string | Error, err?: Error): void;
+  debug(message: string | Error, err?: Error): void;
+}
+
+export function createJobRunner(specs: readonly JobSpec[], onError: JobErrorHandler, cronLogger?: CronLogger): JobRunner {
   const running = new Map<string, Promise<void>>();
   const tasks: ScheduledTask[] = [];
 
@@ -41,7 +49,7 @@ export function createJobRunner(specs: readonly JobSpec[], onError: JobErrorHand
     start() {
       for (const spec of specs) {
         // Overlap is prevented by execute(): a tick while the job runs joins the running one.
-        tasks.push(cron.schedule(spec.schedule, () => execute(spec), { name: spec.name }));
+        tasks.push(cron.schedule(spec.schedule, () => execute(spec), { name: spec.name, ...(cronLogger ? { logger: cronLogger } : {}) }));
       }
     },
     async stop() {
