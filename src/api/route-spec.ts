@@ -16,7 +16,7 @@ export interface RouteSpec<P extends z.ZodType, Q extends z.ZodType, B extends z
   tag: string;
   summary: string;
   description?: string;
-  /** null: open to anyone; a list: any of these roles. */
+  /** null: open to anyone; a list: one of these roles suffices. */
   role: Role | readonly Role[] | null;
   /** GET routes may be open to loopback callers when the config says so. */
   readsOpenOnLoopback?: boolean;
@@ -37,7 +37,6 @@ export interface RouteSpec<P extends z.ZodType, Q extends z.ZodType, B extends z
   }) => Promise<unknown>;
 }
 
-// eslint-disable-next-line @typescript-eslint/no-explicit-any
 export type AnyRouteSpec = RouteSpec<z.ZodType, z.ZodType, z.ZodType>;
 
 function validate<T extends z.ZodType>(schema: T | undefined, value: unknown, where: string): z.infer<T> {

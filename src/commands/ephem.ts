@@ -27,7 +27,7 @@ cos Dec), distances from the site (delta) and the Sun (r) in au, phase angle
 and solar elongation, apparent altitude/azimuth with refraction, airmass, and
 V magnitude from H and G when the notice gives H. Times are ISO-8601 UTC.
 
-The notice is checked as intake checks it, except for its age: any past or
+The notice is checked as intake checks it, except for its age: past or
 future time may be asked for. A notice with an orbit block is propagated from
 its elements. A notice with only a tracklet is estimated: its positions are
 fitted over a grid of distances and range-rates and resampled into virtual

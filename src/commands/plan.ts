@@ -1,11 +1,10 @@
-import { parseArgs } from 'node:util';
 import { loadConfig } from '../config/load.js';
 import type { Notice } from '../intake/notice.js';
 import { EstimationFailedError, EstimationInputError } from '../orbit/estimation/index.js';
 import { assessObject, weightsFromConfig } from '../planning/assess.js';
 import type { ObjectPlan, PlannedRequest, SitePlan } from '../planning/plan-object.js';
 import { readNoticeFile, trackletOf } from './notice-file.js';
-import { parseUtc, parseWhole } from './args.js';
+import { parseCommandArgs, parseUtc, parseWhole } from './args.js';
 import type { CommandMain, CommandIo } from './io.js';
 import { UsageError } from './io.js';
 
@@ -96,28 +95,22 @@ interface Options {
 }
 
 export const main: CommandMain = async (argv: string[], io: CommandIo) => {
-  let values: Options;
-  try {
-    ({ values } = parseArgs({
-      args: argv,
-      options: {
-        notice: { type: 'string' },
-        site: { type: 'string' },
-        now: { type: 'string' },
-        json: { type: 'boolean' },
-        members: { type: 'string' },
-        seed: { type: 'string' },
-        config: { type: 'string' },
-        help: { type: 'boolean', short: 'h' },
-      },
-    }));
-  } catch (err) {
-    throw new UsageError((err as Error).message);
-  }
-  if (values.help) {
-    io.stdout(`${HELP}\n`);
-    return 0;
-  }
+  const parsed = parseCommandArgs(
+    argv,
+    {
+      notice: { type: 'string' },
+      site: { type: 'string' },
+      now: { type: 'string' },
+      json: { type: 'boolean' },
+      members: { type: 'string' },
+      seed: { type: 'string' },
+      config: { type: 'string' },
+    },
+    HELP,
+    io,
+  );
+  if (parsed === null) return 0;
+  const values: Options = parsed;
   if (values.notice === undefined) throw new UsageError('--notice FILE is required');
   const now = values.now === undefined ? new Date() : parseUtc('--now', values.now);
   const config = loadConfig({ path: values.config, env: io.env, cwd: io.cwd });

@@ -1,12 +1,10 @@
 import { mkdirSync, renameSync, writeFileSync } from 'node:fs';
 import { join, resolve } from 'node:path';
-import { parseArgs } from 'node:util';
 import { loadConfig } from '../config/load.js';
 import { parseNotice } from '../intake/notice.js';
 import { simulateNight } from '../planning/simulate.js';
-import { parseWhole } from './args.js';
+import { parseCommandArgs, parseUtc, parseWhole } from './args.js';
 import type { CommandMain, CommandIo } from './io.js';
-import { UsageError } from './io.js';
 
 /**
  * `nightjar simulate`: a night of invented discovery notices for the demo,
@@ -31,7 +29,6 @@ Options:
   --config FILE   configuration file, for the intake's clock tolerance (default: NIGHTJAR_CONFIG, else the demo)
   -h, --help      show this help`;
 
-const ISO_UTC = /^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}(:\d{2}(\.\d{1,9})?)?Z$/;
 
 
 interface Options {
@@ -45,33 +42,22 @@ interface Options {
 }
 
 export const main: CommandMain = async (argv: string[], io: CommandIo) => {
-  let values: Options;
-  try {
-    ({ values } = parseArgs({
-      args: argv,
-      options: {
-        now: { type: 'string' },
-        count: { type: 'string' },
-        out: { type: 'string' },
-        seed: { type: 'string' },
-        'with-orbit': { type: 'boolean' },
-        config: { type: 'string' },
-        help: { type: 'boolean', short: 'h' },
-      },
-    }));
-  } catch (err) {
-    throw new UsageError((err as Error).message);
-  }
-  if (values.help) {
-    io.stdout(`${HELP}\n`);
-    return 0;
-  }
-  let now = new Date();
-  if (values.now !== undefined) {
-    const ms = ISO_UTC.test(values.now) ? Date.parse(values.now) : Number.NaN;
-    if (!Number.isFinite(ms)) throw new UsageError(`--now: "${values.now}" is not an ISO-8601 UTC time such as 2027-03-04T05:06:07Z`);
-    now = new Date(ms);
-  }
+  const parsed = parseCommandArgs(
+    argv,
+    {
+      now: { type: 'string' },
+      count: { type: 'string' },
+      out: { type: 'string' },
+      seed: { type: 'string' },
+      'with-orbit': { type: 'boolean' },
+      config: { type: 'string' },
+    },
+    HELP,
+    io,
+  );
+  if (parsed === null) return 0;
+  const values: Options = parsed;
+  const now = values.now === undefined ? new Date() : parseUtc('--now', values.now);
   const count = values.count === undefined ? 7 : parseWhole('--count', values.count, 1, 200);
   const seed = values.seed === undefined ? 1 : parseWhole('--seed', values.seed, 0, 2 ** 32 - 1);
   const config = loadConfig({ path: values.config, env: io.env, cwd: io.cwd });

@@ -18,7 +18,7 @@ export interface AssessInput {
 export interface AssessOutput {
   summary: unknown;
   requests: NewRequest[];
-  /** Set when no site has any window within the horizon: the object is retired with this reason. */
+  /** Set when no site has a window within the horizon: the object is retired with this reason. */
   retireReason: string | null;
 }
 

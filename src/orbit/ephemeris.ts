@@ -197,6 +197,20 @@ export interface PlacesAtTime {
   readonly elongationDeg: Float64Array;
 }
 
+/** Zeroed arrays for every field of a place, each of `size` values. */
+export function placeArrays(size: number): PlacesAtTime {
+  return {
+    raDeg: new Float64Array(size),
+    decDeg: new Float64Array(size),
+    raRateArcsecPerS: new Float64Array(size),
+    decRateArcsecPerS: new Float64Array(size),
+    deltaAu: new Float64Array(size),
+    rAu: new Float64Array(size),
+    phaseDeg: new Float64Array(size),
+    elongationDeg: new Float64Array(size),
+  };
+}
+
 function convertTimes(timesUtc: readonly Date[]): number[] {
   return timesUtc.map((d, i) => {
     if (!(d instanceof Date) || !Number.isFinite(d.getTime())) throw new OrbitInputError(`timesUtc[${i}]`, d, 'expected a valid Date');
@@ -236,16 +250,7 @@ export function streamEnsemblePlacesForSites(
   if (viewpoints.length === 0) throw new OrbitInputError('viewpoints', '[]', 'expected at least one site or the geocentre');
   const timesTt = convertTimes(timesUtc);
   const n = states.length;
-  const places: PlacesAtTime = {
-    raDeg: new Float64Array(n),
-    decDeg: new Float64Array(n),
-    raRateArcsecPerS: new Float64Array(n),
-    decRateArcsecPerS: new Float64Array(n),
-    deltaAu: new Float64Array(n),
-    rAu: new Float64Array(n),
-    phaseDeg: new Float64Array(n),
-    elongationDeg: new Float64Array(n),
-  };
+  const places: PlacesAtTime = placeArrays(n);
   const scratch = new Float64Array(PLACE_FIELDS);
   return streamEnsemble(
     states,
@@ -282,28 +287,7 @@ export function ensemblePlaces(
   timesUtc: readonly Date[],
   options: PropagationOptions = {},
 ): EnsemblePlaces {
-  const n = states.length;
-  const size = timesUtc.length * n;
-  const out = {
-    raDeg: new Float64Array(size),
-    decDeg: new Float64Array(size),
-    raRateArcsecPerS: new Float64Array(size),
-    decRateArcsecPerS: new Float64Array(size),
-    deltaAu: new Float64Array(size),
-    rAu: new Float64Array(size),
-    phaseDeg: new Float64Array(size),
-    elongationDeg: new Float64Array(size),
-  };
-  streamEnsemblePlaces(
-    states,
-    viewpoint,
-    timesUtc,
-    (k, p) => {
-      for (const key of Object.keys(out) as (keyof PlacesAtTime)[]) out[key].set(p[key], k * n);
-    },
-    options,
-  );
-  return { timesUtc, memberCount: n, ...out };
+  return ensemblePlacesForSites(states, [viewpoint], timesUtc, options)[0]!;
 }
 
 /** ensemblePlaces for several viewpoints from one propagation (one EnsemblePlaces per viewpoint, same order). */
@@ -315,16 +299,7 @@ export function ensemblePlacesForSites(
 ): EnsemblePlaces[] {
   const n = states.length;
   const size = timesUtc.length * n;
-  const outs = viewpoints.map(() => ({
-    raDeg: new Float64Array(size),
-    decDeg: new Float64Array(size),
-    raRateArcsecPerS: new Float64Array(size),
-    decRateArcsecPerS: new Float64Array(size),
-    deltaAu: new Float64Array(size),
-    rAu: new Float64Array(size),
-    phaseDeg: new Float64Array(size),
-    elongationDeg: new Float64Array(size),
-  }));
+  const outs = viewpoints.map(() => placeArrays(size));
   streamEnsemblePlacesForSites(
     states,
     viewpoints,
@@ -342,16 +317,7 @@ export function ensemblePlacesForSites(
 export function placesFromTrajectory(trajectory: EnsembleTrajectory, viewpoint: Viewpoint, timesUtc: readonly Date[]): EnsemblePlaces {
   const n = trajectory.memberCount;
   const size = timesUtc.length * n;
-  const out = {
-    raDeg: new Float64Array(size),
-    decDeg: new Float64Array(size),
-    raRateArcsecPerS: new Float64Array(size),
-    decRateArcsecPerS: new Float64Array(size),
-    deltaAu: new Float64Array(size),
-    rAu: new Float64Array(size),
-    phaseDeg: new Float64Array(size),
-    elongationDeg: new Float64Array(size),
-  };
+  const out = placeArrays(size);
   const pos = trajectory.positionsAu;
   const vel = trajectory.velocitiesAuPerDay;
   const scratch = new Float64Array(PLACE_FIELDS);

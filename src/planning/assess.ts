@@ -31,7 +31,7 @@ export interface Assessment {
     horizonEnd: string;
     sites: { siteId: string; siteName: string; windows: unknown[]; reasons: string[]; requests: { kind: string; score: number; windowStart: string; windowEnd: string; factors: unknown }[] }[];
   };
-  /** Set when no site has any window in the horizon. */
+  /** Set when no site has a window in the horizon. */
   retireReason: string | null;
 }
 

@@ -1,6 +1,6 @@
 import { Body, HelioState, MakeTime } from 'astronomy-engine';
 import type { HeliocentricState } from '../elements.js';
-import { ensemblePlacesForSites, type EnsemblePlaces, type Viewpoint } from '../ephemeris.js';
+import { ensemblePlacesForSites, placeArrays, type EnsemblePlaces, type Viewpoint } from '../ephemeris.js';
 import { streamEnsemble, type PropagationOptions } from '../propagate.js';
 import { utcFromTt } from '../time.js';
 
@@ -56,16 +56,7 @@ export function batchedEnsemblePlacesForSites(
 function gatherBatches(states: readonly HeliocentricState[], viewpoints: readonly Viewpoint[], timesUtc: readonly Date[], windowDays: number, options: PropagationOptions): EnsemblePlaces[] {
   const n = states.length;
   const size = n * timesUtc.length;
-  const outs = viewpoints.map(() => ({
-    raDeg: new Float64Array(size),
-    decDeg: new Float64Array(size),
-    raRateArcsecPerS: new Float64Array(size),
-    decRateArcsecPerS: new Float64Array(size),
-    deltaAu: new Float64Array(size),
-    rAu: new Float64Array(size),
-    phaseDeg: new Float64Array(size),
-    elongationDeg: new Float64Array(size),
-  }));
+  const outs = viewpoints.map(() => placeArrays(size));
   for (const batch of encounterBatches(states, windowDays)) {
     const perSite = ensemblePlacesForSites(batch.map((i) => states[i]!), viewpoints, timesUtc, options);
     perSite.forEach((places, v) => {
