@@ -56,6 +56,11 @@ export function observerGeometry(viewpoint: Viewpoint, timeUtc: Date): ObserverG
   };
 }
 
+/** observerGeometry of every viewpoint at every instant: [viewpoint][time]. */
+export function observerGeometries(viewpoints: readonly Viewpoint[], timesUtc: readonly Date[]): ObserverGeometry[][] {
+  return viewpoints.map((v) => timesUtc.map((t) => observerGeometry(v, t)));
+}
+
 /** One object's place as seen by one observer. */
 export interface AstrometricPlace {
   /** Astrometric ICRS RA, deg [0, 360), and Dec, deg. */
@@ -239,6 +244,8 @@ export function streamEnsemblePlaces(
  * As streamEnsemblePlaces for several viewpoints from one propagation:
  * `sink(timeIndex, viewpointIndex, places)` for every viewpoint at every
  * requested instant (the propagation, the dominant cost, is not repeated).
+ * `observers[v][k]`, when given, is the geometry of viewpoint v at timesUtc[k]
+ * (observerGeometries), for callers that place several ensembles at the same times.
  */
 export function streamEnsemblePlacesForSites(
   states: readonly HeliocentricState[],
@@ -246,6 +253,7 @@ export function streamEnsemblePlacesForSites(
   timesUtc: readonly Date[],
   sink: (timeIndex: number, viewpointIndex: number, places: PlacesAtTime) => void,
   options: PropagationOptions = {},
+  observers?: readonly (readonly ObserverGeometry[])[],
 ): { stepCount: number; perturberNodeCount: number } {
   if (viewpoints.length === 0) throw new OrbitInputError('viewpoints', '[]', 'expected at least one site or the geocentre');
   const timesTt = convertTimes(timesUtc);
@@ -257,7 +265,7 @@ export function streamEnsemblePlacesForSites(
     timesTt,
     (k, pos, vel) => {
       viewpoints.forEach((viewpoint, v) => {
-        const observer = observerGeometry(viewpoint, timesUtc[k]!);
+        const observer = observers?.[v]?.[k] ?? observerGeometry(viewpoint, timesUtc[k]!);
         for (let m = 0; m < n; m++) {
           placeInto(pos[3 * m]!, pos[3 * m + 1]!, pos[3 * m + 2]!, vel[3 * m]!, vel[3 * m + 1]!, vel[3 * m + 2]!, observer, scratch);
           places.raDeg[m] = scratch[0]!;

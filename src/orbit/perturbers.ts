@@ -8,8 +8,9 @@ import { AstroTime, Body, HelioState, MassProduct } from 'astronomy-engine';
  * lunar theory for the Moon) at nodes spaced `nodeSpacingDays` apart and are
  * interpolated by cubic Hermite polynomials from positions and velocities
  * (error <= h^4/384 max|x''''|: about 1e-12 au for the Moon at 0.125 day).
- * One table is built per propagation call and shared by every orbit in it;
- * nothing is cached between calls.
+ * One table is built per propagation call and shared by every orbit in it,
+ * or passed in by the caller to serve several calls over the same span
+ * (PropagationOptions.perturbers); nothing is cached at module level.
  */
 
 export interface PerturbingBody {

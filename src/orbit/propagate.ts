@@ -33,6 +33,12 @@ export interface PropagationOptions {
   readonly minStepDays?: number;
   /** Perturber table node spacing, days; default 0.125. */
   readonly perturberNodeDays?: number;
+  /**
+   * A perturber table to reuse, so several calls over the same span (batches of
+   * one ensemble) compute each node once; its own spacing is used. Default: a
+   * new table per call.
+   */
+  readonly perturbers?: PerturberTable;
   /** Bodies left out of the force model, e.g. the planet whose own orbit a test particle follows. */
   readonly omitBodies?: readonly Body[];
 }
@@ -170,7 +176,8 @@ export function streamEnsemble(
 
   const omitted = new Set(options.omitBodies ?? []);
   const gms = Float64Array.from(PERTURBING_BODIES.map((p) => (omitted.has(p.body) ? 0 : p.gm)));
-  const table = new PerturberTable(options.perturberNodeDays ?? 0.125);
+  const table = options.perturbers ?? new PerturberTable(options.perturberNodeDays ?? 0.125);
+  const nodesBefore = table.nodeEvaluations;
   const order = timesTt.map((t, i) => ({ t, i }));
   const forward = order.filter((o) => o.t >= epoch).sort((a, b) => a.t - b.t);
   const backward = order.filter((o) => o.t < epoch).sort((a, b) => b.t - a.t);
@@ -178,7 +185,7 @@ export function streamEnsemble(
   for (const run of [forward, backward]) {
     if (run.length > 0) steps += integrateRun(states, epoch, run, table, gms, fraction, maxStep, minStep, sink);
   }
-  return { stepCount: steps, perturberNodeCount: table.nodeEvaluations };
+  return { stepCount: steps, perturberNodeCount: table.nodeEvaluations - nodesBefore };
 }
 
 /** Integrates from the epoch through `run` (monotonic in time away from the epoch), writing states at each. */

@@ -89,6 +89,43 @@ export function apparentMagnitudeHG(hMag: number, g: number, rAu: number, deltaA
   return hMag + 5 * Math.log10(rAu * deltaAu) + phaseTermHG(g, phaseDeg);
 }
 
+/**
+ * apparentMagnitudeHG for many members at once (the same formula and phase
+ * functions, Bowell et al. 1989): out[m] = V, mag, of member m in [0, count)
+ * with H hMag[m] and geometry rAu[offset + m], deltaAu[offset + m] (au) and
+ * phaseDeg[offset + m] (deg), as laid out in an ensemble's place arrays.
+ * G is checked once; a geometry outside the model's range (non-positive
+ * distance, phase beyond MAX_PHASE_DEG) or a non-finite H gives NaN instead of
+ * an error, so one odd member does not stop an ensemble. Returns how many
+ * values are finite.
+ */
+export function apparentMagnitudesHG(
+  hMag: ArrayLike<number>,
+  g: number,
+  rAu: ArrayLike<number>,
+  deltaAu: ArrayLike<number>,
+  phaseDeg: ArrayLike<number>,
+  offset: number,
+  count: number,
+  out: Float64Array,
+): number {
+  requireInRange('g (H-G slope parameter)', g, -0.5, 1.5);
+  let finite = 0;
+  for (let m = 0; m < count; m++) {
+    const h = hMag[m]!, r = rAu[offset + m]!, d = deltaAu[offset + m]!, phase = phaseDeg[offset + m]!;
+    if (!Number.isFinite(h) || !(r > 0) || !(d > 0) || !(phase >= 0 && phase <= MAX_PHASE_DEG)) {
+      out[m] = Number.NaN;
+      continue;
+    }
+    const tanHalf = Math.tan((phase * DEG) / 2);
+    const blend = (1 - g) * Math.exp(-3.33 * Math.pow(tanHalf, 0.63)) + g * Math.exp(-1.87 * Math.pow(tanHalf, 1.22));
+    const v = blend > 0 ? h + 5 * Math.log10(r * d) - 2.5 * Math.log10(blend) : Number.NaN;
+    out[m] = v;
+    if (Number.isFinite(v)) finite++;
+  }
+  return finite;
+}
+
 /** Mean colours of asteroids: magnitude in a band minus V, mag, by band name. */
 export type BandOffsets = Readonly<Record<string, number>>;
 

@@ -5,6 +5,7 @@ import {
   absoluteMagnitudeFromObserved,
   apparentMagnitudeHG,
   apparentMagnitudeHG12,
+  apparentMagnitudesHG,
   diameterM,
   g1g2FromG12,
   magnitudeInBand,
@@ -83,6 +84,22 @@ describe('IAU H-G magnitudes (Bowell et al. 1989)', () => {
     expect(() => apparentMagnitudeHG(20, 0.15, Number.NaN, 1, 10)).toThrow(/rAu.*NaN.*finite/);
     expect(() => apparentMagnitudeHG(20, 0.15, 1, -1, 10)).toThrow(/deltaAu/);
     expect(() => apparentMagnitudeHG(20, 0.15, 1, 1, 180)).toThrow(/phaseDeg.* = 180: expected a number from 0 to 179.9/);
+  });
+
+  it('gives the same magnitudes for a whole ensemble as one member at a time, to 1e-12 mag', () => {
+    const h = [18, 20.5, 24, 27.3];
+    // Geometry arrays laid out as an ensemble's: two leading values that belong to another time.
+    const r = [9, 9, 1.02, 1.3, 2.4, 0.98], delta = [9, 9, 0.01, 0.4, 1.5, 0.002], phase = [9, 9, 60, 30, 5, 110];
+    const out = new Float64Array(4);
+    expect(apparentMagnitudesHG(h, 0.15, r, delta, phase, 2, 4, out)).toBe(4);
+    h.forEach((hm, m) => expect(Math.abs(out[m]! - apparentMagnitudeHG(hm, 0.15, r[2 + m]!, delta[2 + m]!, phase[2 + m]!))).toBeLessThan(1e-12));
+  });
+
+  it('marks an ensemble member outside the phase range or without H as NaN instead of failing', () => {
+    const out = new Float64Array(3);
+    expect(apparentMagnitudesHG([20, Number.NaN, 20], 0.15, [1, 1, 1], [1, 1, 1], [10, 10, 179.95], 0, 3, out)).toBe(1);
+    expect(Number.isNaN(out[1]!) && Number.isNaN(out[2]!)).toBe(true);
+    expect(() => apparentMagnitudesHG([20], 2, [1], [1], [10], 0, 1, out)).toThrow(/g \(H-G slope parameter\)/);
   });
 });
 

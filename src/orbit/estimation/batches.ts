@@ -1,6 +1,7 @@
 import { Body, HelioState, MakeTime } from 'astronomy-engine';
 import type { HeliocentricState } from '../elements.js';
-import { ensemblePlacesForSites, placeArrays, type EnsemblePlaces, type Viewpoint } from '../ephemeris.js';
+import { observerGeometries, placeArrays, streamEnsemblePlacesForSites, type EnsemblePlaces, type Viewpoint } from '../ephemeris.js';
+import { PerturberTable } from '../perturbers.js';
 import { streamEnsemble, type PropagationOptions } from '../propagate.js';
 import { utcFromTt } from '../time.js';
 
@@ -55,20 +56,33 @@ export function batchedEnsemblePlacesForSites(
 
 function gatherBatches(states: readonly HeliocentricState[], viewpoints: readonly Viewpoint[], timesUtc: readonly Date[], windowDays: number, options: PropagationOptions): EnsemblePlaces[] {
   const n = states.length;
-  const size = n * timesUtc.length;
-  const outs = viewpoints.map(() => placeArrays(size));
+  const outs = viewpoints.map(() => placeArrays(n * timesUtc.length));
+  // Shared by every batch: the observer at each time and the perturbers' nodes.
+  const observers = observerGeometries(viewpoints, timesUtc);
+  const shared: PropagationOptions = { ...options, perturbers: options.perturbers ?? new PerturberTable(options.perturberNodeDays ?? 0.125) };
   for (const batch of encounterBatches(states, windowDays)) {
-    const perSite = ensemblePlacesForSites(batch.map((i) => states[i]!), viewpoints, timesUtc, options);
-    perSite.forEach((places, v) => {
-      const out = outs[v]!;
-      for (const key of Object.keys(out) as (keyof typeof out)[]) {
-        const from = places[key];
-        const to = out[key];
-        for (let k = 0; k < timesUtc.length; k++) {
-          for (let b = 0; b < batch.length; b++) to[k * n + batch[b]!] = from[k * batch.length + b]!;
+    streamEnsemblePlacesForSites(
+      batch.map((i) => states[i]!),
+      viewpoints,
+      timesUtc,
+      (k, v, p) => {
+        const out = outs[v]!;
+        const base = k * n;
+        for (let b = 0; b < batch.length; b++) {
+          const j = base + batch[b]!;
+          out.raDeg[j] = p.raDeg[b]!;
+          out.decDeg[j] = p.decDeg[b]!;
+          out.raRateArcsecPerS[j] = p.raRateArcsecPerS[b]!;
+          out.decRateArcsecPerS[j] = p.decRateArcsecPerS[b]!;
+          out.deltaAu[j] = p.deltaAu[b]!;
+          out.rAu[j] = p.rAu[b]!;
+          out.phaseDeg[j] = p.phaseDeg[b]!;
+          out.elongationDeg[j] = p.elongationDeg[b]!;
         }
-      }
-    });
+      },
+      shared,
+      observers,
+    );
   }
   return outs.map((out) => ({ timesUtc, memberCount: n, ...out }));
 }
@@ -84,6 +98,7 @@ export function batchedStream(
   sink: (timeIndex: number, member: number, position: Float64Array, velocity: Float64Array, offset: number) => void,
   options: PropagationOptions = {},
 ): void {
+  const shared: PropagationOptions = { ...options, perturbers: options.perturbers ?? new PerturberTable(options.perturberNodeDays ?? 0.125) };
   for (const batch of encounterBatches(states, windowDays)) {
     streamEnsemble(
       batch.map((i) => states[i]!),
@@ -91,7 +106,7 @@ export function batchedStream(
       (k, pos, vel) => {
         for (let b = 0; b < batch.length; b++) sink(k, batch[b]!, pos, vel, 3 * b);
       },
-      options,
+      shared,
     );
   }
 }

@@ -1,6 +1,6 @@
 import { Body, HelioState, MakeTime } from 'astronomy-engine';
 import type { GeodeticLocation } from '../../config/schema.js';
-import { absoluteMagnitudeFromObserved, apparentMagnitudeHG, DEFAULT_BAND_OFFSETS, diameterRangeM } from '../../photometry/magnitudes.js';
+import { absoluteMagnitudeFromObserved, apparentMagnitudesHG, DEFAULT_BAND_OFFSETS, diameterRangeM } from '../../photometry/magnitudes.js';
 import { ARCSEC_PER_RAD, GM_SUN_AU3_PER_DAY2, KM_PER_AU, RAD_PER_DEG } from '../constants.js';
 import { stateFromPerihelionElements, type HeliocentricState, type PerihelionElements } from '../elements.js';
 import { astrometricPlace, DEFAULT_SLOPE_G, ensemblePlaces, observerGeometry, rowsFromPlaces, type EnsemblePlaces, type EphemerisRow, type UncertaintyEllipse } from '../ephemeris.js';
@@ -517,21 +517,17 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
     const n = places.memberCount;
     const photometry = nominalH === null ? undefined : { hMag: nominalH, g: slopeG };
     const rows = rowsFromPlaces(places, 0, location, photometry);
+    const mags = new Float64Array(n);
     return rows.map((row, k) => {
       const spread = skySpread(row.ra, row.dec, places.raDeg, places.decDeg, k * n + 1, n - 1);
       let magSigma: number | null = null;
       if (memberH) {
-        const mags: number[] = [];
-        for (let m = 1; m < n; m++) {
-          const h = memberH[m - 1]!;
-          const j = k * n + m;
-          if (!Number.isFinite(h) || places.phaseDeg[j]! > 179.9) continue;
-          mags.push(apparentMagnitudeHG(h, slopeG, places.rAu[j]!, places.deltaAu[j]!, places.phaseDeg[j]!));
-        }
-        if (mags.length > 1) {
-          mags.sort((a, b) => a - b);
+        // Members 1..n-1 of the places are the virtual orbits, whose H are memberH[0..n-2]; NaN (no magnitude) sorts last.
+        const finite = apparentMagnitudesHG(memberH, slopeG, places.rAu, places.deltaAu, places.phaseDeg, k * n + 1, n - 1, mags);
+        if (finite > 1) {
+          const sorted = mags.subarray(0, n - 1).sort();
           // Robust sigma: half the 16-84 % range.
-          magSigma = (mags[Math.round(0.84 * (mags.length - 1))]! - mags[Math.round(0.16 * (mags.length - 1))]!) / 2;
+          magSigma = (sorted[Math.round(0.84 * (finite - 1))]! - sorted[Math.round(0.16 * (finite - 1))]!) / 2;
         }
       }
       return { ...row, unc: spread.sigma, magSigma, extent99: spread.extent99 };

@@ -54,11 +54,18 @@ function ellipseOf(a: number, b: number, c: number, scale: number): UncertaintyE
  */
 export function skySpread(nominalRaDeg: number, nominalDecDeg: number, raDeg: ArrayLike<number>, decDeg: ArrayLike<number>, offset: number, count: number): SkySpread {
   const frame = tangentFrame(unitFromRaDec(nominalRaDeg * RAD_PER_DEG, nominalDecDeg * RAD_PER_DEG));
+  const [ex, ey, ez] = frame.east, [nx, ny, nz] = frame.north, [cx, cy, cz] = frame.centre;
   const xs = new Float64Array(count), ys = new Float64Array(count);
   let sxx = 0, sxy = 0, syy = 0;
   for (let m = 0; m < count; m++) {
-    const p = project(frame, unitFromRaDec(raDeg[offset + m]! * RAD_PER_DEG, decDeg[offset + m]! * RAD_PER_DEG));
-    const x = p[0] * ARCSEC_PER_RAD, y = p[1] * ARCSEC_PER_RAD;
+    // project(frame, unitFromRaDec(...)) written out: this runs for every member at every ephemeris row.
+    const ra = raDeg[offset + m]! * RAD_PER_DEG, dec = decDeg[offset + m]! * RAD_PER_DEG;
+    const cosDec = Math.cos(dec);
+    const ux = cosDec * Math.cos(ra), uy = cosDec * Math.sin(ra), uz = Math.sin(dec);
+    const px = ux * ex + uy * ey + uz * ez, py = ux * nx + uy * ny + uz * nz, pz = ux * cx + uy * cy + uz * cz;
+    const sin = Math.sqrt(px * px + py * py);
+    const k = sin === 0 ? 0 : (Math.atan2(sin, pz) / sin) * ARCSEC_PER_RAD;
+    const x = px * k, y = py * k;
     xs[m] = x; ys[m] = y;
     sxx += x * x; sxy += x * y; syy += y * y;
   }
