@@ -54,6 +54,17 @@ export interface EstimateSummary {
   notes: string[];
 }
 
+/** How an ephemeris may save work where the caller can accept it. */
+export interface EphemerisOptions {
+  /**
+   * The ensemble's statistics (`unc`, `magSigma`) at every `spreadEvery`-th
+   * requested time and the last; rows in between take them by linear
+   * interpolation in time (the nominal position is computed at every time).
+   * Default 1: the ensemble at every time.
+   */
+  spreadEvery?: number;
+}
+
 /** An object's estimate: its summary and an ephemeris (nominal with uncertainty) for any viewpoint and times. */
 export interface ObjectEstimate {
   objectId: string;
@@ -61,9 +72,9 @@ export interface ObjectEstimate {
   firstObservedAt: string;
   summary: EstimateSummary;
   /** Nominal rows with `unc` (1-sigma ellipse, arcsec) and `magSigma` from the ensemble. */
-  ephemeris(location: GeodeticLocation, timesUtc: readonly Date[]): EphemerisRow[];
+  ephemeris(location: GeodeticLocation, timesUtc: readonly Date[], options?: EphemerisOptions): EphemerisRow[];
   /** The same for several sites at once (one row list per location, same order), when the estimate can share the work. */
-  ephemerisForSites?(locations: readonly GeodeticLocation[], timesUtc: readonly Date[]): EphemerisRow[][];
+  ephemerisForSites?(locations: readonly GeodeticLocation[], timesUtc: readonly Date[], options?: EphemerisOptions): EphemerisRow[][];
   /**
    * Where each virtual orbit is seen from `location` at `timeUtc` (astrometric ICRS, degrees),
    * for pictures of the uncertainty region; at most `maxMembers` of them. Absent when the

@@ -89,6 +89,8 @@ export function apparentMagnitudeHG(hMag: number, g: number, rAu: number, deltaA
   return hMag + 5 * Math.log10(rAu * deltaAu) + phaseTermHG(g, phaseDeg);
 }
 
+const LOG10_SCALE_2_5 = 2.5 / Math.LN10;
+
 /**
  * apparentMagnitudeHG for many members at once (the same formula and phase
  * functions, Bowell et al. 1989): out[m] = V, mag, of member m in [0, count)
@@ -117,9 +119,11 @@ export function apparentMagnitudesHG(
       out[m] = Number.NaN;
       continue;
     }
-    const tanHalf = Math.tan((phase * DEG) / 2);
-    const blend = (1 - g) * Math.exp(-3.33 * Math.pow(tanHalf, 0.63)) + g * Math.exp(-1.87 * Math.pow(tanHalf, 1.22));
-    const v = blend > 0 ? h + 5 * Math.log10(r * d) - 2.5 * Math.log10(blend) : Number.NaN;
+    // tan^B as exp(B ln tan), and one logarithm for distance and phase terms: V = H + 2.5 log10((r Delta)^2 / blend).
+    const logTan = Math.log(Math.tan((phase * DEG) / 2));
+    const blend = phase === 0 ? 1 : (1 - g) * Math.exp(-3.33 * Math.exp(0.63 * logTan)) + g * Math.exp(-1.87 * Math.exp(1.22 * logTan));
+    const rd = r * d;
+    const v = blend > 0 ? h + LOG10_SCALE_2_5 * Math.log((rd * rd) / blend) : Number.NaN;
     out[m] = v;
     if (Number.isFinite(v)) finite++;
   }

@@ -23,6 +23,16 @@ import { PlanningInputError } from './errors.js';
 
 /** Grid spacing of the planning track, minutes. */
 export const TRACK_STEP_MIN = 20;
+/**
+ * The ensemble's ellipse and magnitude spread are computed at every third
+ * track sample (hourly) and interpolated between, except where they change
+ * fast (the estimate then fills in those samples). Measured on 20 simulated
+ * objects, 36 h, two sites (`.. every 3` against every sample): major axis
+ * within 1.9 % at the 99th percentile (7.4 % worst), position angle of
+ * elongated ellipses within 1.3 deg, magnitude sigma within 0.002 mag, for
+ * about a quarter less planning time.
+ */
+export const TRACK_SPREAD_EVERY = 3;
 const DEG_PER_ARCSEC = 1 / 3600;
 const RAD = Math.PI / 180;
 
@@ -81,8 +91,9 @@ export function trackTimes(startMs: number, endMs: number, stepMin = TRACK_STEP_
  */
 export function trackRowsForSites(estimate: ObjectEstimate, locations: readonly GeodeticLocation[], startMs: number, endMs: number, stepMin = TRACK_STEP_MIN): EphemerisRow[][] {
   const times = trackTimes(startMs, endMs, stepMin);
-  if (estimate.ephemerisForSites && locations.length > 1) return estimate.ephemerisForSites(locations, times);
-  return locations.map((l) => estimate.ephemeris(l, times));
+  const options = { spreadEvery: TRACK_SPREAD_EVERY };
+  if (estimate.ephemerisForSites && locations.length > 1) return estimate.ephemerisForSites(locations, times, options);
+  return locations.map((l) => estimate.ephemeris(l, times, options));
 }
 
 export function buildTrack(

@@ -4,7 +4,7 @@ import { absoluteMagnitudeFromObserved, apparentMagnitudesHG, DEFAULT_BAND_OFFSE
 import { ARCSEC_PER_RAD, GM_SUN_AU3_PER_DAY2, KM_PER_AU, RAD_PER_DEG } from '../constants.js';
 import { stateFromPerihelionElements, type HeliocentricState, type PerihelionElements } from '../elements.js';
 import { astrometricPlace, DEFAULT_SLOPE_G, ensemblePlaces, observerGeometry, rowsFromPlaces, type EnsemblePlaces, type EphemerisRow, type UncertaintyEllipse } from '../ephemeris.js';
-import type { EstimateSummary, ObjectEstimate, Percentiles, ResidualRow, TrackletObservation } from '../estimate-types.js';
+import type { EphemerisOptions, EstimateSummary, ObjectEstimate, Percentiles, ResidualRow, TrackletObservation } from '../estimate-types.js';
 import { streamEnsemble } from '../propagate.js';
 import { ttFromTtIso, ttFromUtc, utcFromTt } from '../time.js';
 import { batchedEnsemblePlaces, batchedEnsemblePlacesForSites, batchedStream } from './batches.js';
@@ -58,7 +58,8 @@ export interface ShortArcEstimate extends ObjectEstimate {
   readonly memberH: Float64Array | null;
   readonly attributable: Attributable | null;
   readonly ranging: { passes: number; evaluatedNodes: number; minChiSquare: number } | null;
-  ephemeris(location: GeodeticLocation, timesUtc: readonly Date[]): EstimatedEphemerisRow[];
+  ephemeris(location: GeodeticLocation, timesUtc: readonly Date[], options?: EphemerisOptions): EstimatedEphemerisRow[];
+  ephemerisForSites(locations: readonly GeodeticLocation[], timesUtc: readonly Date[], options?: EphemerisOptions): EstimatedEphemerisRow[][];
 }
 
 export const DEFAULT_MEMBERS = 1000;
@@ -357,6 +358,60 @@ function offsetOf(raDeg: number, decDeg: number, o: PreparedObservation): [numbe
   return [p[0] * ARCSEC_PER_RAD, p[1] * ARCSEC_PER_RAD];
 }
 
+function checkSpreadEvery(value: number | undefined): number {
+  const every = value ?? 1;
+  if (!Number.isInteger(every) || every < 1) throw new EstimationInputError('spreadEvery', value, 'expected a whole number of rows of at least 1');
+  return every;
+}
+
+/** Relative change of an axis, and change of position angle for an elongated ellipse, beyond which interpolating between coarse rows is not trusted. */
+const SPREAD_AXIS_CHANGE = 0.5;
+const SPREAD_PA_CHANGE_DEG = 10;
+
+function spreadChangesFast(a: UncertaintyEllipse | null, b: UncertaintyEllipse | null): boolean {
+  if (a === null || b === null) return a !== b;
+  const rel = (x: number, y: number) => Math.abs(x - y) / Math.max(Math.min(x, y), 1e-9);
+  if (rel(a.major, b.major) > SPREAD_AXIS_CHANGE || rel(a.minor, b.minor) > SPREAD_AXIS_CHANGE) return true;
+  let dPa = Math.abs(a.pa - b.pa);
+  dPa = Math.min(dPa, 180 - dPa);
+  return a.major > 1.5 * a.minor && dPa > SPREAD_PA_CHANGE_DEG;
+}
+
+/** 0, every, 2 every, ... and the last index of `count` times. */
+function sparseIndices(count: number, every: number): number[] {
+  const out: number[] = [];
+  for (let i = 0; i < count - 1; i += every) out.push(i);
+  out.push(count - 1);
+  return out;
+}
+
+/**
+ * The ensemble statistics at row k from the sparse rows around it: linear in the
+ * row's position between them (times are the caller's, usually evenly spaced);
+ * the ellipse's axes and position angle (taken the short way round 180 deg)
+ * interpolated separately, magSigma likewise; null where either side has none.
+ */
+function spreadAt(sparse: readonly EstimatedEphemerisRow[], index: readonly number[], k: number): Pick<EstimatedEphemerisRow, 'unc' | 'magSigma' | 'extent99'> {
+  let s = 0;
+  while (s < index.length - 2 && index[s + 1]! <= k) s++;
+  const a = sparse[s]!, b = sparse[s + 1] ?? a;
+  const i0 = index[s]!, i1 = index[s + 1] ?? i0;
+  const f = i1 > i0 ? Math.min(1, Math.max(0, (k - i0) / (i1 - i0))) : 0;
+  const lin = (x: number, y: number) => x + (y - x) * f;
+  const ellipse = (x: UncertaintyEllipse | null, y: UncertaintyEllipse | null): UncertaintyEllipse | null => {
+    if (x === null || y === null) return f < 0.5 ? x : y;
+    let pb = y.pa;
+    if (pb - x.pa > 90) pb -= 180;
+    else if (x.pa - pb > 90) pb += 180;
+    return { major: lin(x.major, y.major), minor: lin(x.minor, y.minor), pa: ((lin(x.pa, pb) % 180) + 180) % 180 };
+  };
+  return {
+    unc: ellipse(a.unc, b.unc),
+    extent99: ellipse(a.extent99, b.extent99),
+    magSigma: a.magSigma === null || b.magSigma === null ? (f < 0.5 ? a.magSigma : b.magSigma) : lin(a.magSigma, b.magSigma),
+  };
+}
+
 /**
  * Estimates an object from its notice: the attributable fit, systematic
  * ranging into `members` virtual orbits (or, with an orbit block, an ensemble
@@ -533,11 +588,34 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
       return { ...row, unc: spread.sigma, magSigma, extent99: spread.extent99 };
     });
   };
-  const ephemeris = (location: GeodeticLocation, timesUtc: readonly Date[]): EstimatedEphemerisRow[] =>
-    rowsFrom(batchedEnsemblePlaces(allStates, location, timesUtc, spanOf(timesUtc)), location);
-  /** The same rows for several sites from one propagation of the ensemble. */
-  const ephemerisForSites = (locations: readonly GeodeticLocation[], timesUtc: readonly Date[]): EstimatedEphemerisRow[][] =>
-    batchedEnsemblePlacesForSites(allStates, locations, timesUtc, spanOf(timesUtc)).map((places, i) => rowsFrom(places, locations[i]!));
+  /** Rows for several sites from one propagation of the ensemble; with `spreadEvery` > 1 the ensemble only at every that many times (EphemerisOptions). */
+  const ephemerisForSites = (locations: readonly GeodeticLocation[], timesUtc: readonly Date[], options: EphemerisOptions = {}): EstimatedEphemerisRow[][] => {
+    const every = checkSpreadEvery(options.spreadEvery);
+    const full = (times: readonly Date[]) => batchedEnsemblePlacesForSites(allStates, locations, times, spanOf(times)).map((places, i) => rowsFrom(places, locations[i]!));
+    if (every === 1 || timesUtc.length <= 2) return full(timesUtc);
+    const coarse = sparseIndices(timesUtc.length, every);
+    const coarseRows = full(coarse.map((i) => timesUtc[i]!));
+    // Where the ellipse changes fast between coarse rows, the rows in between get the ensemble too.
+    const refine: number[] = [];
+    for (let s = 0; s + 1 < coarse.length; s++) {
+      if (coarseRows.some((rows) => spreadChangesFast(rows[s]!.unc, rows[s + 1]!.unc))) for (let i = coarse[s]! + 1; i < coarse[s + 1]!; i++) refine.push(i);
+    }
+    const refinedRows = refine.length > 0 ? full(refine.map((i) => timesUtc[i]!)) : locations.map(() => []);
+    const index = [...coarse, ...refine].sort((a, b) => a - b);
+    const position = new Map(index.map((i, p) => [i, p]));
+    const merged = locations.map((_, site) => {
+      const out: EstimatedEphemerisRow[] = new Array(index.length);
+      coarse.forEach((i, p) => (out[position.get(i)!] = coarseRows[site]![p]!));
+      refine.forEach((i, p) => (out[position.get(i)!] = refinedRows[site]![p]!));
+      return out;
+    });
+    const photometry = nominalH === null ? undefined : { hMag: nominalH, g: slopeG };
+    return batchedEnsemblePlacesForSites([nominal], locations, timesUtc, spanOf(timesUtc)).map((places, site) =>
+      rowsFromPlaces(places, 0, locations[site]!, photometry).map((row, k) => ({ ...row, ...spreadAt(merged[site]!, index, k) })),
+    );
+  };
+  const ephemeris = (location: GeodeticLocation, timesUtc: readonly Date[], options: EphemerisOptions = {}): EstimatedEphemerisRow[] =>
+    ephemerisForSites([location], timesUtc, options)[0]!;
 
   /** Where the virtual orbits are seen from `location` at `timeUtc` (astrometric ICRS, deg): an evenly spaced subset of at most `maxMembers`. */
   const memberPositions = (location: GeodeticLocation, timeUtc: Date, maxMembers = 500): { raDeg: number; decDeg: number }[] => {

@@ -30,4 +30,41 @@ describe('ephemeris for several sites at once', () => {
       });
     });
   });
+
+  it('with the ensemble at every third row only, keeps the nominal to 1 mas and the ellipse within 10 % of every-row values', () => {
+    const now = new Date('2027-03-04T06:00:00Z');
+    const [sim] = simulateNight({ now, count: 1, seed: 4 });
+    const n = sim!.notice as { objectId: string; observer: { lat: number; lon: number; height: number }; observations: { t: string; ra: number; dec: number; sigma: number }[] };
+    const estimate = estimateObject({
+      objectId: n.objectId,
+      observations: n.observations.map((o) => ({ t: o.t, raDeg: o.ra, decDeg: o.dec, sigmaArcsec: o.sigma, mag: null, band: null, observer: { latDeg: n.observer.lat, lonDeg: n.observer.lon, heightM: n.observer.height } })),
+      now,
+      members: 200,
+      seed: 5,
+    });
+    const sites = [{ latDeg: 34.21, lonDeg: -107.62, heightM: 2310 }];
+    const times = Array.from({ length: 37 }, (_, k) => new Date(now.getTime() + k * 20 * 60_000));
+    const every = estimate.ephemerisForSites(sites, times)[0]!;
+    const sparse = estimate.ephemerisForSites(sites, times, { spreadEvery: 3 })[0]!;
+    every.forEach((row, k) => {
+      const other = sparse[k]!;
+      expect(Math.hypot((other.ra - row.ra) * Math.cos((row.dec * Math.PI) / 180), other.dec - row.dec) * 3.6e6).toBeLessThan(1);
+      expect(Math.abs(other.unc!.major / row.unc!.major - 1)).toBeLessThan(0.1);
+      if (k % 3 === 0) expect(other.unc!.major).toBeCloseTo(row.unc!.major, 6);
+    });
+  });
+
+  it('refuses a spread cadence that is not a whole number of at least 1', () => {
+    const now = new Date('2027-03-04T06:00:00Z');
+    const [sim] = simulateNight({ now, count: 1, seed: 4 });
+    const n = sim!.notice as { objectId: string; observer: { lat: number; lon: number; height: number }; observations: { t: string; ra: number; dec: number; sigma: number }[] };
+    const estimate = estimateObject({
+      objectId: n.objectId,
+      observations: n.observations.map((o) => ({ t: o.t, raDeg: o.ra, decDeg: o.dec, sigmaArcsec: o.sigma, mag: null, band: null, observer: { latDeg: n.observer.lat, lonDeg: n.observer.lon, heightM: n.observer.height } })),
+      now,
+      members: 50,
+      seed: 5,
+    });
+    expect(() => estimate.ephemeris({ latDeg: 34.21, lonDeg: -107.62, heightM: 2310 }, [now, new Date(now.getTime() + 3600_000), new Date(now.getTime() + 7200_000)], { spreadEvery: 0.5 })).toThrow(/spreadEvery.*whole number/);
+  });
 });

@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { createRandom, ellipseDistanceSquared, GAUSSIAN_3SIGMA_CONTENT_2D, skySpread } from '../../../src/orbit/estimation/index.js';
+import { offsetArcsec } from '../../../src/orbit/estimation/sky-spread.js';
 
 const RA0 = 150, DEC0 = 20;
 const COS = Math.cos((DEC0 * Math.PI) / 180);
@@ -41,6 +42,24 @@ describe('sky-plane spread of virtual orbits', () => {
     const spread = skySpread(RA0, DEC0, ra, dec, 0, offsets.length);
     const inside = offsets.filter(([e, n]) => ellipseDistanceSquared(spread.sigma, e, n) <= 9 * (1 + 1e-9)).length / offsets.length;
     expect(inside).toBeGreaterThanOrEqual(GAUSSIAN_3SIGMA_CONTENT_2D - 0.001);
+  });
+
+  it('sizes the ellipse from the same member quantile a full sort gives, for clouds of 10 to 3000 members', () => {
+    const random = createRandom(9);
+    for (const n of [10, 11, 89, 90, 91, 1000, 1001, 3000]) {
+      const offsets: [number, number][] = Array.from({ length: n }, () => [40 * random.normal() + 5 * random.normal() ** 3, 8 * random.normal()]);
+      const { ra, dec } = cloud(offsets);
+      const spread = skySpread(RA0, DEC0, ra, dec, 0, n);
+      // Reference: the members' offsets on the same plane, squared Mahalanobis distances fully sorted, linear interpolation.
+      const projected = offsets.map((_, m) => offsetArcsec(RA0, DEC0, ra[m]!, dec[m]!));
+      let sxx = 0, sxy = 0, syy = 0;
+      for (const [x, y] of projected) (sxx += x * x), (sxy += x * y), (syy += y * y);
+      sxx = sxx / n + 1e-6; syy = syy / n + 1e-6; sxy /= n;
+      const det = sxx * syy - sxy * sxy;
+      const d2 = projected.map(([x, y]) => (syy * x * x - 2 * sxy * x * y + sxx * y * y) / det).sort((a, b) => a - b);
+      const at = (p: number) => { const x = p * (n - 1), i = Math.floor(x); return d2[i]! + (i + 1 < n ? (x - i) * (d2[i + 1]! - d2[i]!) : 0); };
+      expect(spread.coverageScale).toBeCloseTo(at(GAUSSIAN_3SIGMA_CONTENT_2D) / 9, 9);
+    }
   });
 
   it('measures the position angle east of north: a cloud along +RA has pa 90, along +Dec pa 0', () => {
