@@ -1,10 +1,10 @@
-import { Body, HelioState, MakeTime } from 'astronomy-engine';
 import type { GeodeticLocation } from '../../config/schema.js';
 import { absoluteMagnitudeFromObserved, apparentMagnitudesHG, DEFAULT_BAND_OFFSETS, diameterRangeM } from '../../photometry/magnitudes.js';
 import { ARCSEC_PER_RAD, GM_SUN_AU3_PER_DAY2, KM_PER_AU, RAD_PER_DEG } from '../constants.js';
 import { stateFromPerihelionElements, type HeliocentricState, type PerihelionElements } from '../elements.js';
 import { astrometricPlace, DEFAULT_SLOPE_G, ensemblePlaces, observerGeometry, rowsFromPlaces, type EnsemblePlaces, type EphemerisRow, type UncertaintyEllipse } from '../ephemeris.js';
 import type { EphemerisOptions, EstimateSummary, ObjectEstimate, Percentiles, ResidualRow, TrackletObservation } from '../estimate-types.js';
+import { EARTH_INDEX, PERTURBING_BODIES, PerturberTable } from '../perturbers.js';
 import { streamEnsemble } from '../propagate.js';
 import { ttFromTtIso, ttFromUtc, utcFromTt } from '../time.js';
 import { batchedEnsemblePlaces, batchedEnsemblePlacesForSites, batchedStream } from './batches.js';
@@ -175,7 +175,14 @@ function minimumGeocentricDistances(states: readonly HeliocentricState[], startT
   const times = Array.from({ length: sampleCount }, (_, k) => startTt + (k * days) / (sampleCount - 1));
   const half = days / (sampleCount - 1) / 2;
   const best = new Float64Array(n).fill(Infinity);
-  const earthAt = times.map((tt) => HelioState(Body.Earth, MakeTime(utcFromTt(tt))));
+  // The Earth's state at each sample from the propagation's own perturber table (Hermite between its nodes, ~1e-12 au).
+  const perturbers = new PerturberTable();
+  const bodyPos = new Float64Array(3 * PERTURBING_BODIES.length), bodyVel = new Float64Array(3 * PERTURBING_BODIES.length);
+  const earthAt = times.map((tt) => {
+    perturbers.statesAt(tt, bodyPos, bodyVel);
+    const e = 3 * EARTH_INDEX;
+    return { x: bodyPos[e]!, y: bodyPos[e + 1]!, z: bodyPos[e + 2]!, vx: bodyVel[e]!, vy: bodyVel[e + 1]!, vz: bodyVel[e + 2]! };
+  });
   batchedStream(
     states,
     times,
@@ -193,7 +200,7 @@ function minimumGeocentricDistances(states: readonly HeliocentricState[], startT
       const d = Math.hypot(dx + s * wx, dy + s * wy, dz + s * wz);
       if (d < best[j]!) best[j] = d;
     },
-    { stepFraction: APPROACH_STEP_FRACTION },
+    { stepFraction: APPROACH_STEP_FRACTION, perturbers },
   );
   return best;
 }
