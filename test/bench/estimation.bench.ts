@@ -1,21 +1,32 @@
 /**
  * Short-arc estimation benchmark and calibration.
- * Run: npx tsx test/bench/estimation.bench.ts [speed|calibration|priors|all] [cases per kind]   (default all, 30)
+ * Run: npx tsx test/bench/estimation.bench.ts [speed|calibration|priors|all] [cases per kind] [prior]   (default all, 30, the default prior)
  * Prints:
  *   speed        - time per notice (4 observations, 1000 virtual orbits, ephemeris at +1..+48 h
  *                  hourly from another site), split into fit+ranging, summary and ephemeris; heap growth.
  *   calibration  - per horizon (+1, +3, +6, +12, +24, +48 h) over the generator's cases: median and
  *                  90th-percentile error of the nominal, median error of linear extrapolation,
  *                  fraction of truths inside the 3-sigma ellipse, median 1-sigma major axis and its
- *                  ratio to the median error; for all cases and per kind.
- *   priors       - the same bar for range priors rho^k, k = -1 (flat in log range), -0.5, 0 (flat in range), 0.5.
+ *                  ratio to the median error; for all cases and per kind; the truths' range inside the
+ *                  reported 5-95 % interval. [prior]: 'population', 'powerLaw' or a number k (rho^k).
+ *   priors       - the same bar for range priors rho^k, k = -1 (flat in log range), -0.5, 0 (flat in range), 0.5,
+ *                  and the population prior, with a one-line summary of each.
  * Cases come from src/orbit/estimation/synthetic.ts (invented sites, independent RK4 truth).
  */
 import { estimateObject } from '../../src/orbit/estimation/index.js';
-import { evaluateCase, FOLLOW_UP_SITE, generateCase, generateCases, type CalibrationCase, type HorizonResult } from '../../src/orbit/estimation/synthetic.js';
+import type { RangingOptions } from '../../src/orbit/estimation/ranging.js';
+import { evaluateCaseWithRange, FOLLOW_UP_SITE, generateCase, generateCases, type CalibrationCase, type HorizonResult } from '../../src/orbit/estimation/synthetic.js';
 
 const mode = process.argv[2] ?? 'all';
 const perKind = Number(process.argv[3] ?? 30);
+const priorArg = process.argv[4];
+const rangingOf = (arg: string | undefined): RangingOptions => {
+  if (arg === undefined) return {};
+  if (arg === 'population' || arg === 'powerLaw') return { rangePrior: arg };
+  const k = Number(arg);
+  if (!Number.isFinite(k)) throw new Error(`prior = ${arg}: expected 'population', 'powerLaw' or a number k`);
+  return { rangePrior: 'powerLaw', rangePriorExponent: k };
+};
 
 const quantile = (values: number[], p: number): number => {
   const s = [...values].sort((a, b) => a - b);
@@ -49,13 +60,14 @@ function cases(): CalibrationCase[] {
   return all;
 }
 
-function calibration(all: CalibrationCase[], ranging: { rangePriorExponent?: number } = {}, label = 'all cases'): void {
-  const results: { c: CalibrationCase; r: HorizonResult[] }[] = [];
+function calibration(all: CalibrationCase[], ranging: RangingOptions = {}, label = 'all cases'): void {
+  const results: { c: CalibrationCase; r: HorizonResult[]; range: { p5: number; p50: number; p95: number } }[] = [];
   const t0 = performance.now();
   const perCase: number[] = [];
   for (const c of all) {
     const tc = performance.now();
-    results.push({ c, r: evaluateCase(c, { members: 1000, seed: 1, ranging }) });
+    const evaluated = evaluateCaseWithRange(c, { members: 1000, seed: 1, ranging });
+    results.push({ c, r: evaluated.horizons, range: evaluated.rangeAu });
     perCase.push(performance.now() - tc);
   }
   console.log(`estimated ${all.length} cases in ${((performance.now() - t0) / 1000).toFixed(1)} s: per case (estimate + 6-row ephemeris) median ${quantile(perCase, 0.5).toFixed(0)} ms, p90 ${quantile(perCase, 0.9).toFixed(0)} ms, max ${Math.max(...perCase).toFixed(0)} ms`);
@@ -64,6 +76,25 @@ function calibration(all: CalibrationCase[], ranging: { rangePriorExponent?: num
   table(`${label}: ordinary`, results.filter((x) => x.c.kind === 'ordinary').map((x) => x.r));
   const misses = results.flatMap((x) => x.r.filter((h) => h.sigmaDistance > 3).map((h) => `${x.c.id}@+${h.hours}h d=${h.sigmaDistance.toFixed(1)}`));
   if (misses.length) console.log(`outside 3 sigma: ${misses.join(', ')}`);
+  const rangeLine = (kind: string): string => {
+    const rows = results.filter((x) => x.c.kind === kind);
+    const inside = rows.filter((x) => x.range.p5 <= x.c.meanEpochRangeAu && x.c.meanEpochRangeAu <= x.range.p95).length;
+    const offset = quantile(rows.map((x) => Math.abs(x.range.p50 / x.c.meanEpochRangeAu - 1)), 0.5);
+    return `${kind} ${inside}/${rows.length} inside 5-95 %, median |p50/truth - 1| ${offset.toFixed(2)}`;
+  };
+  console.log(`range at the mean epoch: ${rangeLine('close')}; ${rangeLine('ordinary')}`);
+  // One line for the prior comparison: +24 h pooled, ordinary per horizon.
+  const at = (kind: string | null, hours: number) => results.filter((x) => kind === null || x.c.kind === kind).map((x) => x.r.find((h) => h.hours === hours)!);
+  const ratio = (rows: HorizonResult[]) => quantile(rows.map((r) => r.majorArcsec), 0.5) / quantile(rows.map((r) => r.nominalErrorArcsec), 0.5);
+  const inside3 = (rows: HorizonResult[]) => (100 * rows.filter((r) => r.sigmaDistance <= 3).length) / rows.length;
+  const h24 = at(null, 24);
+  const minInside = Math.min(...['close', 'ordinary'].flatMap((kind) => [1, 3, 6, 12, 24, 48].map((h) => inside3(at(kind, h)))));
+  console.log(
+    `summary ${label}: +24 h median ${quantile(h24.map((r) => r.nominalErrorArcsec), 0.5).toFixed(0)}" (linear ${quantile(h24.map((r) => r.linearErrorArcsec), 0.5).toFixed(0)}"), inside 3 sigma ${inside3(h24).toFixed(1)} %, major/error ${ratio(h24).toFixed(2)}, +48 h major/error ${ratio(at(null, 48)).toFixed(2)}; ` +
+      `lowest inside 3 sigma per kind and horizon ${minInside.toFixed(1)} %; ` +
+      `close +24 h median ${quantile(at('close', 24).map((r) => r.nominalErrorArcsec), 0.5).toFixed(0)}" (linear ${quantile(at('close', 24).map((r) => r.linearErrorArcsec), 0.5).toFixed(0)}"), major/error by horizon ${[1, 3, 6, 12, 24, 48].map((h) => ratio(at('close', h)).toFixed(2)).join(' ')}; ` +
+      `ordinary +24 h median ${quantile(at('ordinary', 24).map((r) => r.nominalErrorArcsec), 0.5).toFixed(1)}" (linear ${quantile(at('ordinary', 24).map((r) => r.linearErrorArcsec), 0.5).toFixed(1)}"), major/error by horizon ${[1, 3, 6, 12, 24, 48].map((h) => ratio(at('ordinary', h)).toFixed(2)).join(' ')}`,
+  );
 }
 
 function speed(): void {
@@ -103,6 +134,9 @@ function speed(): void {
 if (mode === 'speed' || mode === 'all') speed();
 if (mode === 'calibration' || mode === 'all' || mode === 'priors') {
   const all = cases();
-  if (mode !== 'priors') calibration(all);
-  if (mode === 'priors') for (const k of [-1, -0.5, 0, 0.5]) calibration(all, { rangePriorExponent: k }, `prior rho^${k}`);
+  if (mode !== 'priors') calibration(all, rangingOf(priorArg), priorArg === undefined ? 'all cases' : `all cases, prior ${priorArg}`);
+  if (mode === 'priors') {
+    for (const k of [-1, -0.5, 0, 0.5]) calibration(all, { rangePrior: 'powerLaw', rangePriorExponent: k }, `prior rho^${k}`);
+    calibration(all, { rangePrior: 'population' }, 'prior population');
+  }
 }

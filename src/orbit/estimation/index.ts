@@ -5,7 +5,24 @@
 export { estimateObject, orbitClass, DEFAULT_MEMBERS, CLOSE_APPROACH_AU, CLOSE_APPROACH_WINDOW_DAYS, LUNAR_DISTANCE_KM, ALBEDO_RANGE, ORBIT_BLOCK_DEFAULT_SIGMA } from './estimate.js';
 export type { EstimateInput, EstimatedEphemerisRow, NoticeOrbitBlock, ShortArcEstimate } from './estimate.js';
 export { fitAttributable, extrapolateAttributable, OUTLIER_CHI2_2DOF, type Attributable } from './attributable.js';
-export { systematicRanging, drawVirtualOrbits, RANGE_MIN_AU, RANGE_MAX_AU, DEFAULT_RANGE_PRIOR_EXPONENT, type RangingOptions, type RangingResult, type VirtualOrbit } from './ranging.js';
+export { systematicRanging, drawVirtualOrbits, RANGE_MIN_AU, RANGE_MAX_AU, DEFAULT_RANGE_PRIOR, DEFAULT_RANGE_PRIOR_EXPONENT, POPULATION_PRIOR_MIN_POSITIONS, type RangePriorKind, type RangingOptions, type RangingResult, type VirtualOrbit } from './ranging.js';
+export {
+  populationLogPrior,
+  populationDensity,
+  phaseSpaceDensity,
+  elementDensity,
+  semiMajorAxisEccentricityDensity,
+  inclinationDensity,
+  delaunayJacobian,
+  priorElementsFromState,
+  meanTrackletV,
+  POPULATION_WEIGHTS,
+  POPULATION_H_SLOPES,
+  POPULATION_H_REFERENCE,
+  DEFAULT_TRACKLET_V,
+  type PopulationComponentName,
+  type PriorElements,
+} from './population-prior.js';
 export { prepareObservations, type PreparedObservation } from './observations.js';
 export { skySpread, ellipseDistanceSquared, offsetArcsec, GAUSSIAN_3SIGMA_CONTENT_2D, type SkySpread } from './sky-spread.js';
 export { createRandom, type RandomSource } from './random.js';

@@ -6,9 +6,10 @@ import { streamEnsemble } from '../propagate.js';
 import { ttFromUtc } from '../time.js';
 import type { Attributable } from './attributable.js';
 import { OrbitConvergenceError } from '../errors.js';
-import { EstimationFailedError } from './errors.js';
+import { EstimationFailedError, EstimationInputError } from './errors.js';
 import { cholesky, invert } from './linalg.js';
 import type { PreparedObservation } from './observations.js';
+import { meanTrackletV, populationLogPrior } from './population-prior.js';
 import type { RandomSource } from './random.js';
 import { project, unitFromRaDec, unproject, type Vec3 } from './tangent.js';
 
@@ -29,9 +30,13 @@ import { project, unitFromRaDec, unproject, type Vec3 } from './tangent.js';
  * matrix (exact for the direction offsets, accurate to the arc's curvature for
  * the rates), three evaluations per node. Likelihood exp(-chi^2/2).
  *
- * Prior (documented in docs/accuracy.md): density in (rho, rhoDot) proportional
- * to rho^k, flat in range-rate inside the admissible region; k =
- * DEFAULT_RANGE_PRIOR_EXPONENT (0.5) unless given. Grid refinement: while the posterior weight is
+ * Prior (documented in docs/accuracy.md), one of two: 'population', the
+ * phase-space density of a parametric small-body population times rho^4
+ * (population-prior.ts); or 'powerLaw', density proportional to rho^k, flat
+ * in range-rate inside the admissible region, k = DEFAULT_RANGE_PRIOR_EXPONENT
+ * (0.5) unless given. DEFAULT_RANGE_PRIOR chooses when the options do not
+ * (the power law for a two-position tracklet).
+ * Grid refinement: while the posterior weight is
  * concentrated (99.9 % inside less than half the current span of log range,
  * or fewer than 40 nodes effectively carrying it), a new grid covers that
  * span of log range (each row again over its whole admissible range-rate
@@ -50,13 +55,31 @@ import { project, unitFromRaDec, unproject, type Vec3 } from './tangent.js';
  */
 export const DEFAULT_RANGE_PRIOR_EXPONENT = 0.5;
 
+/** The range priors ranging offers: a population model ('population') or rho^k ('powerLaw'). */
+export type RangePriorKind = 'population' | 'powerLaw';
+
+/**
+ * Prior used when the options name none (and give no exponent): chosen by
+ * measurement, docs/accuracy.md. Exception: a tracklet of two used positions
+ * gets 'powerLaw' by default. Its four angles are then fitted exactly and
+ * (rho, rhoDot) are not measured at all, so the posterior is the prior, and
+ * the population model (from published shapes, from memory) would decide
+ * alone; measured, it put a generator close approacher at 0.013 au outside
+ * 5 sigma at +1 h, where rho^0.5 keeps it inside (docs/accuracy.md).
+ */
+export const DEFAULT_RANGE_PRIOR: RangePriorKind = 'population';
+/** Fewest used positions for DEFAULT_RANGE_PRIOR to apply when the options name no prior. */
+export const POPULATION_PRIOR_MIN_POSITIONS = 3;
+
 /** Smallest range on the grid, au (45 000 km, about a ninth of the Moon's distance). */
 export const RANGE_MIN_AU = 3e-4;
 /** Largest range on the grid, au (beyond the outer main belt seen from the Earth). */
 export const RANGE_MAX_AU = 6;
 
 export interface RangingOptions {
-  /** Exponent k of the range prior rho^k; default DEFAULT_RANGE_PRIOR_EXPONENT (0.5). */
+  /** Which range prior; default DEFAULT_RANGE_PRIOR (with POPULATION_PRIOR_MIN_POSITIONS used positions, else 'powerLaw'), or 'powerLaw' when only rangePriorExponent is given. */
+  readonly rangePrior?: RangePriorKind;
+  /** Exponent k of the power-law range prior rho^k; default DEFAULT_RANGE_PRIOR_EXPONENT (0.5). */
   readonly rangePriorExponent?: number;
   readonly rangeNodes?: number;
   readonly rateNodes?: number;
@@ -111,6 +134,8 @@ interface Context {
   readonly epochTt: number;
   /** 2 x 2 inverse normal matrix of the linear model (same for both axes). */
   readonly normalInverse: readonly [number, number, number];
+  /** Mean V of the used positions (null when none has a usable magnitude), for the population prior. */
+  readonly meanV: number | null;
 }
 
 const dot = (a: Vec3, b: Vec3): number => a[0] * b[0] + a[1] * b[1] + a[2] * b[2];
@@ -138,6 +163,7 @@ function makeContext(observations: readonly PreparedObservation[], attributable:
     earth: { r: [earthState.x, earthState.y, earthState.z], v: [earthState.vx, earthState.vy, earthState.vz] },
     epochTt: ttFromUtc(epochDate),
     normalInverse: [c[0]![0]!, c[0]![2]!, c[2]![2]!],
+    meanV: meanTrackletV(used),
   };
 }
 
@@ -315,7 +341,9 @@ interface Box {
 /** Runs the ranging passes for a tracklet whose attributable is given. */
 export function systematicRanging(observations: readonly PreparedObservation[], attributable: Attributable, options: RangingOptions = {}): RangingResult {
   const ctx = makeContext(observations, attributable);
+  const prior = rangePriorOf(options, ctx.observations.length);
   const k = options.rangePriorExponent ?? DEFAULT_RANGE_PRIOR_EXPONENT;
+  if (!Number.isFinite(k)) throw new EstimationInputError('ranging.rangePriorExponent', k, 'expected a finite exponent k of the range prior rho^k');
   const rangeNodes = options.rangeNodes ?? 36;
   const rateNodes = options.rateNodes ?? 10;
   const maxPasses = options.passes ?? 5;
@@ -357,6 +385,12 @@ export function systematicRanging(observations: readonly PreparedObservation[], 
       fitted = profiled.fitted;
     }
     const passMin = Math.min(...fitted.chiSquare);
+    // Log weight: likelihood x the prior's integral over the node's cell (density per d(rho) d(rhoDot), rho d(ln rho) d(rhoDot)).
+    const logWeights = grid.map((g, j) => {
+      const logCell = prior === 'population' ? populationLogCell(ctx, fitted.params[j]!, g) : (k + 1) * Math.log(g.rho) + Math.log(g.logWidth * g.rateWidth);
+      return -(fitted.chiSquare[j]! - passMin) / 2 + logCell;
+    });
+    const maxLog = Math.max(...logWeights.filter((w) => !Number.isNaN(w)));
     const candidate: RangingNode[] = grid.map((g, j) => ({
       rangeAu: g.rho,
       rangeRateAuPerDay: g.rate,
@@ -364,8 +398,7 @@ export function systematicRanging(observations: readonly PreparedObservation[], 
       rateWidth: g.rateWidth,
       params: fitted.params[j]!,
       chiSquare: fitted.chiSquare[j]!,
-      // Density rho^k per d(rho) is rho^(k+1) per d(ln rho).
-      weight: Math.exp(-(fitted.chiSquare[j]! - passMin) / 2) * Math.pow(g.rho, k + 1) * g.logWidth * g.rateWidth,
+      weight: Number.isFinite(maxLog) && Number.isFinite(logWeights[j]!) ? Math.exp(logWeights[j]! - maxLog) : 0,
     }));
     const total = candidate.reduce((s, n) => s + n.weight, 0);
     if (!(total > 0) || !Number.isFinite(total)) {
@@ -392,6 +425,39 @@ export function systematicRanging(observations: readonly PreparedObservation[], 
     evaluatedNodes: evaluated,
     stateOf: (params, rho, rate) => stateOf(ctx, params, rho, rate),
   };
+}
+
+/** Sub-points per axis at which the population prior is averaged over a node's cell. */
+const PRIOR_CELL_POINTS = 3;
+
+/**
+ * ln of the population prior's integral over a node's cell: the mean of
+ * rho x prior density at PRIOR_CELL_POINTS^2 midpoints of the cell in
+ * (ln rho, rhoDot) (the node's fitted angles at each), times the cell's
+ * widths. The population density can change by orders of magnitude across
+ * one range-rate cell (its width is a tenth of the admissible interval), so
+ * its value at the centre alone would misweight the cell.
+ */
+function populationLogCell(ctx: Context, params: readonly number[], g: GridNode): number {
+  const logs: number[] = [];
+  for (let a = 0; a < PRIOR_CELL_POINTS; a++) {
+    const rho = g.rho * Math.exp(((a + 0.5) / PRIOR_CELL_POINTS - 0.5) * g.logWidth);
+    for (let b = 0; b < PRIOR_CELL_POINTS; b++) {
+      const rate = g.rate + ((b + 0.5) / PRIOR_CELL_POINTS - 0.5) * g.rateWidth;
+      logs.push(populationLogPrior(stateOf(ctx, params, rho, rate), ctx.reference.position, rho, ctx.meanV) + Math.log(rho));
+    }
+  }
+  const top = Math.max(...logs);
+  if (!Number.isFinite(top)) return -Infinity;
+  const mean = logs.reduce((sum, l) => sum + Math.exp(l - top), 0) / logs.length;
+  return top + Math.log(mean) + Math.log(g.logWidth * g.rateWidth);
+}
+
+function rangePriorOf(options: RangingOptions, usedPositions: number): RangePriorKind {
+  const fallback: RangePriorKind = usedPositions >= POPULATION_PRIOR_MIN_POSITIONS ? DEFAULT_RANGE_PRIOR : 'powerLaw';
+  const kind = options.rangePrior ?? (options.rangePriorExponent !== undefined ? 'powerLaw' : fallback);
+  if (kind !== 'population' && kind !== 'powerLaw') throw new EstimationInputError('ranging.rangePrior', kind, "expected 'population' or 'powerLaw'");
+  return kind;
 }
 
 type GridNode = { rho: number; rate: number; logWidth: number; rateWidth: number };

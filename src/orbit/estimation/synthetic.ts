@@ -271,6 +271,14 @@ export interface HorizonResult {
 
 /** Runs the estimator on a case and compares its ephemeris from FOLLOW_UP_SITE with the truth. */
 export function evaluateCase(c: CalibrationCase, options: { members?: number; seed?: number; ranging?: RangingOptions } = {}): HorizonResult[] {
+  return evaluateCaseWithRange(c, options).horizons;
+}
+
+/** evaluateCase plus the estimate's range percentiles at the tracklet's mean epoch (au), to compare with meanEpochRangeAu. */
+export function evaluateCaseWithRange(
+  c: CalibrationCase,
+  options: { members?: number; seed?: number; ranging?: RangingOptions } = {},
+): { horizons: HorizonResult[]; rangeAu: { p5: number; p50: number; p95: number } } {
   const estimate = estimateObject({
     objectId: c.id,
     observations: c.observations,
@@ -280,7 +288,7 @@ export function evaluateCase(c: CalibrationCase, options: { members?: number; se
     ranging: options.ranging,
   });
   const rows = estimate.ephemeris(FOLLOW_UP_SITE, c.truth.map((t) => t.timeUtc));
-  return rows.map((row, j) => {
+  const horizons = rows.map((row, j) => {
     const truth = c.truth[j]!;
     const [east, north] = offsetArcsec(row.ra, row.dec, truth.raDeg, truth.decDeg);
     const linear = extrapolateAttributable(estimate.attributable!, truth.timeUtc.getTime());
@@ -293,4 +301,5 @@ export function evaluateCase(c: CalibrationCase, options: { members?: number; se
       majorArcsec: row.unc!.major,
     };
   });
+  return { horizons, rangeAu: estimate.summary.rangeAu };
 }
