@@ -101,11 +101,16 @@ export function delaunayJacobian(aAu: number, e: number, iRad: number, gm: numbe
   return (Math.pow(gm, 1.5) / 2) * Math.sqrt(aAu) * e * Math.sin(iRad);
 }
 
-/** Fisher-type pole distribution on the sphere, exp(kappa cos i), reduced: density in i divided by sin i (per rad). */
-function fisherReduced(iRad: number, sigmaRad: number): number {
+/**
+ * Fisher-type pole distribution on the sphere, exp(kappa cos i) with kappa =
+ * 1/sigma^2, reduced: density in i divided by sin i (per rad). Normalised so
+ * that kappa sin i exp(kappa (cos i - 1)) / (1 - exp(-2 kappa)) integrates to 1
+ * over [0, pi]; Rayleigh with sigma at small i.
+ */
+function fisherReducedOf(sigmaRad: number): (iRad: number) => number {
   const kappa = 1 / (sigmaRad * sigmaRad);
-  // Normalised so that the density in i, kappa sin i exp(kappa (cos i - 1)) / (1 - exp(-2 kappa)), integrates to 1 over [0, pi].
-  return (kappa * Math.exp(kappa * (Math.cos(iRad) - 1))) / (1 - Math.exp(-2 * kappa));
+  const scale = kappa / (1 - Math.exp(-2 * kappa));
+  return (iRad) => scale * Math.exp(kappa * (Math.cos(iRad) - 1));
 }
 
 const MAIN_BELT = { aLo: 2.1, aHi: 3.3, aEdge: 0.03, sigmaE: 0.12, qMin: 1.66, qEdge: 0.03, sigmaIRad: 9 * RAD_PER_DEG } as const;
@@ -155,10 +160,13 @@ const NORMS: Readonly<Record<PopulationComponentName, number>> = Object.freeze({
   floor: normalisation(SHAPES.floor),
 });
 
+const MAIN_BELT_POLES = fisherReducedOf(MAIN_BELT.sigmaIRad);
+const NEAR_EARTH_POLES = fisherReducedOf(NEAR_EARTH.sigmaIRad);
+
 /** Density in inclination divided by sin i, per rad, for a component. */
 function inclinationReduced(name: PopulationComponentName, iRad: number): number {
-  if (name === 'mainBelt') return fisherReduced(iRad, MAIN_BELT.sigmaIRad);
-  if (name === 'nearEarth') return fisherReduced(iRad, NEAR_EARTH.sigmaIRad);
+  if (name === 'mainBelt') return MAIN_BELT_POLES(iRad);
+  if (name === 'nearEarth') return NEAR_EARTH_POLES(iRad);
   return 0.5; // isotropic: sin(i) / 2
 }
 
@@ -195,6 +203,10 @@ export function elementDensity(name: PopulationComponentName, el: PriorElements)
  */
 export function phaseSpaceDensity(name: PopulationComponentName, el: PriorElements, gm: number = GM_SUN_AU3_PER_DAY2): number {
   checkElements(el);
+  return phaseSpaceDensityUnchecked(name, el, gm);
+}
+
+function phaseSpaceDensityUnchecked(name: PopulationComponentName, el: PriorElements, gm: number): number {
   const reduced = (SHAPES[name](el.aAu, el.e) / NORMS[name]) * inclinationReduced(name, el.iRad);
   return reduced / ((2 * Math.PI) ** 3 * (Math.pow(gm, 1.5) / 2) * Math.sqrt(el.aAu));
 }
@@ -205,9 +217,10 @@ export function phaseSpaceDensity(name: PopulationComponentName, el: PriorElemen
  */
 export function populationDensity(el: PriorElements, hMag: number): number {
   if (!Number.isFinite(hMag)) throw new EstimationInputError('hMag', hMag, 'expected a finite absolute magnitude');
+  checkElements(el);
   let sum = 0;
   for (const name of POPULATION_COMPONENTS) {
-    sum += POPULATION_WEIGHTS[name] * Math.pow(10, POPULATION_H_SLOPES[name] * (hMag - POPULATION_H_REFERENCE)) * phaseSpaceDensity(name, el);
+    sum += POPULATION_WEIGHTS[name] * Math.exp(Math.LN10 * POPULATION_H_SLOPES[name] * (hMag - POPULATION_H_REFERENCE)) * phaseSpaceDensityUnchecked(name, el, GM_SUN_AU3_PER_DAY2);
   }
   return sum;
 }

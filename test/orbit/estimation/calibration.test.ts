@@ -9,7 +9,10 @@ import { CALIBRATION_HORIZONS_H, evaluateCase, generateCases, type HorizonResult
  * The bar is the issue's: truth inside the 3-sigma ellipse at every horizon;
  * the nominal better than linear extrapolation of the tracklet at +24 h
  * (median); the median 1-sigma major axis within a factor 3 of the median
- * error up to +24 h (at +48 h the full set does not meet it; see docs/accuracy.md).
+ * error at every horizon, pooled and, over the first six ordinary objects,
+ * for ordinary objects alone (the full set meets it for them at 0.9-1.9
+ * with the population prior; see docs/accuracy.md). Close approachers alone
+ * are not asserted: three cases give too noisy a median.
  */
 const median = (xs: number[]): number => {
   const s = [...xs].sort((a, b) => a - b);
@@ -35,10 +38,27 @@ describe('calibration subset', () => {
     expect(median(rows.map((r) => r.nominalErrorArcsec))).toBeLessThan(median(rows.map((r) => r.linearErrorArcsec)));
   });
 
-  it.each([1, 3, 6, 12, 24].map((h) => [h]))('keeps the median ellipse within a factor 3 of the median error at +%i h', (hours) => {
+  it.each(CALIBRATION_HORIZONS_H.map((h) => [h]))('keeps the median ellipse within a factor 3 of the median error at +%i h', (hours) => {
     const rows = at(hours);
     const ratio = median(rows.map((r) => r.majorArcsec)) / median(rows.map((r) => r.nominalErrorArcsec));
     expect(ratio).toBeLessThan(3);
     expect(ratio).toBeGreaterThan(1 / 3);
+  });
+
+  describe('ordinary objects alone (the first six)', () => {
+    const more = generateCases('ordinary', 3, 1 + Math.max(...cases.filter((c) => c.kind === 'ordinary').map((c) => Number(c.id.split('-')[1]))));
+    const ordinary = [...results.slice(3), ...more.map((c) => evaluateCase(c, { members: 300, seed: 1 }))];
+
+    it('uses six distinct ordinary cases', () => {
+      expect(new Set([...cases.slice(3), ...more].map((c) => c.id)).size).toBe(6);
+    });
+
+    it.each(CALIBRATION_HORIZONS_H.map((h) => [h]))('keeps their median ellipse within a factor 3 of their median error at +%i h, with every truth inside 3 sigma', (hours) => {
+      const rows = ordinary.map((r) => r.find((h) => h.hours === hours)!);
+      const ratio = median(rows.map((r) => r.majorArcsec)) / median(rows.map((r) => r.nominalErrorArcsec));
+      expect(ratio).toBeLessThan(3);
+      expect(ratio).toBeGreaterThan(1 / 3);
+      for (const r of rows) expect(r.sigmaDistance).toBeLessThanOrEqual(3);
+    });
   });
 });

@@ -164,7 +164,7 @@ describe('population prior: weight to every bound orbit', () => {
     for (const el of upTo30) {
       const density = populationDensity(el, 22);
       expect(density / typicalNeo).toBeGreaterThan(1e-6);
-      expect(density).toBeGreaterThanOrEqual(POPULATION_WEIGHTS.floor * 10 ** (0.35 * 4) * phaseSpaceDensity('floor', el));
+      expect(density).toBeGreaterThanOrEqual(POPULATION_WEIGHTS.floor * Math.exp(Math.LN10 * 0.35 * (22 - 18)) * phaseSpaceDensity('floor', el) * (1 - 1e-12));
     }
   });
 });
@@ -232,6 +232,13 @@ describe('ranging with the population prior', () => {
     expect(population.p95 / population.p5).toBeLessThan(0.5 * (powerLaw.p95 / powerLaw.p5));
     expect(population.p5).toBeLessThanOrEqual(c.meanEpochRangeAu);
     expect(population.p95).toBeGreaterThanOrEqual(c.meanEpochRangeAu);
+  });
+
+  it('falls back to rho^0.5 by default for a two-position tracklet (its range is not measured at all)', () => {
+    const two = [c.observations[0]!, c.observations[c.observations.length - 1]!];
+    const estimate = (ranging?: { rangePrior: 'powerLaw' }) =>
+      estimateObject({ objectId: c.id, observations: two, now: new Date(c.lastObservationMs), members: 100, seed: 1, ranging }).summary.rangeAu;
+    expect(estimate()).toEqual(estimate({ rangePrior: 'powerLaw' }));
   });
 
   it('rejects an unknown prior name with a typed error naming the field', () => {
