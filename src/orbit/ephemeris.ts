@@ -6,6 +6,7 @@ import { PhotometryInputError } from '../photometry/errors.js';
 import { ARCSEC_PER_RAD, DEG_PER_RAD, GM_SUN_AU3_PER_DAY2, LIGHT_AU_PER_DAY, SECONDS_PER_DAY } from './constants.js';
 import { stateFromPerihelionElements, type HeliocentricState, type PerihelionElements } from './elements.js';
 import { OrbitConvergenceError, OrbitInputError, requireFinite } from './errors.js';
+import { EARTH_INDEX, PERTURBING_BODIES, PerturberTable } from './perturbers.js';
 import { streamEnsemble, type EnsembleTrajectory, type PropagationOptions } from './propagate.js';
 import { ttFromUtc } from './time.js';
 import type { Vec3 } from './vector.js';
@@ -37,11 +38,10 @@ export interface ObserverGeometry {
  * (ObserverState: WGS84, IAU 2006 precession and nutation, Earth rotation angle),
  * both in EQJ axes.
  */
-export function observerGeometry(viewpoint: Viewpoint, timeUtc: Date): ObserverGeometry {
+export function observerGeometry(viewpoint: Viewpoint, timeUtc: Date, perturbers?: PerturberTable): ObserverGeometry {
   if (!(timeUtc instanceof Date) || !Number.isFinite(timeUtc.getTime())) throw new OrbitInputError('timeUtc', timeUtc, 'expected a valid Date');
   const time = MakeTime(timeUtc);
-  const earth = HelioState(Body.Earth, time);
-  const ssb = HelioState(Body.SSB, time);
+  const { earth, ssb } = perturbers ? earthAndBarycentreFromTable(perturbers, time.tt) : { earth: HelioState(Body.Earth, time), ssb: HelioState(Body.SSB, time) };
   let sx = 0, sy = 0, sz = 0, svx = 0, svy = 0, svz = 0;
   if (viewpoint !== 'geocentre') {
     const site = ObserverState(time, observerFromLocation(viewpoint), false);
@@ -56,9 +56,38 @@ export function observerGeometry(viewpoint: Viewpoint, timeUtc: Date): ObserverG
   };
 }
 
-/** observerGeometry of every viewpoint at every instant: [viewpoint][time]. */
-export function observerGeometries(viewpoints: readonly Viewpoint[], timesUtc: readonly Date[]): ObserverGeometry[][] {
-  return viewpoints.map((v) => timesUtc.map((t) => observerGeometry(v, t)));
+/** Weights of the giant planets' heliocentric velocities in the barycentre's, gm / (gm + GM_sun) each, as astronomy-engine's own barycentre. */
+const BARYCENTRE_WEIGHTS = PERTURBING_BODIES.map((p) =>
+  p.body === Body.Jupiter || p.body === Body.Saturn || p.body === Body.Uranus || p.body === Body.Neptune ? p.gm / (p.gm + GM_SUN_AU3_PER_DAY2) : 0,
+);
+
+/**
+ * The Earth's heliocentric state and the barycentre's velocity relative to the
+ * Sun from a perturber table (Hermite between its astronomy-engine nodes):
+ * the barycentre from the four giant planets as astronomy-engine forms it
+ * (HelioState of Body.SSB). Measured against the direct series over 2027:
+ * Earth within 2e-13 au and 4e-12 au/day. Saves two series evaluations per
+ * instant where a propagation has the table anyway.
+ */
+function earthAndBarycentreFromTable(table: PerturberTable, tt: number): { earth: { x: number; y: number; z: number; vx: number; vy: number; vz: number }; ssb: { vx: number; vy: number; vz: number } } {
+  const pos = new Float64Array(3 * PERTURBING_BODIES.length), vel = new Float64Array(3 * PERTURBING_BODIES.length);
+  table.statesAt(tt, pos, vel);
+  let vx = 0, vy = 0, vz = 0;
+  BARYCENTRE_WEIGHTS.forEach((w, b) => {
+    vx += w * vel[3 * b]!;
+    vy += w * vel[3 * b + 1]!;
+    vz += w * vel[3 * b + 2]!;
+  });
+  const e = 3 * EARTH_INDEX;
+  return {
+    earth: { x: pos[e]!, y: pos[e + 1]!, z: pos[e + 2]!, vx: vel[e]!, vy: vel[e + 1]!, vz: vel[e + 2]! },
+    ssb: { vx, vy, vz },
+  };
+}
+
+/** observerGeometry of every viewpoint at every instant: [viewpoint][time]; with the Earth from `perturbers` when given. */
+export function observerGeometries(viewpoints: readonly Viewpoint[], timesUtc: readonly Date[], perturbers?: PerturberTable): ObserverGeometry[][] {
+  return viewpoints.map((v) => timesUtc.map((t) => observerGeometry(v, t, perturbers)));
 }
 
 /** One object's place as seen by one observer. */

@@ -4,6 +4,7 @@ import { AstroTime, Body, CorrectLightTravel, Equator, HelioState, HelioVector, 
 import { stateFromPerihelionElements } from '../../src/orbit/elements.js';
 import { astrometricPlace, ephemerisFromElements, observerGeometry } from '../../src/orbit/ephemeris.js';
 import { LIGHT_AU_PER_DAY } from '../../src/orbit/constants.js';
+import { PerturberTable } from '../../src/orbit/perturbers.js';
 import { ttFromTtIso, utcFromTt } from '../../src/orbit/time.js';
 import { apparentMagnitudeHG } from '../../src/photometry/magnitudes.js';
 import { airmassKastenYoung, horizontalFromIcrs } from '../../src/sky/site.js';
@@ -152,5 +153,18 @@ describe('observer geometry', () => {
     const earth = HelioVector(Body.Earth, when);
     const ov = ObserverVector(when, new Observer(site.latDeg, site.lonDeg, site.heightM), false);
     expect(Math.hypot(g.position.x - earth.x - ov.x, g.position.y - earth.y - ov.y, g.position.z - earth.z - ov.z)).toBeLessThan(1e-12);
+  });
+
+  it("takes the Earth and the barycentre from a perturber table to 1e-12 au and 1e-11 au/day of astronomy-engine's series over a year", () => {
+    const table = new PerturberTable();
+    for (let k = 0; k < 120; k++) {
+      const when = new Date(Date.parse('2027-01-01T00:00:00Z') + k * 73 * 3600_000);
+      const direct = observerGeometry(site, when);
+      const fromTable = observerGeometry(site, when, table);
+      const d = (a: { x: number; y: number; z: number }, b: { x: number; y: number; z: number }) => Math.hypot(a.x - b.x, a.y - b.y, a.z - b.z);
+      expect(d(direct.position, fromTable.position)).toBeLessThan(1e-12);
+      expect(d(direct.velocity, fromTable.velocity)).toBeLessThan(1e-11);
+      expect(d(direct.sunBarycentricVelocity, fromTable.sunBarycentricVelocity)).toBeLessThan(1e-13);
+    }
   });
 });

@@ -57,9 +57,10 @@ export function batchedEnsemblePlacesForSites(
 function gatherBatches(states: readonly HeliocentricState[], viewpoints: readonly Viewpoint[], timesUtc: readonly Date[], windowDays: number, options: PropagationOptions): EnsemblePlaces[] {
   const n = states.length;
   const outs = viewpoints.map(() => placeArrays(n * timesUtc.length));
-  // Shared by every batch: the observer at each time and the perturbers' nodes.
-  const observers = observerGeometries(viewpoints, timesUtc);
-  const shared: PropagationOptions = { ...options, perturbers: options.perturbers ?? new PerturberTable(options.perturberNodeDays ?? 0.125) };
+  // Shared by every batch: the perturbers' nodes and the observer at each time (its Earth from the same table).
+  const perturbers = options.perturbers ?? new PerturberTable(options.perturberNodeDays ?? 0.125);
+  const shared: PropagationOptions = { ...options, perturbers };
+  const observers = observerGeometries(viewpoints, timesUtc, perturbers);
   for (const batch of encounterBatches(states, windowDays)) {
     streamEnsemblePlacesForSites(
       batch.map((i) => states[i]!),

@@ -169,14 +169,13 @@ function absoluteMagnitudes(states: readonly HeliocentricState[], observations: 
 }
 
 /** Minimum geocentric distance (au) of each state over [startTt, startTt + days]: samples plus linear closest approach between them. */
-function minimumGeocentricDistances(states: readonly HeliocentricState[], startTt: number, days: number): Float64Array {
+function minimumGeocentricDistances(states: readonly HeliocentricState[], startTt: number, days: number, perturbers: PerturberTable): Float64Array {
   const n = states.length;
   const sampleCount = Math.ceil(days / APPROACH_SAMPLE_DAYS) + 1;
   const times = Array.from({ length: sampleCount }, (_, k) => startTt + (k * days) / (sampleCount - 1));
   const half = days / (sampleCount - 1) / 2;
   const best = new Float64Array(n).fill(Infinity);
   // The Earth's state at each sample from the propagation's own perturber table (Hermite between its nodes, ~1e-12 au).
-  const perturbers = new PerturberTable();
   const bodyPos = new Float64Array(3 * PERTURBING_BODIES.length), bodyVel = new Float64Array(3 * PERTURBING_BODIES.length);
   const earthAt = times.map((tt) => {
     perturbers.statesAt(tt, bodyPos, bodyVel);
@@ -428,6 +427,8 @@ function spreadAt(sparse: readonly EstimatedEphemerisRow[], index: readonly numb
  */
 export function estimateObject(input: EstimateInput): ShortArcEstimate {
   const { members, seed } = checkInput(input);
+  // One table of the planets' and the Moon's states for every propagation of this estimate (nodes are computed once).
+  const perturbers = new PerturberTable();
   const random = createRandom(seed);
   const notes: string[] = [];
   const hasObservations = input.observations.length > 0;
@@ -546,7 +547,7 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
   const lastObsTt = observations.length > 0 ? ttFromUtc(observations[observations.length - 1]!.timeUtc) : -Infinity;
   const startTt = Math.max(ttFromUtc(input.now), lastObsTt);
   // Percentiles from a fair prefix of the (shuffled) ensemble: 256 members give the 5 % point to about 1.4 % in probability.
-  const minDist = minimumGeocentricDistances(states.slice(0, APPROACH_MEMBERS), startTt, CLOSE_APPROACH_WINDOW_DAYS);
+  const minDist = minimumGeocentricDistances(states.slice(0, APPROACH_MEMBERS), startTt, CLOSE_APPROACH_WINDOW_DAYS, perturbers);
   const auPct = percentiles(minDist);
   const ld = (au: number): number => (au * KM_PER_AU) / LUNAR_DISTANCE_KM;
 
@@ -598,7 +599,7 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
   /** Rows for several sites from one propagation of the ensemble; with `spreadEvery` > 1 the ensemble only at every that many times (EphemerisOptions). */
   const ephemerisForSites = (locations: readonly GeodeticLocation[], timesUtc: readonly Date[], options: EphemerisOptions = {}): EstimatedEphemerisRow[][] => {
     const every = checkSpreadEvery(options.spreadEvery);
-    const full = (times: readonly Date[]) => batchedEnsemblePlacesForSites(allStates, locations, times, spanOf(times)).map((places, i) => rowsFrom(places, locations[i]!));
+    const full = (times: readonly Date[]) => batchedEnsemblePlacesForSites(allStates, locations, times, spanOf(times), { perturbers }).map((places, i) => rowsFrom(places, locations[i]!));
     if (every === 1 || timesUtc.length <= 2) return full(timesUtc);
     const coarse = sparseIndices(timesUtc.length, every);
     const coarseRows = full(coarse.map((i) => timesUtc[i]!));
@@ -617,7 +618,7 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
       return out;
     });
     const photometry = nominalH === null ? undefined : { hMag: nominalH, g: slopeG };
-    return batchedEnsemblePlacesForSites([nominal], locations, timesUtc, spanOf(timesUtc)).map((places, site) =>
+    return batchedEnsemblePlacesForSites([nominal], locations, timesUtc, spanOf(timesUtc), { perturbers }).map((places, site) =>
       rowsFromPlaces(places, 0, locations[site]!, photometry).map((row, k) => ({ ...row, ...spreadAt(merged[site]!, index, k) })),
     );
   };
@@ -628,7 +629,7 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
   const memberPositions = (location: GeodeticLocation, timeUtc: Date, maxMembers = 500): { raDeg: number; decDeg: number }[] => {
     const stride = Math.max(1, Math.ceil(states.length / Math.max(1, maxMembers)));
     const subset = states.filter((_, k) => k % stride === 0);
-    const places = batchedEnsemblePlaces(subset, location, [timeUtc], Math.abs(ttFromUtc(timeUtc) - epochTt));
+    const places = batchedEnsemblePlaces(subset, location, [timeUtc], Math.abs(ttFromUtc(timeUtc) - epochTt), { perturbers });
     return Array.from({ length: subset.length }, (_, m) => ({ raDeg: places.raDeg[m]!, decDeg: places.decDeg[m]! }));
   };
   return {
