@@ -397,7 +397,7 @@ function sparseIndices(count: number, every: number): number[] {
  * the ellipse's axes and position angle (taken the short way round 180 deg)
  * interpolated separately, magSigma likewise; null where either side has none.
  */
-function spreadAt(sparse: readonly EstimatedEphemerisRow[], index: readonly number[], k: number): Pick<EstimatedEphemerisRow, 'unc' | 'magSigma' | 'extent99'> {
+function spreadAt(sparse: readonly Pick<EstimatedEphemerisRow, 'unc' | 'magSigma' | 'extent99'>[], index: readonly number[], k: number): Pick<EstimatedEphemerisRow, 'unc' | 'magSigma' | 'extent99'> {
   let s = 0;
   while (s < index.length - 2 && index[s + 1]! <= k) s++;
   const a = sparse[s]!, b = sparse[s + 1] ?? a;
@@ -576,13 +576,14 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
   const firstObservedAt = observations.length > 0 ? observations[0]!.timeUtc.toISOString() : utcFromTt(epochTt).toISOString();
   const allStates = [nominal, ...states];
   const spanOf = (timesUtc: readonly Date[]) => timesUtc.reduce((m, d) => Math.max(m, Math.abs(ttFromUtc(d) - epochTt)), 0);
-  const rowsFrom = (places: EnsemblePlaces, location: GeodeticLocation): EstimatedEphemerisRow[] => {
+  type Spread = Pick<EstimatedEphemerisRow, 'unc' | 'magSigma' | 'extent99'>;
+  const photometry = nominalH === null ? undefined : { hMag: nominalH, g: slopeG };
+  /** The ensemble's statistics at each time of `places` (member 0 the nominal, the centre of the ellipse). */
+  const spreadsOf = (places: EnsemblePlaces): Spread[] => {
     const n = places.memberCount;
-    const photometry = nominalH === null ? undefined : { hMag: nominalH, g: slopeG };
-    const rows = rowsFromPlaces(places, 0, location, photometry);
     const mags = new Float64Array(n);
-    return rows.map((row, k) => {
-      const spread = skySpread(row.ra, row.dec, places.raDeg, places.decDeg, k * n + 1, n - 1);
+    return places.timesUtc.map((_, k) => {
+      const spread = skySpread(places.raDeg[k * n]!, places.decDeg[k * n]!, places.raDeg, places.decDeg, k * n + 1, n - 1);
       let magSigma: number | null = null;
       if (memberH) {
         // Members 1..n-1 of the places are the virtual orbits, whose H are memberH[0..n-2]; NaN (no magnitude) sorts last.
@@ -593,14 +594,20 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
           magSigma = (sorted[Math.round(0.84 * (finite - 1))]! - sorted[Math.round(0.16 * (finite - 1))]!) / 2;
         }
       }
-      return { ...row, unc: spread.sigma, magSigma, extent99: spread.extent99 };
+      return { unc: spread.sigma, magSigma, extent99: spread.extent99 };
     });
   };
   /** Rows for several sites from one propagation of the ensemble; with `spreadEvery` > 1 the ensemble only at every that many times (EphemerisOptions). */
   const ephemerisForSites = (locations: readonly GeodeticLocation[], timesUtc: readonly Date[], options: EphemerisOptions = {}): EstimatedEphemerisRow[][] => {
     const every = checkSpreadEvery(options.spreadEvery);
-    const full = (times: readonly Date[]) => batchedEnsemblePlacesForSites(allStates, locations, times, spanOf(times), { perturbers }).map((places, i) => rowsFrom(places, locations[i]!));
-    if (every === 1 || timesUtc.length <= 2) return full(timesUtc);
+    const ensemble = (times: readonly Date[]) => batchedEnsemblePlacesForSites(allStates, locations, times, spanOf(times), { perturbers });
+    if (every === 1 || timesUtc.length <= 2) {
+      return ensemble(timesUtc).map((places, i) => {
+        const spreads = spreadsOf(places);
+        return rowsFromPlaces(places, 0, locations[i]!, photometry).map((row, k) => ({ ...row, ...spreads[k]! }));
+      });
+    }
+    const full = (times: readonly Date[]): Spread[][] => ensemble(times).map(spreadsOf);
     const coarse = sparseIndices(timesUtc.length, every);
     const coarseRows = full(coarse.map((i) => timesUtc[i]!));
     // Where the ellipse changes fast between coarse rows, the rows in between get the ensemble too.
@@ -612,12 +619,11 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
     const index = [...coarse, ...refine].sort((a, b) => a - b);
     const position = new Map(index.map((i, p) => [i, p]));
     const merged = locations.map((_, site) => {
-      const out: EstimatedEphemerisRow[] = new Array(index.length);
+      const out: Spread[] = new Array(index.length);
       coarse.forEach((i, p) => (out[position.get(i)!] = coarseRows[site]![p]!));
       refine.forEach((i, p) => (out[position.get(i)!] = refinedRows[site]![p]!));
       return out;
     });
-    const photometry = nominalH === null ? undefined : { hMag: nominalH, g: slopeG };
     return batchedEnsemblePlacesForSites([nominal], locations, timesUtc, spanOf(timesUtc), { perturbers }).map((places, site) =>
       rowsFromPlaces(places, 0, locations[site]!, photometry).map((row, k) => ({ ...row, ...spreadAt(merged[site]!, index, k) })),
     );

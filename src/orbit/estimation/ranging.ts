@@ -2,6 +2,7 @@ import { Body, HelioState, MakeTime } from 'astronomy-engine';
 import { ARCSEC_PER_RAD, GM_EARTH_AU3_PER_DAY2, GM_MOON_AU3_PER_DAY2, GM_SUN_AU3_PER_DAY2, LIGHT_AU_PER_DAY, SECONDS_PER_DAY } from '../constants.js';
 import type { HeliocentricState } from '../elements.js';
 import { astrometricPlace, observerGeometry, type ObserverGeometry } from '../ephemeris.js';
+import { PerturberTable } from '../perturbers.js';
 import { streamEnsemble } from '../propagate.js';
 import { ttFromUtc } from '../time.js';
 import type { Attributable } from './attributable.js';
@@ -136,6 +137,8 @@ interface Context {
   readonly normalInverse: readonly [number, number, number];
   /** Mean V of the used positions (null when none has a usable magnitude), for the population prior. */
   readonly meanV: number | null;
+  /** Perturber states over the arc, shared by every propagation of the ranging (nodes computed once). */
+  readonly perturbers: PerturberTable;
 }
 
 const dot = (a: Vec3, b: Vec3): number => a[0] * b[0] + a[1] * b[1] + a[2] * b[2];
@@ -164,6 +167,7 @@ function makeContext(observations: readonly PreparedObservation[], attributable:
     epochTt: ttFromUtc(epochDate),
     normalInverse: [c[0]![0]!, c[0]![2]!, c[2]![2]!],
     meanV: meanTrackletV(used),
+    perturbers: new PerturberTable(),
   };
 }
 
@@ -268,7 +272,7 @@ function fitNodes(
           eta[m * nObs + k] = ctx.observedEta[k]! - p[1];
         }
       },
-      { stepFraction: 0.2, maxStepDays: 0.05 },
+      { stepFraction: 0.2, maxStepDays: 0.05, perturbers: ctx.perturbers },
     );
     return { xi, eta };
   };
