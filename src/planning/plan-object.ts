@@ -10,7 +10,7 @@ import { siteVExtinctionMagPerAirmass, skyBrightnessKS } from '../sky/sky-bright
 import { PlanningInputError, requireDate, requireFinite } from './errors.js';
 import { DEFAULT_SCORE_WEIGHTS, scoreRequest, type Score, type ScoreWeights } from './score.js';
 import { searchPattern, type SearchPattern } from './search-pattern.js';
-import { buildTrack, TRACK_STEP_MIN, trackRowsForSites, type Track, type TrackPoint } from './track.js';
+import { buildTrack, TRACK_SPREAD_EVERY, TRACK_STEP_MIN, trackRowsForSites, type Track, type TrackPoint } from './track.js';
 
 /**
  * The planner: for one assessed object and every configured site, either up to
@@ -586,7 +586,8 @@ function exactRows(estimate: ObjectEstimate, site: Site, choices: KindChoice[], 
     for (const t of wanted) byTime.set(t, track.rowAt(t));
     return byTime;
   }
-  const rows = estimate.ephemeris(site.location, wanted.map((t) => new Date(t)));
+  // Positions fresh at every row; the uncertainty every third row (5-minute tables), filled in where it changes fast.
+  const rows = estimate.ephemeris(site.location, wanted.map((t) => new Date(t)), { spreadEvery: TRACK_SPREAD_EVERY });
   wanted.forEach((t, i) => {
     const row = rows[i];
     if (row === undefined) throw new PlanningInputError('estimate.ephemeris', rows.length, `expected ${wanted.length} rows, one per requested time`);

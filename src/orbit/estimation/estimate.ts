@@ -392,17 +392,17 @@ function sparseIndices(count: number, every: number): number[] {
 }
 
 /**
- * The ensemble statistics at row k from the sparse rows around it: linear in the
- * row's position between them (times are the caller's, usually evenly spaced);
+ * The ensemble statistics at row k from the sparse rows around it: linear in
+ * time between them;
  * the ellipse's axes and position angle (taken the short way round 180 deg)
  * interpolated separately, magSigma likewise; null where either side has none.
  */
-function spreadAt(sparse: readonly Pick<EstimatedEphemerisRow, 'unc' | 'magSigma' | 'extent99'>[], index: readonly number[], k: number): Pick<EstimatedEphemerisRow, 'unc' | 'magSigma' | 'extent99'> {
+function spreadAt(sparse: readonly Pick<EstimatedEphemerisRow, 'unc' | 'magSigma' | 'extent99'>[], index: readonly number[], k: number, timesMs: readonly number[]): Pick<EstimatedEphemerisRow, 'unc' | 'magSigma' | 'extent99'> {
   let s = 0;
   while (s < index.length - 2 && index[s + 1]! <= k) s++;
   const a = sparse[s]!, b = sparse[s + 1] ?? a;
-  const i0 = index[s]!, i1 = index[s + 1] ?? i0;
-  const f = i1 > i0 ? Math.min(1, Math.max(0, (k - i0) / (i1 - i0))) : 0;
+  const t0 = timesMs[index[s]!]!, t1 = timesMs[index[s + 1] ?? index[s]!]!;
+  const f = t1 > t0 ? Math.min(1, Math.max(0, (timesMs[k]! - t0) / (t1 - t0))) : 0;
   const lin = (x: number, y: number) => x + (y - x) * f;
   const ellipse = (x: UncertaintyEllipse | null, y: UncertaintyEllipse | null): UncertaintyEllipse | null => {
     if (x === null || y === null) return f < 0.5 ? x : y;
@@ -608,6 +608,7 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
       });
     }
     const full = (times: readonly Date[]): Spread[][] => ensemble(times).map(spreadsOf);
+    const timesMs = timesUtc.map((d) => d.getTime());
     const coarse = sparseIndices(timesUtc.length, every);
     const coarseRows = full(coarse.map((i) => timesUtc[i]!));
     // Where the ellipse changes fast between coarse rows, the rows in between get the ensemble too.
@@ -625,7 +626,7 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
       return out;
     });
     return batchedEnsemblePlacesForSites([nominal], locations, timesUtc, spanOf(timesUtc), { perturbers }).map((places, site) =>
-      rowsFromPlaces(places, 0, locations[site]!, photometry).map((row, k) => ({ ...row, ...spreadAt(merged[site]!, index, k) })),
+      rowsFromPlaces(places, 0, locations[site]!, photometry).map((row, k) => ({ ...row, ...spreadAt(merged[site]!, index, k, timesMs) })),
     );
   };
   const ephemeris = (location: GeodeticLocation, timesUtc: readonly Date[], options: EphemerisOptions = {}): EstimatedEphemerisRow[] =>
