@@ -92,6 +92,10 @@ export function createRequestStore(db: Db) {
   const tokenOf = db.prepare(`SELECT lease_token_hash AS h FROM requests WHERE id = ?`);
   const insertEvent = db.prepare(`INSERT INTO request_events (request_id, at, from_state, to_state, detail) VALUES (?, ?, ?, ?, ?)`);
   const setState = db.prepare(`UPDATE requests SET state = ?, state_reason = ?, updated_at = ? WHERE id = ?`);
+  const dataVersion = db.prepare('PRAGMA data_version');
+  const totalChanges = db.prepare('SELECT total_changes()');
+  const nextStart = db.prepare(`SELECT MIN(window_start) AS t FROM requests WHERE site_id = ? AND state = 'queued' AND window_start > ?`);
+  const nextStartOfKind = db.prepare(`SELECT MIN(window_start) AS t FROM requests WHERE site_id = ? AND state = 'queued' AND window_start > ? AND kind = ?`);
 
   function queueRows(options: { siteId: string; from: string; to: string; kind?: RequestKind; limit: number }): RawRequestRow[] {
     const kindClause = options.kind ? 'AND kind = ?' : '';
@@ -278,6 +282,19 @@ export function createRequestStore(db: Db) {
       return queueRows(options).map(decode);
     },
     /** The same as `queue`, with each body left as its stored JSON text (for answering without re-encoding it). */
+    /**
+     * A value that changes whenever any connection commits a change to the
+     * database (SQLite's data_version for other connections, total_changes for
+     * this one), so an answer computed from it can be reused while it holds.
+     */
+    revision(): string {
+      return `${String(dataVersion.pluck().get())}:${String(totalChanges.pluck().get())}`;
+    },
+    /** The earliest window start after `after` among a site's queued requests (optionally of one kind), or null. */
+    nextQueuedWindowStart(siteId: string, after: string, kind?: RequestKind): string | null {
+      const row = (kind ? nextStartOfKind.get(siteId, after, kind) : nextStart.get(siteId, after)) as { t: string | null } | undefined;
+      return row?.t ?? null;
+    },
     queueWithBodyText(options: { siteId: string; from: string; to: string; kind?: RequestKind; limit: number }): { row: Omit<RequestRow, 'body'>; bodyJson: string }[] {
       return queueRows(options).map((raw) => {
         const { body, ...rest } = decode({ ...raw, body: 'null' });

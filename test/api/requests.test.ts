@@ -57,6 +57,24 @@ function seed(store: Store): string[] {
   }).created;
 }
 
+/** A second invented object with one request, assessed after the seed. */
+function secondObject(store: Store, request: NewRequest): void {
+  store.notices.recordNotice({
+    sender: 'Example Survey (invented)',
+    noticeId: 'second',
+    objectId: 'ZX27A02',
+    source: 'test',
+    receivedAt: at(-20),
+    issuedAt: at(-20),
+    raw: '{}',
+    kind: 'observations',
+    retractionReason: null,
+    orbitJson: null,
+    observations: [],
+  });
+  store.requests.saveAssessment({ objectId: 'ZX27A02', createdAt: at(1), observations: 2, summary: {}, requests: [request] });
+}
+
 async function setup() {
   const built = await buildTestApp({ clock });
   app = built.app;
@@ -76,6 +94,29 @@ describe('queue and leases', () => {
     const body = res.json();
     expect(body.items.map((r: { kind: string }) => r.kind)).toEqual(['colours', 'photometry']);
     expect(body.items[0].plan.tracking.raRate).toBe(0.52);
+  });
+
+  it('shows a lease, a new assessment and the passing of a window end in the very next queue answer', async () => {
+    const { store, ids } = await setup();
+    const queue = async (url = '/v1/queue?site=lantern-ridge') =>
+      (await app!.inject({ url, headers: scheduler })).json().items.map((r: { kind: string }) => r.kind);
+    expect(await queue()).toEqual(['colours', 'photometry']);
+    expect(await queue()).toEqual(['colours', 'photometry']);
+    await lease(ids[1]!);
+    expect(await queue()).toEqual(['photometry']);
+    secondObject(store, { ...proposal('spectrum', 90), windowEnd: at(100), expiresAt: at(100) });
+    expect(await queue()).toEqual(['spectrum', 'photometry']);
+    clockAt.t = T0 + 100 * 60_000;
+    expect(await queue()).toEqual(['photometry']);
+  });
+
+  it('lets a window that opens inside a later interval join the queue answer', async () => {
+    const { store } = await setup();
+    secondObject(store, { ...proposal('spectrum', 90), windowStart: at(20 * 60), windowEnd: at(21 * 60), recommendedStart: at(20 * 60), expiresAt: at(21 * 60) });
+    const kinds = async (to: string) => (await app!.inject({ url: `/v1/queue?site=lantern-ridge&from=${at(0)}&to=${to}`, headers: scheduler })).json().items.map((r: { kind: string }) => r.kind);
+    expect(await kinds(at(60))).toEqual(['colours', 'photometry']);
+    expect(await kinds(at(20 * 60))).toEqual(['spectrum', 'colours', 'photometry']);
+    expect(await kinds(at(60))).toEqual(['colours', 'photometry']);
   });
 
   it('names an unknown site', async () => {

@@ -1,3 +1,4 @@
+import { createQueueAnswers } from '../queue-answers.js';
 import { z } from 'zod';
 import { NOTICE_BANDS, NOTICE_FORMAT } from '../../intake/notice.js';
 import type { LeaseCheck, RequestKind, RequestState } from '../../store/requests.js';
@@ -96,6 +97,7 @@ function decodeCursor(cursor: string): { createdAt: string; id: string } {
 export function requestRoutes(ctx: ApiContext): AnyRouteSpec[] {
   const { store, clock, config } = ctx;
   const siteIds = new Set(config.sites.map((s) => s.id));
+  const queueAnswers = createQueueAnswers();
   const checkSite = (site: string) => {
     if (!siteIds.has(site))
       throw new ApiError(400, 'bad_request', `unknown site "${site}"`, [{ path: 'query.site', message: `expected one of ${[...siteIds].join(', ')}` }]);
@@ -116,10 +118,26 @@ export function requestRoutes(ctx: ApiContext): AnyRouteSpec[] {
         checkSite(query.site);
         const from = query.from ?? clock().toISOString();
         const to = query.to ?? new Date(Date.parse(from) + 12 * 3600_000).toISOString();
-        const items = store.requests.queueWithBodyText({ siteId: query.site, from, to, limit: query.limit, ...(query.kind ? { kind: query.kind as RequestKind } : {}) });
+        const kind = query.kind as RequestKind | undefined;
+        const key = { siteId: query.site, kind, limit: query.limit };
+        const fromMs = Date.parse(from), toMs = Date.parse(to);
+        const revision = store.requests.revision();
+        let itemsText = queueAnswers.lookup(key, revision, fromMs, toMs);
+        if (itemsText === null) {
+          const items = store.requests.queueWithBodyText({ siteId: query.site, from, to, limit: query.limit, ...(kind ? { kind } : {}) });
+          itemsText = items.map((i) => requestViewJson(i.row, i.bodyJson)).join(',');
+          const nextStart = store.requests.nextQueuedWindowStart(query.site, to, kind);
+          queueAnswers.keep(key, {
+            revision,
+            fromMs,
+            toMs,
+            itemsValidBeforeMs: items.reduce((m, i) => Math.min(m, Date.parse(i.row.windowEnd)), Infinity),
+            noNewItemBeforeMs: nextStart === null ? Infinity : Date.parse(nextStart),
+            itemsText,
+          });
+        }
         const head = JSON.stringify({ site: query.site, from, to });
-        const text = `${head.slice(0, -1)},"items":[${items.map((i) => requestViewJson(i.row, i.bodyJson)).join(',')}]}`;
-        return reply.type('application/json; charset=utf-8').send(text);
+        return reply.type('application/json; charset=utf-8').send(`${head.slice(0, -1)},"items":[${itemsText}]}`);
       },
     }),
     defineRoute({
