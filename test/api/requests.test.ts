@@ -34,20 +34,25 @@ function proposal(kind: NewRequest['kind'], score: number, siteId = 'lantern-rid
   };
 }
 
-function seed(store: Store): string[] {
+/** An empty invented notice, so the object exists. */
+function recordObject(store: Store, objectId: string, noticeId: string, minutes: number): void {
   store.notices.recordNotice({
     sender: 'Example Survey (invented)',
-    noticeId: 'seed',
-    objectId: 'ZX27A01',
+    noticeId,
+    objectId,
     source: 'test',
-    receivedAt: at(-30),
-    issuedAt: at(-30),
+    receivedAt: at(minutes),
+    issuedAt: at(minutes),
     raw: '{}',
     kind: 'observations',
     retractionReason: null,
     orbitJson: null,
     observations: [],
   });
+}
+
+function seed(store: Store): string[] {
+  recordObject(store, 'ZX27A01', 'seed', -30);
   return store.requests.saveAssessment({
     objectId: 'ZX27A01',
     createdAt: at(0),
@@ -59,19 +64,7 @@ function seed(store: Store): string[] {
 
 /** A second invented object with one request, assessed after the seed. */
 function secondObject(store: Store, request: NewRequest): void {
-  store.notices.recordNotice({
-    sender: 'Example Survey (invented)',
-    noticeId: 'second',
-    objectId: 'ZX27A02',
-    source: 'test',
-    receivedAt: at(-20),
-    issuedAt: at(-20),
-    raw: '{}',
-    kind: 'observations',
-    retractionReason: null,
-    orbitJson: null,
-    observations: [],
-  });
+  recordObject(store, 'ZX27A02', 'second', -20);
   store.requests.saveAssessment({ objectId: 'ZX27A02', createdAt: at(1), observations: 2, summary: {}, requests: [request] });
 }
 
