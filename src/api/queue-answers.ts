@@ -23,7 +23,8 @@ interface Kept {
   itemsValidBeforeMs: number;
   /** Earliest window start after `to` of a queued request not in the answer (Infinity when none): from it one joins. */
   noNewItemBeforeMs: number;
-  itemsText: string;
+  /** The items array's contents, UTF-8 JSON. */
+  itemsJson: Buffer;
 }
 
 const MAX_KEPT = 64;
@@ -32,13 +33,13 @@ export function createQueueAnswers() {
   const kept = new Map<string, Kept>();
   const keyOf = (k: QueueItemsKey) => `${k.siteId}|${k.kind ?? ''}|${k.limit}`;
   return {
-    /** The kept items text for this query, or null when the database or the interval rules it out. */
-    lookup(key: QueueItemsKey, revision: string, fromMs: number, toMs: number): string | null {
+    /** The kept items for this query, or null when the database or the interval rules it out. */
+    lookup(key: QueueItemsKey, revision: string, fromMs: number, toMs: number): Buffer | null {
       const k = kept.get(keyOf(key));
       if (!k || k.revision !== revision) return null;
       if (fromMs < k.fromMs || fromMs >= k.itemsValidBeforeMs) return null;
       if (toMs < k.toMs || toMs >= k.noNewItemBeforeMs) return null;
-      return k.itemsText;
+      return k.itemsJson;
     },
     keep(key: QueueItemsKey, entry: Kept): void {
       const name = keyOf(key);
