@@ -7,7 +7,7 @@
  *   3. GET /v1/queue throughput against a bare fastify route returning the same bytes;
  *   4. peak resident memory during the burst.
  *
- *   npx tsx test/bench/service.bench.ts [--latency N] [--burst N] [--members M]
+ *   npx tsx test/bench/service.bench.ts [--latency N] [--burst N] [--members M]   (--burst 0: figure 1 only)
  */
 import autocannon from 'autocannon';
 import Fastify from 'fastify';
@@ -143,4 +143,5 @@ async function burstAndThroughput(): Promise<void> {
 
 console.log(`machine: ${availableParallelism()} cores (${cpus()[0]?.model ?? 'unknown'}), Node ${process.version}`);
 await latency();
-await burstAndThroughput();
+if (BURST_N > 0) await burstAndThroughput();
+else console.log('2-4. skipped (--burst 0)');
