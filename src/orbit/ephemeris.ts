@@ -125,7 +125,10 @@ const LIGHT_TIME_MAX_ITERATIONS = 10;
  * contracts by |v|/c ~ 1e-4 per step.
  */
 export function astrometricPlace(r: Vec3, v: Vec3, observer: ObserverGeometry): AstrometricPlace {
-  for (const [field, value] of [['r.x', r.x], ['r.y', r.y], ['r.z', r.z], ['v.x', v.x], ['v.y', v.y], ['v.z', v.z]] as const) requireFinite(field, value);
+  // Checked without allocating (this runs per member and observation in the ranging); the message names the first bad field.
+  if (!(Number.isFinite(r.x) && Number.isFinite(r.y) && Number.isFinite(r.z) && Number.isFinite(v.x) && Number.isFinite(v.y) && Number.isFinite(v.z))) {
+    for (const [field, value] of [['r.x', r.x], ['r.y', r.y], ['r.z', r.z], ['v.x', v.x], ['v.y', v.y], ['v.z', v.z]] as const) requireFinite(field, value);
+  }
   const out = new Float64Array(PLACE_FIELDS);
   placeInto(r.x, r.y, r.z, v.x, v.y, v.z, observer, out);
   return {
