@@ -91,6 +91,12 @@ describe('light-time iteration', () => {
       ),
     );
   });
+
+  it('names the first non-finite component of a state instead of returning NaN', () => {
+    const observer = observerGeometry('geocentre', new Date('2027-03-04T00:00:00Z'));
+    expect(() => astrometricPlace({ x: 1, y: Number.NaN, z: 0 }, { x: 0, y: 0.01, z: 0 }, observer)).toThrow(/r\.y/);
+    expect(() => astrometricPlace({ x: 1, y: 0, z: 0 }, { x: 0, y: 0.01, z: Infinity }, observer)).toThrow(/v\.z/);
+  });
 });
 
 describe('sky-plane rates', () => {
