@@ -14,7 +14,9 @@ import { webhookJobs } from './jobs/webhooks.js';
 import { createServiceMetrics } from './telemetry/metrics.js';
 import { createJobRunner, type JobRunner } from './jobs/scheduler.js';
 import { openStore, type Store } from './store/index.js';
-import { createEstimateCache } from './api/estimates.js';
+import { withRefusals } from './api/on-demand.js';
+import { createOnDemandEstimates } from './jobs/on-demand-estimates.js';
+import { WorkerTaskError } from './jobs/worker-pool.js';
 
 export interface RunningService {
   app: FastifyInstance;
@@ -70,8 +72,9 @@ export async function startService(options: StartOptions): Promise<RunningServic
     futureToleranceMin: config.service.futureToleranceMin,
     observe: (source, r) => metrics.noticesReceived.inc({ source: source.split(':')[0] ?? source, result: r.status }),
   });
+  const workerEstimates = createOnDemandEstimates({ store, members: config.planning.members, clock });
   const app = await buildApp({
-    estimateFor: createEstimateCache(store, config.planning.members, clock),
+    onDemand: withRefusals(workerEstimates, (err) => err instanceof WorkerTaskError),
     config,
     store,
     clock,
@@ -105,6 +108,7 @@ export async function startService(options: StartOptions): Promise<RunningServic
     address = await app.listen({ host: config.service.host, port: config.service.port });
   } catch (err) {
     await assessment.close();
+    await workerEstimates.close();
     store.db.close();
     throw err;
   }
@@ -127,6 +131,7 @@ export async function startService(options: StartOptions): Promise<RunningServic
         await jobs.stop();
         await assessment.close();
         await app.close();
+        await workerEstimates.close();
         store.db.close();
         logger.info('nightjar stopped');
       })();

@@ -1,3 +1,5 @@
+import type { ObjectEstimate } from '../orbit/estimate-types.js';
+import { onDemandFromEstimates, type OnDemandEstimates } from './on-demand.js';
 import { createHash } from 'node:crypto';
 import Fastify, { type FastifyBaseLogger, type FastifyInstance } from 'fastify';
 import { z } from 'zod';
@@ -29,8 +31,10 @@ export interface AppOptions {
   metrics?: ServiceMetrics;
   /** Extra routes from other parts of the service. */
   extraRoutes?: (ctx: ApiContext) => AnyRouteSpec[];
-  /** On-demand orbit estimate of a stored object (see ApiContext); none by default. */
-  estimateFor?: ApiContext['estimateFor'];
+  /** On-demand estimates (see ApiContext); the service passes its worker-thread ones. */
+  onDemand?: OnDemandEstimates;
+  /** Or a synchronous estimate source answered on the calling thread (tests); none by default. */
+  estimateFor?: (objectId: string) => ObjectEstimate | null;
 }
 
 export const API_VERSION = '1.0.0';
@@ -56,7 +60,7 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
     metrics,
     migrationsDir: options.migrationsDir,
     sourceNames: options.sourceNames ?? ['inbox', ...service.feeds.map((f) => `feed:${f.id}`)],
-    estimateFor: options.estimateFor ?? (() => null),
+    onDemand: options.onDemand ?? onDemandFromEstimates(options.estimateFor ?? (() => null)),
   };
 
   const app = Fastify({

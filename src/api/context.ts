@@ -1,6 +1,6 @@
 import type { Config } from '../config/schema.js';
 import type { Intake } from '../intake/ingest.js';
-import type { ObjectEstimate } from '../orbit/estimate-types.js';
+import type { OnDemandEstimates } from './on-demand.js';
 import type { Store } from '../store/index.js';
 import type { ServiceMetrics } from '../telemetry/metrics.js';
 
@@ -14,9 +14,9 @@ export interface ApiContext {
   migrationsDir: string;
   sourceNames: string[];
   /**
-   * The orbit estimate of a stored object computed on demand from its tracklet
-   * (and orbit block), or null when it has too little to estimate from. Throws
-   * a typed error with a message for input the estimator refuses.
+   * Ephemerides and sky views of a stored object from an estimate computed on
+   * demand from its tracklet (and orbit block); in the service, off the API
+   * thread. Refusals reject with EstimateRefusedError.
    */
-  estimateFor: (objectId: string) => ObjectEstimate | null;
+  onDemand: OnDemandEstimates;
 }

@@ -1,10 +1,12 @@
 import { afterEach, describe, expect, it } from 'vitest';
 import type { FastifyInstance } from 'fastify';
 import { buildApp } from '../../src/api/app.js';
-import { createEstimateCache } from '../../src/api/estimates.js';
+import { withRefusals } from '../../src/api/on-demand.js';
 import { elementsFromNoticeOrbit } from '../../src/commands/ephem.js';
 import { MIGRATIONS_DIR } from '../../src/config/load.js';
 import { createIntake } from '../../src/intake/ingest.js';
+import { createOnDemandEstimates, type WorkerEstimates } from '../../src/jobs/on-demand-estimates.js';
+import { WorkerTaskError } from '../../src/jobs/worker-pool.js';
 import type { NoticeOrbit } from '../../src/intake/notice.js';
 import { ephemerisFromElements } from '../../src/orbit/ephemeris.js';
 import { simulateNight } from '../../src/planning/simulate.js';
@@ -12,9 +14,12 @@ import { demoConfig, memoryStore } from '../helpers.js';
 
 const NOW = new Date('2027-03-04T06:00:00Z');
 let app: FastifyInstance | null = null;
+let estimates: WorkerEstimates | null = null;
 afterEach(async () => {
   await app?.close();
+  await estimates?.close();
   app = null;
+  estimates = null;
 });
 
 async function setup(withOrbit: boolean) {
@@ -26,7 +31,9 @@ async function setup(withOrbit: boolean) {
   const orbit = notice['orbit'] as NoticeOrbit;
   if (!withOrbit) delete notice['orbit'];
   createIntake({ notices: store.notices, clock, futureToleranceMin: 5 }).ingestJson(JSON.stringify(notice), 'test');
-  app = await buildApp({ config, store, clock, migrationsDir: MIGRATIONS_DIR, estimateFor: createEstimateCache(store, 1000, clock) });
+  // The service's own path: the estimate runs in a worker thread.
+  estimates = createOnDemandEstimates({ store, members: 1000, clock });
+  app = await buildApp({ config, store, clock, migrationsDir: MIGRATIONS_DIR, onDemand: withRefusals(estimates, (err) => err instanceof WorkerTaskError) });
   return { objectId: String(notice['objectId']), orbit, site: config.sites[0]! };
 }
 
@@ -58,6 +65,33 @@ describe('GET /v1/objects/{id}/ephemeris', () => {
     const [truth] = ephemerisFromElements(elements, epochTt, site.location, [new Date(row!.t)]);
     // The truth lies within the 3-sigma extent along the major axis.
     expect(separationArcsec(row!.ra, row!.dec, truth!.ra, truth!.dec)).toBeLessThan(3 * row!.unc.major);
+  });
+
+  it('answers 422 with the estimator\'s reason when the stored tracklet cannot be estimated', async () => {
+    const clock = () => NOW;
+    const store = memoryStore(clock);
+    const config = demoConfig();
+    // Three positions ten minutes apart at one place: the notice is valid, the estimator finds no motion to fit.
+    const notice = {
+      format: 'nightjar.notice.v1',
+      noticeId: 'same-instant',
+      sender: 'Example Survey (invented)',
+      issuedAt: '2027-03-04T05:00:00Z',
+      objectId: 'ZX27Q99',
+      observer: { lat: 34.21, lon: -107.62, height: 2310 },
+      observations: [
+        { t: '2027-03-04T04:00:00Z', ra: 150.1, dec: 10.2, sigma: 0.5 },
+        { t: '2027-03-04T04:10:00Z', ra: 150.1, dec: 10.2, sigma: 0.5 },
+        { t: '2027-03-04T04:20:00Z', ra: 150.1, dec: 10.2, sigma: 0.5 },
+      ],
+    };
+    const ingested = createIntake({ notices: store.notices, clock, futureToleranceMin: 5 }).ingestJson(JSON.stringify(notice), 'test');
+    estimates = createOnDemandEstimates({ store, members: 200, clock });
+    app = await buildApp({ config, store, clock, migrationsDir: MIGRATIONS_DIR, onDemand: withRefusals(estimates, (err) => err instanceof WorkerTaskError) });
+    const res = await app.inject({ url: `/v1/objects/ZX27Q99/ephemeris?site=lantern-ridge` });
+    expect(ingested.map((r) => r.status)).toEqual(['accepted']);
+    expect(res.statusCode).toBe(422);
+    expect(res.json().error.message).toMatch(/cannot be estimated/);
   });
 
   it('names an unknown site and refuses a table that is too long', async () => {

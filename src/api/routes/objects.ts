@@ -1,3 +1,4 @@
+import { EstimateRefusedError } from '../on-demand.js';
 import { z } from 'zod';
 import type { ApiContext } from '../context.js';
 import { ApiError } from '../errors.js';
@@ -110,15 +111,16 @@ export function objectRoutes(ctx: ApiContext): AnyRouteSpec[] {
         const n = Math.floor((end - start) / (query.step * 60_000)) + 1;
         if (n > MAX_EPHEMERIS_ROWS)
           throw new ApiError(400, 'bad_request', `${n} rows asked; at most ${MAX_EPHEMERIS_ROWS}`, [{ path: 'query.step', message: 'use a larger step or a shorter range' }]);
-        let estimate;
-        try {
-          estimate = ctx.estimateFor(params.id);
-        } catch (err) {
-          throw new ApiError(422, 'cannot_estimate', `object ${params.id} cannot be estimated: ${(err as Error).message}`);
-        }
-        if (!estimate) throw new ApiError(422, 'cannot_estimate', `object ${params.id} has no observations or orbit to estimate from`);
         const times = Array.from({ length: n }, (_, k) => new Date(start + k * query.step * 60_000));
-        return { objectId: params.id, siteId: site.id, method: estimate.summary.method, rows: estimate.ephemeris(site.location, times) };
+        let answer;
+        try {
+          answer = await ctx.onDemand.ephemeris(params.id, site.location, times);
+        } catch (err) {
+          if (err instanceof EstimateRefusedError) throw new ApiError(422, 'cannot_estimate', `object ${params.id} cannot be estimated: ${err.message}`);
+          throw err;
+        }
+        if (!answer) throw new ApiError(422, 'cannot_estimate', `object ${params.id} has no observations or orbit to estimate from`);
+        return { objectId: params.id, siteId: site.id, method: answer.method, rows: answer.rows };
       },
     }),
     defineRoute({

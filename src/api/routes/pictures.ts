@@ -1,6 +1,5 @@
 import { z } from 'zod';
 import type { Site } from '../../config/schema.js';
-import type { ObjectEstimate } from '../../orbit/estimate-types.js';
 import { nightAt, type Night } from '../../sky/night.js';
 import { parallacticAngleDeg } from '../../sky/site.js';
 import type { RequestRow } from '../../store/requests.js';
@@ -11,6 +10,7 @@ import { renderSkyChart, type SkyChartInput } from '../../views/sky-chart.js';
 import type { ApiContext } from '../context.js';
 import { CAUTIONS } from '../docs-page.js';
 import { ApiError } from '../errors.js';
+import { EstimateRefusedError } from '../on-demand.js';
 import { defineRoute, type AnyRouteSpec } from '../route-spec.js';
 import { errorSchema, idParams, isoTime } from '../schemas.js';
 
@@ -70,12 +70,13 @@ export function pictureRoutes(ctx: ApiContext): AnyRouteSpec[] {
       .flatMap((state) => store.requests.list({ state, limit: 500, ...filter }))
       .sort((a, b) => b.score - a.score || a.windowStart.localeCompare(b.windowStart) || a.id.localeCompare(b.id));
 
-  /** The object's estimate, or null when there is none or the estimator refuses (the pictures then use the request tables). */
-  const estimateOrNull = (objectId: string): ObjectEstimate | null => {
+  /** An on-demand answer, or null when there is none or the estimator refuses (the pictures then use the request tables). */
+  const orNull = async <T>(answer: Promise<T | null>): Promise<T | null> => {
     try {
-      return ctx.estimateFor(objectId);
-    } catch {
-      return null;
+      return await answer;
+    } catch (err) {
+      if (err instanceof EstimateRefusedError) return null;
+      throw err;
     }
   };
 
@@ -93,52 +94,36 @@ export function pictureRoutes(ctx: ApiContext): AnyRouteSpec[] {
     return [...byT.values()].sort((a, b) => Date.parse(a.t) - Date.parse(b.t));
   };
 
-  function nightSvg(site: Site, localDate: string): string {
+  async function nightSvg(site: Site, localDate: string): Promise<string> {
     const night = nightOf(site, localDate);
     const { startUtc, endUtc } = nightChartSpan(night);
     const open = openRequests({ siteId: site.id }).filter((r) => Date.parse(r.windowEnd) > startUtc.getTime() && Date.parse(r.windowStart) < endUtc.getTime());
     const byObject = new Map<string, RequestRow[]>();
     for (const r of open) byObject.set(r.objectId, [...(byObject.get(r.objectId) ?? []), r]);
     const times = sampleTimes(startUtc, endUtc);
-    const objects: NightObjectInput[] = [...byObject.entries()].map(([objectId, requests]) => {
-      const estimate = estimateOrNull(objectId);
-      let track: NightObjectInput['track'] | null = null;
-      if (estimate) {
-        try {
-          track = estimate.ephemeris(site.location, times).map((row) => ({ t: new Date(row.t), altDeg: row.alt }));
-        } catch {
-          track = null;
-        }
-      }
-      return {
+    const objects: NightObjectInput[] = [];
+    for (const [objectId, requests] of byObject) {
+      const answer = await orNull(ctx.onDemand.ephemeris(objectId, site.location, times));
+      const track: NightObjectInput['track'] | null = answer ? answer.rows.map((row) => ({ t: new Date(row.t), altDeg: row.alt })) : null;
+      objects.push({
         objectId,
         trackSource: track ? 'estimate' : 'request-table',
         track: track ?? tableOf(requests).map((row) => ({ t: new Date(row.t), altDeg: row.alt })),
         windows: requests.map((r) => ({ requestId: r.id, kind: r.kind, state: r.state, score: r.score, startUtc: new Date(r.windowStart), endUtc: new Date(r.windowEnd) })),
-      };
-    });
+      });
+    }
     return renderNightChart(buildNightChart({ site, localDate, night, objects, now: clock() }));
   }
 
-  function skySvg(objectId: string, siteId: string | undefined, t: Date): string {
+  async function skySvg(objectId: string, siteId: string | undefined, t: Date): Promise<string> {
     if (!store.objects.getObject(objectId)) throw new ApiError(404, 'not_found', `no object ${objectId}`);
     const objectOpen = openRequests({ objectId });
     const site = siteOr404(siteId ?? objectOpen[0]?.siteId ?? config.sites[0]!.id);
     const atSite = objectOpen.filter((r) => r.siteId === site.id);
-    const estimate = estimateOrNull(objectId);
-    let position: { row: PlanRow; source: SkyChartInput['positionSource'] } | null = null;
-    let members: SkyChartInput['members'] = null;
-    if (estimate) {
-      try {
-        const row = estimate.ephemeris(site.location, [t])[0];
-        if (row) position = { row, source: 'estimate' };
-        members = estimate.memberPositions ? estimate.memberPositions(site.location, t, MAX_MEMBER_POINTS) : null;
-      } catch {
-        // The estimator refused this time or site: fall back to the request tables below.
-        position = null;
-        members = null;
-      }
-    }
+    // When the estimator refuses this time or site, the request tables below give the position.
+    const view = await orNull(ctx.onDemand.skyView(objectId, site.location, t, MAX_MEMBER_POINTS));
+    let position: { row: PlanRow; source: SkyChartInput['positionSource'] } | null = view?.row ? { row: view.row, source: 'estimate' } : null;
+    const members: SkyChartInput['members'] = view?.row ? view.members : null;
     if (!position) {
       const candidates = atSite.length > 0 ? atSite : store.requests.list({ objectId, siteId: site.id, limit: 50 });
       const table = tableOf(candidates);
@@ -256,7 +241,7 @@ export function pictureRoutes(ctx: ApiContext): AnyRouteSpec[] {
       },
       handler: async ({ params, query, reply }) => {
         const site = siteOr404(params.id);
-        const svg = nightSvg(site, query.date ?? currentLocalDate(site, clock()));
+        const svg = await nightSvg(site, query.date ?? currentLocalDate(site, clock()));
         return reply.type(SVG_TYPE).header('cache-control', 'no-store').send(svg);
       },
     }),
@@ -280,7 +265,7 @@ export function pictureRoutes(ctx: ApiContext): AnyRouteSpec[] {
       },
       handler: async ({ params, query, reply }) => {
         const t = query.t ? new Date(query.t) : clock();
-        const svg = skySvg(params.id, query.site, t);
+        const svg = await skySvg(params.id, query.site, t);
         return reply.type(SVG_TYPE).header('cache-control', 'no-store').send(svg);
       },
     }),
