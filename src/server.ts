@@ -72,7 +72,7 @@ export async function startService(options: StartOptions): Promise<RunningServic
     futureToleranceMin: config.service.futureToleranceMin,
     observe: (source, r) => metrics.noticesReceived.inc({ source: source.split(':')[0] ?? source, result: r.status }),
   });
-  const workerEstimates = createOnDemandEstimates({ store, members: config.planning.members, clock });
+  const workerEstimates = createOnDemandEstimates({ store, members: config.planning.members, clock, rangePrior: config.planning.rangePrior });
   const app = await buildApp({
     onDemand: withRefusals(workerEstimates, (err) => err instanceof WorkerTaskError),
     config,

@@ -1,4 +1,5 @@
 import { loadConfig } from '../config/load.js';
+import { rangingFor, type RangePriorChoice } from '../planning/assess.js';
 import { locationSchema, type GeodeticLocation } from '../config/schema.js';
 import type { Notice, NoticeOrbit } from '../intake/notice.js';
 import { ephemerisFromElements, type EphemerisRow } from '../orbit/ephemeris.js';
@@ -19,7 +20,7 @@ import { UsageError } from './io.js';
  */
 export const HELP = `nightjar ephem --notice FILE (--site ID | --lat DEG --lon DEG --height M)
                (--times ISO[,ISO...] | --start ISO --end ISO --step MINUTES)
-               [--members N] [--seed S] [--json] [--config FILE]
+               [--members N] [--seed S] [--range-prior auto|population|powerLaw] [--json] [--config FILE]
 
 Prints where the object of a notice is, as seen from a site: astrometric ICRS
 RA/Dec (light-time corrected, no aberration), rates in arcsec/s (RA rate times
@@ -47,6 +48,10 @@ Options:
   --step MINUTES     grid spacing, minutes
   --members N        virtual orbits for a tracklet-only notice (default 1000)
   --seed S           seed of the virtual orbits' draws (default 1; same seed, same rows)
+  --range-prior P    range prior of a tracklet-only estimate: auto (default: the
+                     population prior for 3 or more positions, rho^0.5 for 2),
+                     population, or powerLaw (rho^0.5: wider regions, no
+                     preference against unusual orbits such as Earth-like ones)
   --json             print a JSON array of rows instead of text
   --config FILE      configuration file (default: NIGHTJAR_CONFIG, else the demo)
   -h, --help         show this help`;
@@ -77,6 +82,7 @@ interface Options {
   json?: boolean | undefined;
   members?: string | undefined;
   seed?: string | undefined;
+  'range-prior'?: string | undefined;
   config?: string | undefined;
   help?: boolean | undefined;
 }
@@ -161,6 +167,15 @@ export function roundRow(row: EphemerisRow): EphemerisRow {
   };
 }
 
+const RANGE_PRIORS = ['auto', 'population', 'powerLaw'] as const;
+
+function rangePriorOption(value: string | undefined): RangePriorChoice {
+  if (value === undefined) return 'auto';
+  const choice = RANGE_PRIORS.find((p) => p === value);
+  if (!choice) throw new UsageError(`--range-prior: ${value}; expected one of ${RANGE_PRIORS.join(', ')}`);
+  return choice;
+}
+
 function ensembleOptions(values: Options): { members: number; seed: number } {
   const members = values.members === undefined ? DEFAULT_MEMBERS : parseNumber('--members', values.members);
   if (!Number.isInteger(members) || members < 10 || members > 100_000) throw new UsageError(`--members: ${values.members}; expected a whole number from 10 to 100000`);
@@ -239,6 +254,7 @@ export const main: CommandMain = async (argv, io) => {
         json: { type: 'boolean' },
         members: { type: 'string' },
         seed: { type: 'string' },
+        'range-prior': { type: 'string' },
         config: { type: 'string' }
       }, HELP, io);
   if (parsed === null) return 0;
@@ -254,7 +270,14 @@ export const main: CommandMain = async (argv, io) => {
   const notice = read.notice;
   if (notice.orbit === undefined) {
     const { members, seed } = ensembleOptions(values);
-    const estimate = estimateObject({ objectId: notice.objectId, observations: trackletOf(notice), now: new Date(notice.issuedAt), members, seed });
+    const estimate = estimateObject({
+      objectId: notice.objectId,
+      observations: trackletOf(notice),
+      now: new Date(notice.issuedAt),
+      members,
+      seed,
+      ranging: rangingFor(rangePriorOption(values['range-prior'])),
+    });
     const rows = estimate.ephemeris(location, times).map((row) => roundRow(row));
     io.stdout(values.json ? `${JSON.stringify(rows, null, 2)}\n` : formatText(rows, notice, label));
     return 0;

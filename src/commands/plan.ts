@@ -140,6 +140,7 @@ export const main: CommandMain = async (argv: string[], io: CommandIo) => {
       horizonH: config.planning.horizonH,
       members,
       weights: weightsFromConfig(config.planning.weights),
+      rangePrior: config.planning.rangePrior,
       ...(seedOption !== undefined ? { seed: seedOption } : {}),
     });
   } catch (err) {

@@ -239,6 +239,13 @@ export const planningSchema = z
     horizonH: positive().max(240).default(36),
     /** Virtual orbits per tracklet-only estimate. */
     members: z.number().int().min(50).max(20_000).default(1000),
+    /**
+     * Range prior of the short-arc estimate (docs/accuracy.md): 'auto' = the
+     * population prior for three or more positions, rho^0.5 for two;
+     * 'population'; or 'powerLaw' (rho^0.5, less informative: wider regions,
+     * but no preference against unusual orbits such as Earth-like ones).
+     */
+    rangePrior: z.enum(['auto', 'population', 'powerLaw']).default('auto'),
     /** Score weights; missing ones take the documented defaults (docs/scoring.md). */
     weights: z
       .object({

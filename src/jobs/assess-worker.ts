@@ -4,7 +4,7 @@
  */
 import type { Site } from '../config/schema.js';
 import type { NoticeOrbitBlock } from '../orbit/estimation/index.js';
-import { assessObject } from '../planning/assess.js';
+import { assessObject, type RangePriorChoice } from '../planning/assess.js';
 import type { ScoreWeights } from '../planning/score.js';
 import type { AssessInput, AssessOutput } from './assessment-runner.js';
 import { serveWorkerTasks } from './worker-pool.js';
@@ -15,6 +15,7 @@ export interface AssessTask {
   horizonH: number;
   members: number;
   weights: Partial<ScoreWeights>;
+  rangePrior?: RangePriorChoice;
 }
 
 /** The assessment as the runner stores it. */
@@ -28,6 +29,7 @@ export function runAssessTask(task: AssessTask): AssessOutput {
     horizonH: task.horizonH,
     members: task.members,
     weights: task.weights,
+    ...(task.rangePrior ? { rangePrior: task.rangePrior } : {}),
   });
   return {
     summary: a.summary,

@@ -47,7 +47,8 @@ export function createAssessmentService(deps: {
     concurrency: size,
     ...(deps.metrics ? { metrics: deps.metrics } : {}),
     ...(deps.log ? { log: deps.log } : {}),
-    assessor: (input) => pool.run({ input, sites: config.sites, horizonH: config.planning.horizonH, members: config.planning.members, weights }),
+    assessor: (input) =>
+      pool.run({ input, sites: config.sites, horizonH: config.planning.horizonH, members: config.planning.members, weights, rangePrior: config.planning.rangePrior }),
   });
   const jobs: JobSpec[] = [
     { name: 'assess', schedule: '*/2 * * * * *', run: async () => void (await runner.drain()) },

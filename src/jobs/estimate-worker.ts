@@ -7,6 +7,7 @@ import type { GeodeticLocation } from '../config/schema.js';
 import type { EphemerisRow } from '../orbit/ephemeris.js';
 import { estimateObject, type NoticeOrbitBlock } from '../orbit/estimation/index.js';
 import { seedForObject, type ObjectEstimate } from '../orbit/estimate-types.js';
+import { rangingFor, type RangePriorChoice } from '../planning/assess.js';
 import type { AssessInput } from './assessment-runner.js';
 import { serveWorkerTasks } from './worker-pool.js';
 
@@ -15,6 +16,7 @@ export interface EstimateTask {
   /** Changes whenever the stored tracklet or orbit block changes. */
   dataKey: string;
   members: number;
+  rangePrior: RangePriorChoice;
   ask: { kind: 'rows'; location: GeodeticLocation; timesIso: string[] } | { kind: 'sky'; location: GeodeticLocation; tIso: string; maxMembers: number };
 }
 
@@ -30,7 +32,7 @@ export function createEstimateTaskHandler(): (task: EstimateTask) => EstimateAns
   const estimateOf = (task: EstimateTask): ObjectEstimate => {
     const nowMs = Date.parse(task.input.nowIso);
     const hit = kept.get(task.input.objectId);
-    if (hit && hit.dataKey === task.dataKey && nowMs - hit.atMs < KEEP_MS && nowMs >= hit.atMs) return hit.estimate;
+    if (hit && hit.dataKey === `${task.rangePrior}|${task.dataKey}` && nowMs - hit.atMs < KEEP_MS && nowMs >= hit.atMs) return hit.estimate;
     const estimate = estimateObject({
       objectId: task.input.objectId,
       observations: task.input.observations,
@@ -38,9 +40,10 @@ export function createEstimateTaskHandler(): (task: EstimateTask) => EstimateAns
       now: new Date(nowMs),
       members: task.members,
       seed: seedForObject(task.input.objectId),
+      ranging: rangingFor(task.rangePrior),
     });
     kept.delete(task.input.objectId);
-    kept.set(task.input.objectId, { dataKey: task.dataKey, atMs: nowMs, estimate });
+    kept.set(task.input.objectId, { dataKey: `${task.rangePrior}|${task.dataKey}`, atMs: nowMs, estimate });
     if (kept.size > MAX_KEPT) kept.delete(kept.keys().next().value!);
     return estimate;
   };

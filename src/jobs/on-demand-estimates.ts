@@ -1,5 +1,6 @@
 import type { GeodeticLocation } from '../config/schema.js';
 import type { EphemerisRow } from '../orbit/ephemeris.js';
+import type { RangePriorChoice } from '../planning/assess.js';
 import type { Store } from '../store/index.js';
 import { assessInputFor } from './assessment-runner.js';
 import type { EstimateAnswer, EstimateTask } from './estimate-worker.js';
@@ -24,7 +25,7 @@ export interface WorkerEstimates {
   close(): Promise<void>;
 }
 
-export function createOnDemandEstimates(deps: { store: Store; members: number; clock: () => Date }): WorkerEstimates {
+export function createOnDemandEstimates(deps: { store: Store; members: number; clock: () => Date; rangePrior?: RangePriorChoice }): WorkerEstimates {
   let pool: WorkerPool<EstimateTask, EstimateAnswer> | null = null;
   const ask = async (objectId: string, question: EstimateTask['ask']): Promise<EstimateAnswer | null> => {
     const object = deps.store.objects.getObject(objectId);
@@ -33,7 +34,7 @@ export function createOnDemandEstimates(deps: { store: Store; members: number; c
     if (input.observations.length === 0 && !input.orbit) return null;
     const dataKey = `${input.observations.length}|${input.observations.at(-1)?.t ?? ''}|${object.orbit ?? ''}`;
     pool ??= createWorkerPool<EstimateTask, EstimateAnswer>(estimateWorkerUrl(), 1);
-    return pool.run({ input, dataKey, members: deps.members, ask: question });
+    return pool.run({ input, dataKey, members: deps.members, rangePrior: deps.rangePrior ?? 'auto', ask: question });
   };
   return {
     async ephemeris(objectId, location, timesUtc) {

@@ -1,6 +1,6 @@
 import type { Site } from '../config/schema.js';
 import { seedForObject, type EstimateSummary, type TrackletObservation } from '../orbit/estimate-types.js';
-import { estimateObject, type NoticeOrbitBlock } from '../orbit/estimation/index.js';
+import { estimateObject, type NoticeOrbitBlock, type RangePriorKind } from '../orbit/estimation/index.js';
 import type { ScoreWeights } from './score.js';
 import { planObject, type ObjectPlan, type PlannedRequest } from './plan-object.js';
 
@@ -16,6 +16,16 @@ export interface AssessmentInput {
   weights?: Partial<ScoreWeights>;
   /** Seed of the virtual orbits; default derived from the object id, so a replan of the same data gives the same answer. */
   seed?: number;
+  /** Range prior of the estimate; 'auto' (default) lets the estimator choose by the number of positions. */
+  rangePrior?: RangePriorChoice;
+}
+
+/** The configuration's range-prior choice. */
+export type RangePriorChoice = 'auto' | RangePriorKind;
+
+/** Ranging options for a range-prior choice ('auto' leaves the estimator's default). */
+export function rangingFor(choice: RangePriorChoice | undefined): { rangePrior?: RangePriorKind } {
+  return choice === undefined || choice === 'auto' ? {} : { rangePrior: choice };
 }
 
 export interface Assessment {
@@ -57,6 +67,7 @@ export function assessObject(input: AssessmentInput): Assessment {
     now: input.now,
     members: input.members,
     seed: input.seed ?? seedForObject(input.objectId),
+    ranging: rangingFor(input.rangePrior),
   });
   const plan = planObject({
     estimate,

@@ -115,6 +115,25 @@ describe('nightjar ephem', () => {
     expect(text).toMatch(/unc 1-sigma/);
   });
 
+  it('estimates with the less informative rho^0.5 prior when asked, giving a different, wider region a day later', async () => {
+    const rowsWith = async (prior: string) => {
+      const io = collectingIo();
+      const args = ['--notice', trackletOnlyPath, '--site', 'lantern-ridge', '--times', '2026-12-01T05:00:00Z', '--members', '300', '--seed', '3', '--range-prior', prior, '--json'];
+      expect(await main(args, io)).toBe(0);
+      return JSON.parse(io.out.join('')) as { unc: { major: number } }[];
+    };
+    const [population] = await rowsWith('population');
+    const [powerLaw] = await rowsWith('powerLaw');
+    // A prior flat-ish in range (rho^0.5) keeps more of the distances a short arc allows.
+    expect(powerLaw!.unc.major).toBeGreaterThan(population!.unc.major);
+  });
+
+  it('names the range-prior option and its choices for an unknown prior', async () => {
+    await expect(main(['--notice', trackletOnlyPath, '--site', 'lantern-ridge', '--times', '2026-11-30T06:00:00Z', '--range-prior', 'flat'], collectingIo())).rejects.toThrow(
+      /--range-prior: flat; expected one of auto, population, powerLaw/,
+    );
+  });
+
   it('refuses a member count that is not a whole number from 10 to 100000', async () => {
     await expect(main(['--notice', trackletOnlyPath, '--site', 'lantern-ridge', '--times', '2026-11-30T06:00:00Z', '--members', '5'], collectingIo())).rejects.toThrow(UsageError);
     await expect(main(['--notice', trackletOnlyPath, '--site', 'lantern-ridge', '--times', '2026-11-30T06:00:00Z', '--seed', '1.5'], collectingIo())).rejects.toThrow(/--seed/);

@@ -33,6 +33,15 @@ describe('configuration', () => {
     expect(issuesOf(raw)).toEqual(['sites[0].limits.minAltitudeDeg: expected a number >= 0']);
   });
 
+  it('takes the range prior from planning.rangePrior, auto unless set, and names an unknown one by its path', () => {
+    expect(loadConfig({ env: {} }).planning.rangePrior).toBe('auto');
+    const raw = demoConfigRaw();
+    raw['planning'] = { ...(raw['planning'] as object), rangePrior: 'flat' };
+    const issues = issuesOf(raw);
+    expect(issues).toHaveLength(1);
+    expect(issues[0]).toMatch(/^planning\.rangePrior: .*"auto"\|"population"\|"powerLaw"/);
+  });
+
   it('lists every problem, not only the first', () => {
     const raw = demoConfigRaw();
     const site = (raw['sites'] as Record<string, unknown>[])[1]!;

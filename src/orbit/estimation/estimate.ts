@@ -519,6 +519,11 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
       if (moved !== null) nominal = moved;
     }
     rangingInfo = { passes: ranging.passes, evaluatedNodes: ranging.evaluatedNodes, minChiSquare: ranging.minChiSquare };
+    notes.push(
+      ranging.prior === 'population'
+        ? 'range prior: population model (main belt, near-Earth objects and a floor for every bound orbit; docs/accuracy.md)'
+        : `range prior: rho^${ranging.priorExponent ?? ''} power law (less informative)`,
+    );
     if (attributable!.degreesOfFreedom === 0) notes.push('the fit has no redundancy (as many parameters as measurements): the uncertainty rests on the stated sigmas alone');
   }
 

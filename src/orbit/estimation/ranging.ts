@@ -109,6 +109,9 @@ export interface RangingResult {
   readonly passes: number;
   readonly minChiSquare: number;
   readonly evaluatedNodes: number;
+  /** The range prior used, and its exponent when it is the power law. */
+  readonly prior: RangePriorKind;
+  readonly priorExponent: number | null;
   /** Builds the heliocentric state (EQJ, au, au/day, at epochTt) of a node's parameters. */
   readonly stateOf: (params: readonly number[], rangeAu: number, rangeRateAuPerDay: number) => HeliocentricState;
 }
@@ -427,6 +430,8 @@ export function systematicRanging(observations: readonly PreparedObservation[], 
     passes: pass,
     minChiSquare: minChi,
     evaluatedNodes: evaluated,
+    prior,
+    priorExponent: prior === 'powerLaw' ? k : null,
     stateOf: (params, rho, rate) => stateOf(ctx, params, rho, rate),
   };
 }

@@ -29,6 +29,12 @@ describe('estimateObject from a tracklet', () => {
     expect(p95 / p5).toBeLessThan(1.5);
   });
 
+  it('says in its notes which range prior it used', () => {
+    expect(estimate.summary.notes.some((n) => n.startsWith('range prior: population model'))).toBe(true);
+    const powerLaw = estimateObject({ objectId: close6.id, observations: close6.observations, now: new Date(close6.lastObservationMs), members: 50, seed: 7, ranging: { rangePrior: 'powerLaw' } });
+    expect(powerLaw.summary.notes).toContain('range prior: rho^0.5 power law (less informative)');
+  });
+
   it('is reproducible with a seed and changes with another seed', () => {
     const again = estimateObject({ objectId: close6.id, observations: close6.observations, now: new Date(close6.lastObservationMs), members: MEMBERS, seed: 7 });
     const other = estimateObject({ objectId: close6.id, observations: close6.observations, now: new Date(close6.lastObservationMs), members: MEMBERS, seed: 8 });
