@@ -1,6 +1,6 @@
 import type { Site, SiteLimits } from '../config/schema.js';
 import { SkyInputError, requireDate, requireFinite } from './errors.js';
-import { airmassKastenYoung, altitudeForAirmassDeg, angleBetweenDeg, apparentInFrame, type ApparentTarget, type SiteFrame } from './site.js';
+import { airmassKastenYoung, altitudeForAirmassDeg, angleBetweenDeg, apparentInFrame, type ApparentTarget } from './site.js';
 import { skyAt, type SkyAt } from './timeline.js';
 
 export type { SkyAt } from './timeline.js';

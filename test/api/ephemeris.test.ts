@@ -22,6 +22,13 @@ afterEach(async () => {
   estimates = null;
 });
 
+/** The app with the service's own on-demand path: estimates run in a worker thread. */
+async function startApp(store: ReturnType<typeof memoryStore>, members: number): Promise<void> {
+  const clock = () => NOW;
+  estimates = createOnDemandEstimates({ store, members, clock });
+  app = await buildApp({ config: demoConfig(), store, clock, migrationsDir: MIGRATIONS_DIR, onDemand: withRefusals(estimates, (err) => err instanceof WorkerTaskError) });
+}
+
 async function setup(withOrbit: boolean) {
   const clock = () => NOW;
   const store = memoryStore(clock);
@@ -31,9 +38,7 @@ async function setup(withOrbit: boolean) {
   const orbit = notice['orbit'] as NoticeOrbit;
   if (!withOrbit) delete notice['orbit'];
   createIntake({ notices: store.notices, clock, futureToleranceMin: 5 }).ingestJson(JSON.stringify(notice), 'test');
-  // The service's own path: the estimate runs in a worker thread.
-  estimates = createOnDemandEstimates({ store, members: 1000, clock });
-  app = await buildApp({ config, store, clock, migrationsDir: MIGRATIONS_DIR, onDemand: withRefusals(estimates, (err) => err instanceof WorkerTaskError) });
+  await startApp(store, 1000);
   return { objectId: String(notice['objectId']), orbit, site: config.sites[0]! };
 }
 
@@ -70,11 +75,10 @@ describe('GET /v1/objects/{id}/ephemeris', () => {
   it('answers 422 with the estimator\'s reason when the stored tracklet cannot be estimated', async () => {
     const clock = () => NOW;
     const store = memoryStore(clock);
-    const config = demoConfig();
     // Three positions ten minutes apart at one place: the notice is valid, the estimator finds no motion to fit.
     const notice = {
       format: 'nightjar.notice.v1',
-      noticeId: 'same-instant',
+      noticeId: 'motionless',
       sender: 'Example Survey (invented)',
       issuedAt: '2027-03-04T05:00:00Z',
       objectId: 'ZX27Q99',
@@ -86,9 +90,8 @@ describe('GET /v1/objects/{id}/ephemeris', () => {
       ],
     };
     const ingested = createIntake({ notices: store.notices, clock, futureToleranceMin: 5 }).ingestJson(JSON.stringify(notice), 'test');
-    estimates = createOnDemandEstimates({ store, members: 200, clock });
-    app = await buildApp({ config, store, clock, migrationsDir: MIGRATIONS_DIR, onDemand: withRefusals(estimates, (err) => err instanceof WorkerTaskError) });
-    const res = await app.inject({ url: `/v1/objects/ZX27Q99/ephemeris?site=lantern-ridge` });
+    await startApp(store, 200);
+    const res = await app!.inject({ url: `/v1/objects/ZX27Q99/ephemeris?site=lantern-ridge` });
     expect(ingested.map((r) => r.status)).toEqual(['accepted']);
     expect(res.statusCode).toBe(422);
     expect(res.json().error.message).toMatch(/cannot be estimated/);

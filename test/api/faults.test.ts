@@ -1,5 +1,5 @@
 import { connect } from 'node:net';
-import Fastify, { type FastifyInstance } from 'fastify';
+import Fastify from 'fastify';
 import { afterEach, describe, expect, it } from 'vitest';
 import { buildApp } from '../../src/api/app.js';
 import { MIGRATIONS_DIR } from '../../src/config/load.js';

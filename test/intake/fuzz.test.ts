@@ -1,5 +1,5 @@
 import fc from 'fast-check';
-import { describe, expect, it } from 'vitest';
+import { describe, it } from 'vitest';
 import { parseNotice } from '../../src/intake/notice.js';
 import { splitJsonPayload, splitNdjsonPayload } from '../../src/intake/payload.js';
 import { exampleNotice } from '../helpers.js';
