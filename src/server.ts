@@ -15,8 +15,7 @@ import { createServiceMetrics } from './telemetry/metrics.js';
 import { createJobRunner, type JobRunner } from './jobs/scheduler.js';
 import { openStore, type Store } from './store/index.js';
 import { withRefusals } from './api/on-demand.js';
-import { createOnDemandEstimates } from './jobs/on-demand-estimates.js';
-import { WorkerTaskError } from './jobs/worker-pool.js';
+import { createOnDemandEstimates, isEstimatorRefusal } from './jobs/on-demand-estimates.js';
 
 export interface RunningService {
   app: FastifyInstance;
@@ -74,7 +73,7 @@ export async function startService(options: StartOptions): Promise<RunningServic
   });
   const workerEstimates = createOnDemandEstimates({ store, members: config.planning.members, clock, rangePrior: config.planning.rangePrior });
   const app = await buildApp({
-    onDemand: withRefusals(workerEstimates, (err) => err instanceof WorkerTaskError),
+    onDemand: withRefusals(workerEstimates, isEstimatorRefusal),
     config,
     store,
     clock,

@@ -4,7 +4,15 @@ import type { RangePriorChoice } from '../planning/assess.js';
 import type { Store } from '../store/index.js';
 import { assessInputFor } from './assessment-runner.js';
 import type { EstimateAnswer, EstimateTask } from './estimate-worker.js';
-import { createWorkerPool, type WorkerPool } from './worker-pool.js';
+import { createWorkerPool, WorkerTaskError, type WorkerPool } from './worker-pool.js';
+
+/** The typed errors by which the numeric modules refuse input (their names, as they cross the thread boundary). */
+const REFUSAL_NAMES = new Set(['EstimationInputError', 'EstimationFailedError', 'OrbitInputError', 'OrbitConvergenceError', 'PhotometryInputError', 'SkyInputError']);
+
+/** True when an on-demand estimate failed because the estimator refused the data (not a fault of the service). */
+export function isEstimatorRefusal(err: unknown): boolean {
+  return err instanceof WorkerTaskError && REFUSAL_NAMES.has(err.remoteName);
+}
 
 /** The worker script beside this module (TypeScript under tsx and vitest, JavaScript when built). */
 function estimateWorkerUrl(): URL {

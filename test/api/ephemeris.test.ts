@@ -5,7 +5,7 @@ import { withRefusals } from '../../src/api/on-demand.js';
 import { elementsFromNoticeOrbit } from '../../src/commands/ephem.js';
 import { MIGRATIONS_DIR } from '../../src/config/load.js';
 import { createIntake } from '../../src/intake/ingest.js';
-import { createOnDemandEstimates, type WorkerEstimates } from '../../src/jobs/on-demand-estimates.js';
+import { createOnDemandEstimates, isEstimatorRefusal, type WorkerEstimates } from '../../src/jobs/on-demand-estimates.js';
 import { WorkerTaskError } from '../../src/jobs/worker-pool.js';
 import type { NoticeOrbit } from '../../src/intake/notice.js';
 import { ephemerisFromElements } from '../../src/orbit/ephemeris.js';
@@ -26,7 +26,7 @@ afterEach(async () => {
 async function startApp(store: ReturnType<typeof memoryStore>, members: number): Promise<void> {
   const clock = () => NOW;
   estimates = createOnDemandEstimates({ store, members, clock });
-  app = await buildApp({ config: demoConfig(), store, clock, migrationsDir: MIGRATIONS_DIR, onDemand: withRefusals(estimates, (err) => err instanceof WorkerTaskError) });
+  app = await buildApp({ config: demoConfig(), store, clock, migrationsDir: MIGRATIONS_DIR, onDemand: withRefusals(estimates, isEstimatorRefusal) });
 }
 
 async function setup(withOrbit: boolean) {
@@ -95,6 +95,12 @@ describe('GET /v1/objects/{id}/ephemeris', () => {
     expect(ingested.map((r) => r.status)).toEqual(['accepted']);
     expect(res.statusCode).toBe(422);
     expect(res.json().error.message).toMatch(/cannot be estimated/);
+  });
+
+  it('counts only the numeric modules\' typed refusals as 422, not a fault inside the worker', () => {
+    expect(isEstimatorRefusal(new WorkerTaskError('observations = 3: no motion', 'EstimationInputError'))).toBe(true);
+    expect(isEstimatorRefusal(new WorkerTaskError('x is undefined', 'TypeError'))).toBe(false);
+    expect(isEstimatorRefusal(new Error('worker pool closed'))).toBe(false);
   });
 
   it('names an unknown site and refuses a table that is too long', async () => {
