@@ -1,6 +1,6 @@
 import { loadConfig } from '../config/load.js';
 import { rangingFor, type RangePriorChoice } from '../planning/assess.js';
-import { locationSchema, type GeodeticLocation } from '../config/schema.js';
+import { locationSchema, RANGE_PRIOR_CHOICES, type GeodeticLocation } from '../config/schema.js';
 import type { Notice, NoticeOrbit } from '../intake/notice.js';
 import { ephemerisFromElements, type EphemerisRow } from '../orbit/ephemeris.js';
 import type { PerihelionElements } from '../orbit/elements.js';
@@ -167,12 +167,10 @@ export function roundRow(row: EphemerisRow): EphemerisRow {
   };
 }
 
-const RANGE_PRIORS = ['auto', 'population', 'powerLaw'] as const;
-
 function rangePriorOption(value: string | undefined): RangePriorChoice {
   if (value === undefined) return 'auto';
-  const choice = RANGE_PRIORS.find((p) => p === value);
-  if (!choice) throw new UsageError(`--range-prior: ${value}; expected one of ${RANGE_PRIORS.join(', ')}`);
+  const choice = RANGE_PRIOR_CHOICES.find((p) => p === value);
+  if (!choice) throw new UsageError(`--range-prior: ${value}; expected one of ${RANGE_PRIOR_CHOICES.join(', ')}`);
   return choice;
 }
 

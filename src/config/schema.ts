@@ -234,6 +234,10 @@ export const serviceSchema = z
 
 const weight = () => finite().min(0).max(100).optional();
 
+/** The range priors a configuration or command may choose (docs/accuracy.md). */
+export const RANGE_PRIOR_CHOICES = ['auto', 'population', 'powerLaw'] as const;
+export type RangePriorChoice = (typeof RANGE_PRIOR_CHOICES)[number];
+
 export const planningSchema = z
   .object({
     horizonH: positive().max(240).default(36),
@@ -245,7 +249,7 @@ export const planningSchema = z
      * 'population'; or 'powerLaw' (rho^0.5, less informative: wider regions,
      * but no preference against unusual orbits such as Earth-like ones).
      */
-    rangePrior: z.enum(['auto', 'population', 'powerLaw']).default('auto'),
+    rangePrior: z.enum(RANGE_PRIOR_CHOICES).default('auto'),
     /** Score weights; missing ones take the documented defaults (docs/scoring.md). */
     weights: z
       .object({

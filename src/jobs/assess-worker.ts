@@ -7,6 +7,7 @@ import type { NoticeOrbitBlock } from '../orbit/estimation/index.js';
 import { assessObject, type RangePriorChoice } from '../planning/assess.js';
 import type { ScoreWeights } from '../planning/score.js';
 import type { AssessInput, AssessOutput } from './assessment-runner.js';
+import { storedRequest } from './stored-request.js';
 import { serveWorkerTasks } from './worker-pool.js';
 
 export interface AssessTask {
@@ -34,16 +35,7 @@ export function runAssessTask(task: AssessTask): AssessOutput {
   return {
     summary: a.summary,
     retireReason: a.retireReason,
-    requests: a.requests.map((r) => ({
-      siteId: r.siteId,
-      kind: r.kind,
-      score: r.score,
-      windowStart: r.windowStart,
-      windowEnd: r.windowEnd,
-      recommendedStart: r.recommendedStart,
-      expiresAt: r.expiresAt,
-      body: r.body,
-    })),
+    requests: a.requests.map(storedRequest),
   };
 }
 

@@ -31,8 +31,9 @@ export function createEstimateTaskHandler(): (task: EstimateTask) => EstimateAns
   const kept = new Map<string, { dataKey: string; atMs: number; estimate: ObjectEstimate }>();
   const estimateOf = (task: EstimateTask): ObjectEstimate => {
     const nowMs = Date.parse(task.input.nowIso);
+    const dataKey = `${task.rangePrior}|${task.dataKey}`;
     const hit = kept.get(task.input.objectId);
-    if (hit && hit.dataKey === `${task.rangePrior}|${task.dataKey}` && nowMs - hit.atMs < KEEP_MS && nowMs >= hit.atMs) return hit.estimate;
+    if (hit && hit.dataKey === dataKey && nowMs - hit.atMs < KEEP_MS && nowMs >= hit.atMs) return hit.estimate;
     const estimate = estimateObject({
       objectId: task.input.objectId,
       observations: task.input.observations,
@@ -43,7 +44,7 @@ export function createEstimateTaskHandler(): (task: EstimateTask) => EstimateAns
       ranging: rangingFor(task.rangePrior),
     });
     kept.delete(task.input.objectId);
-    kept.set(task.input.objectId, { dataKey: `${task.rangePrior}|${task.dataKey}`, atMs: nowMs, estimate });
+    kept.set(task.input.objectId, { dataKey, atMs: nowMs, estimate });
     if (kept.size > MAX_KEPT) kept.delete(kept.keys().next().value!);
     return estimate;
   };

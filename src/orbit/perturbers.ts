@@ -60,6 +60,14 @@ export class PerturberTable {
     return data;
   }
 
+  /** Heliocentric EQJ state of one body of PERTURBING_BODIES at TT `tt` (au, au/day), interpolated as statesAt. */
+  bodyStateAt(bodyIndex: number, tt: number): { x: number; y: number; z: number; vx: number; vy: number; vz: number } {
+    const pos = new Float64Array(3 * this.bodyCount), vel = new Float64Array(3 * this.bodyCount);
+    this.statesAt(tt, pos, vel);
+    const o = 3 * bodyIndex;
+    return { x: pos[o]!, y: pos[o + 1]!, z: pos[o + 2]!, vx: vel[o]!, vy: vel[o + 1]!, vz: vel[o + 2]! };
+  }
+
   /**
    * Writes heliocentric EQJ positions (au) of every perturber at TT `tt` into
    * `positions` (3 per body) and, when given, velocities (au/day) into `velocities`.

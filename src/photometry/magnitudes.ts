@@ -18,6 +18,9 @@ function checkGeometry(rAu: number, deltaAu: number, phaseDeg: number): void {
   requireInRange('phaseDeg (Sun-object-observer angle, deg)', phaseDeg, 0, MAX_PHASE_DEG);
 }
 
+/** A_i and B_i of the approximate H-G phase functions (Bowell et al. 1989), shared by the scalar and ensemble forms. */
+const HG_A1 = 3.33, HG_B1 = 0.63, HG_A2 = 1.87, HG_B2 = 1.22;
+
 /** The two basis phase functions of the H-G system at one phase angle. */
 export interface PhaseFunctionsHG {
   phi1: number;
@@ -35,8 +38,8 @@ export function phaseFunctionsHG(phaseDeg: number): PhaseFunctionsHG {
   requireInRange('phaseDeg (Sun-object-observer angle, deg)', phaseDeg, 0, MAX_PHASE_DEG);
   const tanHalf = Math.tan((phaseDeg * DEG) / 2);
   return {
-    phi1: Math.exp(-3.33 * Math.pow(tanHalf, 0.63)),
-    phi2: Math.exp(-1.87 * Math.pow(tanHalf, 1.22)),
+    phi1: Math.exp(-HG_A1 * Math.pow(tanHalf, HG_B1)),
+    phi2: Math.exp(-HG_A2 * Math.pow(tanHalf, HG_B2)),
   };
 }
 
@@ -121,7 +124,7 @@ export function apparentMagnitudesHG(
     }
     // tan^B as exp(B ln tan), and one logarithm for distance and phase terms: V = H + 2.5 log10((r Delta)^2 / blend).
     const logTan = Math.log(Math.tan((phase * DEG) / 2));
-    const blend = phase === 0 ? 1 : (1 - g) * Math.exp(-3.33 * Math.exp(0.63 * logTan)) + g * Math.exp(-1.87 * Math.exp(1.22 * logTan));
+    const blend = phase === 0 ? 1 : (1 - g) * Math.exp(-HG_A1 * Math.exp(HG_B1 * logTan)) + g * Math.exp(-HG_A2 * Math.exp(HG_B2 * logTan));
     const rd = r * d;
     const v = blend > 0 ? h + LOG10_SCALE_2_5 * Math.log((rd * rd) / blend) : Number.NaN;
     out[m] = v;

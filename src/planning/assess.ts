@@ -1,4 +1,4 @@
-import type { Site } from '../config/schema.js';
+import type { RangePriorChoice, Site } from '../config/schema.js';
 import { seedForObject, type EstimateSummary, type TrackletObservation } from '../orbit/estimate-types.js';
 import { estimateObject, type NoticeOrbitBlock, type RangePriorKind } from '../orbit/estimation/index.js';
 import type { ScoreWeights } from './score.js';
@@ -20,8 +20,7 @@ export interface AssessmentInput {
   rangePrior?: RangePriorChoice;
 }
 
-/** The configuration's range-prior choice. */
-export type RangePriorChoice = 'auto' | RangePriorKind;
+export type { RangePriorChoice };
 
 /** Ranging options for a range-prior choice ('auto' leaves the estimator's default). */
 export function rangingFor(choice: RangePriorChoice | undefined): { rangePrior?: RangePriorKind } {

@@ -27,10 +27,10 @@ export const TRACK_STEP_MIN = 20;
  * The ensemble's ellipse and magnitude spread are computed at every third
  * track sample (hourly) and interpolated between, except where they change
  * fast (the estimate then fills in those samples). Measured on 20 simulated
- * objects, 36 h, two sites (`.. every 3` against every sample): major axis
- * within 1.9 % at the 99th percentile (7.4 % worst), position angle of
- * elongated ellipses within 1.3 deg, magnitude sigma within 0.002 mag, for
- * about a quarter less planning time.
+ * objects, 36 h, two sites, against the ensemble at every sample: major axis
+ * within 2.2 % at the 99th percentile (7.4 % worst), position angle of
+ * elongated ellipses within 1.3 deg, magnitude sigma within 0.003 mag, for
+ * about a quarter less time on the track.
  */
 export const TRACK_SPREAD_EVERY = 3;
 const DEG_PER_ARCSEC = 1 / 3600;

@@ -17,7 +17,9 @@ import { mkdtempSync } from 'node:fs';
 import { join } from 'node:path';
 import { parseArgs } from 'node:util';
 import pino from 'pino';
+import { trackletOf } from '../../src/commands/notice-file.js';
 import { loadConfig } from '../../src/config/load.js';
+import { parseNotice } from '../../src/intake/notice.js';
 import { runAssessTask } from '../../src/jobs/assess-worker.js';
 import { simulateNight } from '../../src/planning/simulate.js';
 import { startService } from '../../src/server.js';
@@ -57,21 +59,9 @@ async function latency(): Promise<void> {
   const times: number[] = [];
   let coldMs = 0;
   for (const [index, n] of notices.entries()) {
-    const observer = n['observer'] as { lat: number; lon: number; height: number };
-    const input = {
-      objectId: String(n['objectId']),
-      nowIso: now.toISOString(),
-      orbit: null,
-      observations: (n['observations'] as { t: string; ra: number; dec: number; sigma: number; mag?: number; band?: string }[]).map((o) => ({
-        t: o.t,
-        raDeg: o.ra,
-        decDeg: o.dec,
-        sigmaArcsec: o.sigma,
-        mag: o.mag ?? null,
-        band: o.band ?? null,
-        observer: { latDeg: observer.lat, lonDeg: observer.lon, heightM: observer.height },
-      })),
-    };
+    const parsed = parseNotice(n, { now, checkAge: false });
+    if (!parsed.ok) throw new Error(`simulated notice refused: ${parsed.issues.map((i) => `${i.path}: ${i.message}`).join('; ')}`);
+    const input = { objectId: parsed.notice.objectId, nowIso: now.toISOString(), orbit: null, observations: trackletOf(parsed.notice) };
     const t0 = performance.now();
     runAssessTask({ input, sites: config.sites, horizonH: config.planning.horizonH, members: MEMBERS, weights: {} });
     if (index === 0) coldMs = performance.now() - t0;

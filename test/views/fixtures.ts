@@ -5,6 +5,7 @@ import type { ObjectEstimate } from '../../src/orbit/estimate-types.js';
 import { estimateFromState } from '../../src/planning/estimate-from-elements.js';
 import { planObject } from '../../src/planning/plan-object.js';
 import { inventState } from '../../src/planning/simulate.js';
+import { storedRequest } from '../../src/jobs/stored-request.js';
 import type { NewRequest } from '../../src/store/requests.js';
 
 /**
@@ -72,16 +73,5 @@ export function inventedEstimate(o: InventedObject, options: { members?: boolean
 /** The planner's requests for an estimate at the given sites, as the store takes them. */
 export function plannedRequests(estimate: ObjectEstimate, sites: Site[], now = NOW, horizonH = 12): NewRequest[] {
   const plan = planObject({ estimate, sites, now, horizonH });
-  return plan.sites.flatMap((s) =>
-    s.requests.map((r) => ({
-      siteId: r.siteId,
-      kind: r.kind,
-      score: r.score,
-      windowStart: r.windowStart,
-      windowEnd: r.windowEnd,
-      recommendedStart: r.recommendedStart,
-      expiresAt: r.expiresAt,
-      body: r.body,
-    })),
-  );
+  return plan.sites.flatMap((s) => s.requests.map(storedRequest));
 }

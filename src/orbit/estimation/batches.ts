@@ -54,13 +54,17 @@ export function batchedEnsemblePlacesForSites(
   return viewpoints.length === 0 ? [] : gatherBatches(states, viewpoints, timesUtc, windowDays, options);
 }
 
+/** The options with a perturber table every batch shares (the caller's, else a new one). */
+function withPerturberTable(options: PropagationOptions): PropagationOptions & { perturbers: PerturberTable } {
+  return { ...options, perturbers: options.perturbers ?? new PerturberTable(options.perturberNodeDays ?? 0.125) };
+}
+
 function gatherBatches(states: readonly HeliocentricState[], viewpoints: readonly Viewpoint[], timesUtc: readonly Date[], windowDays: number, options: PropagationOptions): EnsemblePlaces[] {
   const n = states.length;
   const outs = viewpoints.map(() => placeArrays(n * timesUtc.length));
   // Shared by every batch: the perturbers' nodes and the observer at each time (its Earth from the same table).
-  const perturbers = options.perturbers ?? new PerturberTable(options.perturberNodeDays ?? 0.125);
-  const shared: PropagationOptions = { ...options, perturbers };
-  const observers = observerGeometries(viewpoints, timesUtc, perturbers);
+  const shared = withPerturberTable(options);
+  const observers = observerGeometries(viewpoints, timesUtc, shared.perturbers);
   for (const batch of encounterBatches(states, windowDays)) {
     streamEnsemblePlacesForSites(
       batch.map((i) => states[i]!),
@@ -99,7 +103,7 @@ export function batchedStream(
   sink: (timeIndex: number, member: number, position: Float64Array, velocity: Float64Array, offset: number) => void,
   options: PropagationOptions = {},
 ): void {
-  const shared: PropagationOptions = { ...options, perturbers: options.perturbers ?? new PerturberTable(options.perturberNodeDays ?? 0.125) };
+  const shared = withPerturberTable(options);
   for (const batch of encounterBatches(states, windowDays)) {
     streamEnsemble(
       batch.map((i) => states[i]!),

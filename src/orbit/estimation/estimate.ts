@@ -4,7 +4,7 @@ import { ARCSEC_PER_RAD, GM_SUN_AU3_PER_DAY2, KM_PER_AU, RAD_PER_DEG } from '../
 import { stateFromPerihelionElements, type HeliocentricState, type PerihelionElements } from '../elements.js';
 import { astrometricPlace, DEFAULT_SLOPE_G, ensemblePlaces, observerGeometry, rowsFromPlaces, type EnsemblePlaces, type EphemerisRow, type UncertaintyEllipse } from '../ephemeris.js';
 import type { EphemerisOptions, EstimateSummary, ObjectEstimate, Percentiles, ResidualRow, TrackletObservation } from '../estimate-types.js';
-import { EARTH_INDEX, PERTURBING_BODIES, PerturberTable } from '../perturbers.js';
+import { EARTH_INDEX, PerturberTable } from '../perturbers.js';
 import { streamEnsemble } from '../propagate.js';
 import { ttFromTtIso, ttFromUtc, utcFromTt } from '../time.js';
 import { batchedEnsemblePlaces, batchedEnsemblePlacesForSites, batchedStream } from './batches.js';
@@ -176,12 +176,7 @@ function minimumGeocentricDistances(states: readonly HeliocentricState[], startT
   const half = days / (sampleCount - 1) / 2;
   const best = new Float64Array(n).fill(Infinity);
   // The Earth's state at each sample from the propagation's own perturber table (Hermite between its nodes, ~1e-12 au).
-  const bodyPos = new Float64Array(3 * PERTURBING_BODIES.length), bodyVel = new Float64Array(3 * PERTURBING_BODIES.length);
-  const earthAt = times.map((tt) => {
-    perturbers.statesAt(tt, bodyPos, bodyVel);
-    const e = 3 * EARTH_INDEX;
-    return { x: bodyPos[e]!, y: bodyPos[e + 1]!, z: bodyPos[e + 2]!, vx: bodyVel[e]!, vy: bodyVel[e + 1]!, vz: bodyVel[e + 2]! };
-  });
+  const earthAt = times.map((tt) => perturbers.bodyStateAt(EARTH_INDEX, tt));
   batchedStream(
     states,
     times,
@@ -621,17 +616,15 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
     for (let s = 0; s + 1 < coarse.length; s++) {
       if (coarseRows.some((rows) => spreadChangesFast(rows[s]!.unc, rows[s + 1]!.unc))) for (let i = coarse[s]! + 1; i < coarse[s + 1]!; i++) refine.push(i);
     }
-    const refinedRows = refine.length > 0 ? full(refine.map((i) => timesUtc[i]!)) : locations.map(() => []);
-    const index = [...coarse, ...refine].sort((a, b) => a - b);
-    const position = new Map(index.map((i, p) => [i, p]));
-    const merged = locations.map((_, site) => {
-      const out: Spread[] = new Array(index.length);
-      coarse.forEach((i, p) => (out[position.get(i)!] = coarseRows[site]![p]!));
-      refine.forEach((i, p) => (out[position.get(i)!] = refinedRows[site]![p]!));
-      return out;
+    // Rows with the ensemble's own statistics (coarse and refined); the others interpolate between coarse rows.
+    const known = coarseRows.map((rows) => {
+      const byRow: (Spread | undefined)[] = new Array(timesUtc.length);
+      coarse.forEach((i, j) => (byRow[i] = rows[j]!));
+      return byRow;
     });
+    if (refine.length > 0) full(refine.map((i) => timesUtc[i]!)).forEach((rows, site) => refine.forEach((i, j) => (known[site]![i] = rows[j]!)));
     return batchedEnsemblePlacesForSites([nominal], locations, timesUtc, spanOf(timesUtc), { perturbers }).map((places, site) =>
-      rowsFromPlaces(places, 0, locations[site]!, photometry).map((row, k) => ({ ...row, ...spreadAt(merged[site]!, index, k, timesMs) })),
+      rowsFromPlaces(places, 0, locations[site]!, photometry).map((row, k) => ({ ...row, ...(known[site]![k] ?? spreadAt(coarseRows[site]!, coarse, k, timesMs)) })),
     );
   };
   const ephemeris = (location: GeodeticLocation, timesUtc: readonly Date[], options: EphemerisOptions = {}): EstimatedEphemerisRow[] =>
