@@ -23,6 +23,12 @@ export function readNoticeFile(path: string, cwd: string): { ok: true; notice: N
   } catch (err) {
     return { ok: false, message: `${full} is not valid JSON: ${(err as Error).message}` };
   }
+  if (Array.isArray(raw)) {
+    return {
+      ok: false,
+      message: `${full} holds ${raw.length} notices (a JSON array, as the inbox and POST /v1/notices take them); this command takes a file with one notice object: save the one you want on its own`,
+    };
+  }
   // The present only matters for the age checks, which commands skip.
   const parsed = parseNotice(raw, { now: new Date(0), checkAge: false });
   if (!parsed.ok) return { ok: false, message: `${full} is not a valid notice:\n${parsed.issues.map((i) => `  ${i.path}: ${i.message}`).join('\n')}` };

@@ -75,6 +75,12 @@ describe('nightjar plan', () => {
     expect(io.err.join('')).toContain('observations');
   });
 
+  it('says a file of several notices holds how many and that it takes one', async () => {
+    const io = collectingIo();
+    expect(await main(['--notice', write('two.json', [notice, notice]), '--now', now], io)).toBe(1);
+    expect(io.err.join('')).toMatch(/holds 2 notices .* takes a file with one notice object/);
+  });
+
   it('refuses an unknown site, a missing notice and a bad clock as usage errors', async () => {
     await expect(main(['--notice', noticePath, '--site', 'nowhere'], collectingIo())).rejects.toThrow(UsageError);
     await expect(main(['--now', now], collectingIo())).rejects.toThrow(/--notice FILE is required/);
