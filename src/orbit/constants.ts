@@ -1,4 +1,5 @@
 import { Body, MassProduct } from 'astronomy-engine';
+import '../sky/time-scale.js'; // every user of astronomy-engine loads the project's time scale
 
 /**
  * Physical constants for the dynamics. Mass products GM are the DE405 values

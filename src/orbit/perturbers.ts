@@ -1,4 +1,5 @@
-import { AstroTime, Body, HelioState, MassProduct } from 'astronomy-engine';
+import { Body, HelioState, MassProduct } from 'astronomy-engine';
+import { astroTimeFromTt } from '../sky/time-scale.js';
 
 /**
  * Positions of the perturbing bodies for the dynamics: the eight planets and
@@ -49,7 +50,7 @@ export class PerturberTable {
   private node(index: number): Float64Array {
     const cached = this.nodes.get(index);
     if (cached) return cached;
-    const time = AstroTime.FromTerrestrialTime(index * this.nodeSpacingDays);
+    const time = astroTimeFromTt(index * this.nodeSpacingDays);
     const data = new Float64Array(this.bodyCount * STRIDE);
     PERTURBING_BODIES.forEach((p, b) => {
       const s = HelioState(p.body, time);

@@ -1,27 +1,38 @@
-import { AstroTime, MakeTime } from 'astronomy-engine';
+import { ttMinusUtcS, utDaysFromTt } from '../sky/time-scale.js';
 import { OrbitInputError, requireFinite } from './errors.js';
 
 /**
  * Time scales for the dynamics. TT is counted as days since J2000.0
  * (2000-01-01T12:00:00 TT), the convention of astronomy-engine's AstroTime.tt;
- * UTC -> TT uses the library's Delta T model (Espenak & Meeus polynomials).
+ * UTC -> TT through the leap-second table (IERS Bulletin C) of
+ * src/sky/time-scale.ts, which also installs the same conversion into
+ * astronomy-engine.
  */
 
 const J2000_CLOCK_MS = Date.UTC(2000, 0, 1, 12, 0, 0);
 const MS_PER_DAY = 86_400_000;
 const ISO_PATTERN = /^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}(:\d{2}(\.\d+)?)?(Z)?$/;
 
-/** TT days since J2000.0 for a UTC instant (astronomy-engine MakeTime). */
+/**
+ * TT days since J2000.0 for a UTC instant: UTC + 32.184 s + (TAI - UTC) from the
+ * leap-second table. Throws SkyInputError for instants before 1972 or past the
+ * table's validity horizon (the message says how to update it).
+ */
 export function ttFromUtc(date: Date): number {
-  const ms = date.getTime();
+  const ms = date instanceof Date ? date.getTime() : Number.NaN;
   if (!Number.isFinite(ms)) throw new OrbitInputError('time', date, 'expected a valid Date');
-  return MakeTime(date).tt;
+  return (ms - J2000_CLOCK_MS) / MS_PER_DAY + ttMinusUtcS(date, 'time') / 86_400;
 }
 
-/** The UTC instant of a TT day number (days since J2000.0 TT). */
+/**
+ * The UTC instant (millisecond Date) of a TT day number (days since J2000.0 TT),
+ * the inverse of ttFromUtc; past the table's horizon it assumes no further leap
+ * second (a TT there has no other answer yet), inside a leap second it gives the
+ * instant the leap second ends.
+ */
 export function utcFromTt(tt: number): Date {
   requireFinite('tt', tt);
-  return AstroTime.FromTerrestrialTime(tt).date;
+  return new Date(J2000_CLOCK_MS + utDaysFromTt(tt) * MS_PER_DAY);
 }
 
 /**

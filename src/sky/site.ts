@@ -1,6 +1,7 @@
 import * as Astronomy from 'astronomy-engine';
 import type { GeodeticLocation } from '../config/schema.js';
 import { SkyInputError, requireDate, requireFinite } from './errors.js';
+import './time-scale.js'; // installs TT from the leap-second table into astronomy-engine
 
 /**
  * Site geometry: from a geodetic site and astrometric ICRS RA/Dec to apparent
@@ -43,7 +44,7 @@ function normalizeLongitudeDeg(lonDeg: number): number {
   return lon;
 }
 
-/** Validates a UTC instant and converts it to astronomy-engine's time (UT1 ~ UTC; TT via its Delta T model). */
+/** Validates a UTC instant and converts it to astronomy-engine's time (UT1 = UTC; TT from the leap-second table, src/sky/time-scale.ts). */
 export function astroTimeFromUtc(timeUtc: Date, field = 'timeUtc'): Astronomy.AstroTime {
   requireDate(field, timeUtc);
   return Astronomy.MakeTime(timeUtc);

@@ -140,7 +140,7 @@ function altitudes(site: GeodeticLocation, timeUtc: Date, raDeg: number, decDeg:
   };
 }
 
-const BASE_EPOCH_MS = Date.UTC(2027, 2, 1);
+const BASE_EPOCH_MS = Date.UTC(2026, 2, 1);
 const MS_PER_DAY = SECONDS_PER_DAY * 1000;
 
 /**
