@@ -16,6 +16,7 @@ import { noticeRoutes } from './routes/notices.js';
 import { objectRoutes } from './routes/objects.js';
 import { pictureRoutes } from './routes/pictures.js';
 import { requestRoutes } from './routes/requests.js';
+import { siteRoutes } from './routes/sites.js';
 import { deliveryRoutes, serviceRoutes } from './routes/service.js';
 
 export interface AppOptions {
@@ -109,6 +110,7 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
     ...serviceRoutes(ctx),
     ...noticeRoutes(ctx),
     ...requestRoutes(ctx),
+    ...siteRoutes(ctx),
     ...objectRoutes(ctx),
     ...deliveryRoutes(ctx),
     ...pictureRoutes(ctx),

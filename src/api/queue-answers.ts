@@ -6,16 +6,19 @@
  * revision they were read at and the interval they hold for: until the first
  * included window ends (`from` may grow up to it) and until the next queued
  * window starts (`to` may grow up to it). Schedulers polling every few seconds
- * then get the same bytes without SQLite reads or JSON encoding.
+ * then get the same bytes without SQLite reads or JSON encoding, and the same
+ * entity tag, so a conditional request is answered 304.
  */
 
 export interface QueueItemsKey {
   siteId: string;
   kind: string | undefined;
   limit: number;
+  /** The page asked for (the cursor given), undefined for the first. */
+  cursor?: string | undefined;
 }
 
-interface Kept {
+export interface KeptQueueAnswer {
   revision: string;
   fromMs: number;
   toMs: number;
@@ -25,23 +28,27 @@ interface Kept {
   noNewItemBeforeMs: number;
   /** The items array's contents, UTF-8 JSON. */
   itemsJson: Buffer;
+  /** The cursor of the next page, null on the last. */
+  nextCursor: string | null;
+  /** Entity tag of the items and the next cursor (an HTTP ETag value, quotes included). */
+  etag: string;
 }
 
 const MAX_KEPT = 64;
 
 export function createQueueAnswers() {
-  const kept = new Map<string, Kept>();
-  const keyOf = (k: QueueItemsKey) => `${k.siteId}|${k.kind ?? ''}|${k.limit}`;
+  const kept = new Map<string, KeptQueueAnswer>();
+  const keyOf = (k: QueueItemsKey) => `${k.siteId}|${k.kind ?? ''}|${k.limit}|${k.cursor ?? ''}`;
   return {
     /** The kept items for this query, or null when the database or the interval rules it out. */
-    lookup(key: QueueItemsKey, revision: string, fromMs: number, toMs: number): Buffer | null {
+    lookup(key: QueueItemsKey, revision: string, fromMs: number, toMs: number): KeptQueueAnswer | null {
       const k = kept.get(keyOf(key));
       if (!k || k.revision !== revision) return null;
       if (fromMs < k.fromMs || fromMs >= k.itemsValidBeforeMs) return null;
       if (toMs < k.toMs || toMs >= k.noNewItemBeforeMs) return null;
-      return k.itemsJson;
+      return k;
     },
-    keep(key: QueueItemsKey, entry: Kept): void {
+    keep(key: QueueItemsKey, entry: KeptQueueAnswer): void {
       const name = keyOf(key);
       kept.delete(name);
       kept.set(name, entry);

@@ -25,7 +25,10 @@ export const stateSchema = z
 
 export const requestView = z
   .object({
-    id: z.string(),
+    id: z.string().describe('stable while the request is revised in place; a new id only for a window of another night or another kind'),
+    revision: z.number().int().describe('1 when proposed; each replan that changes it in place adds one'),
+    revisedAt: z.string().nullable().describe('ISO UTC of the latest revision; null before any'),
+    night: z.string().nullable().describe("local date (YYYY-MM-DD, local mean solar time) of the evening the window's night begins"),
     objectId: z.string(),
     siteId: z.string(),
     kind: kindSchema,
@@ -48,6 +51,9 @@ export const requestView = z
 export function toRequestView(r: RequestRow) {
   return {
     id: r.id,
+    revision: r.revision,
+    revisedAt: r.revisedAt,
+    night: r.night,
     objectId: r.objectId,
     siteId: r.siteId,
     kind: r.kind,

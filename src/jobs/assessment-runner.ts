@@ -89,20 +89,33 @@ export function createAssessmentRunner(deps: RunnerDeps) {
         summary: output.summary,
         requests: output.requests,
       });
-      const queued = result.created.map((id) => {
+      const announced = (id: string) => {
         const r = store.requests.get(id)!;
         return { id, objectId, siteId: r.siteId, kind: r.kind, score: r.score, windowStart: r.windowStart, windowEnd: r.windowEnd };
-      });
+      };
+      const queued = result.created.map(announced);
+      // Revisions that move a window's end, or the start of a window not yet open, are worth a push;
+      // an open window's start following the clock, and score and table updates, are not.
+      const nowIso = now.toISOString();
+      const moves = (c: { field: string; from: unknown }) => c.field === 'window.end' || (c.field === 'window.start' && typeof c.from === 'string' && c.from > nowIso);
+      const rescheduled = result.revised.filter((r) => r.changes.some(moves)).map((r) => announced(r.id));
       for (const request of queued) announce(store, hooks, now, { event: 'request.queued', request });
-      if (result.superseded.length > 0)
-        announce(store, hooks, now, { event: 'object.replanned', objectId, assessmentId: result.assessmentId, queued, superseded: result.superseded });
+      if (result.superseded.length > 0 || rescheduled.length > 0)
+        announce(store, hooks, now, { event: 'object.replanned', objectId, assessmentId: result.assessmentId, queued, rescheduled, superseded: result.superseded });
       if (output.retireReason !== null && result.created.length === 0) store.objects.retire(objectId, output.retireReason);
       store.work.finish(objectId, now);
       return result;
     })();
     if (saved === null) return handleRetracted(objectId);
     deps.log?.info(
-      { objectId, assessmentId: saved.assessmentId, queued: saved.created.length, superseded: saved.superseded.length, seconds: Number(seconds.toFixed(3)) },
+      {
+        objectId,
+        assessmentId: saved.assessmentId,
+        queued: saved.created.length,
+        revised: saved.revised.length,
+        superseded: saved.superseded.length,
+        seconds: Number(seconds.toFixed(3)),
+      },
       'object assessed',
     );
   }

@@ -6,6 +6,7 @@ export function storedRequest(r: PlannedRequest): NewRequest {
   return {
     siteId: r.siteId,
     kind: r.kind,
+    night: r.night,
     score: r.score,
     windowStart: r.windowStart,
     windowEnd: r.windowEnd,

@@ -51,7 +51,7 @@ export function announce(
   now: Date,
   change:
     | { event: 'request.queued'; request: AnnouncedRequest }
-    | { event: 'object.replanned'; objectId: string; assessmentId: number; queued: AnnouncedRequest[]; superseded: string[] }
+    | { event: 'object.replanned'; objectId: string; assessmentId: number; queued: AnnouncedRequest[]; rescheduled: AnnouncedRequest[]; superseded: string[] }
     | { event: 'object.retracted'; objectId: string; reason: string; withdrawn: string[] },
 ): number {
   let n = 0;
@@ -59,7 +59,7 @@ export function announce(
     let relevant: boolean;
     if (change.event === 'request.queued') relevant = wants(hook, change.request.siteId, change.request.score);
     else if (change.event === 'object.replanned')
-      relevant = change.queued.some((r) => wants(hook, r.siteId, r.score)) || change.superseded.length > 0;
+      relevant = [...change.queued, ...change.rescheduled].some((r) => wants(hook, r.siteId, r.score)) || change.superseded.length > 0;
     else relevant = change.withdrawn.length > 0;
     if (!relevant) continue;
     const payload = JSON.stringify({ ...change, at: now.toISOString() });

@@ -5,6 +5,7 @@ import { planExposure, type ExposurePlan, type PlanResult } from '../photometry/
 import type { NotFeasible, ObservingConditions, RequestKind } from '../photometry/conditions.js';
 import { buildSkyTimeline, skyFromTimeline, type SkyTimeline } from '../sky/timeline.js';
 import { observableWindows, type ObservableWindow } from '../sky/windows.js';
+import { localNightOf } from '../sky/night.js';
 import { airmassKastenYoung, angleBetweenDeg, apparentInFrame } from '../sky/site.js';
 import { siteVExtinctionMagPerAirmass, skyBrightnessKS } from '../sky/sky-brightness.js';
 import { PlanningInputError, requireDate, requireFinite } from './errors.js';
@@ -139,6 +140,8 @@ export interface RequestBody {
 export interface PlannedRequest {
   siteId: string;
   kind: RequestKind;
+  /** The local night of the window's start (the sky module's localNightOf). */
+  night: string;
   score: number;
   windowStart: string;
   windowEnd: string;
@@ -687,6 +690,7 @@ function buildRequest(
   return {
     siteId: site.id,
     kind: choice.kind,
+    night: localNightOf(new Date(choice.startMs), site.location.lonDeg),
     score: score.total,
     windowStart: body.windowStartUtc,
     windowEnd: body.windowEndUtc,

@@ -246,3 +246,16 @@ export function nightToJson(night: Night): Record<string, unknown> {
     notes: night.notes,
   };
 }
+
+/**
+ * The local date (YYYY-MM-DD) of the night an instant belongs to, by NIGHT_RULE: the calendar
+ * date, in local mean solar time (UTC + east longitude / 15 h), of the instant 12 hours earlier,
+ * so everything from one local mean noon to the next is one night. Longitude in degrees, east
+ * positive (-180 to 360).
+ */
+export function localNightOf(t: Date, lonDeg: number): string {
+  if (!Number.isFinite(t.getTime())) throw new SkyInputError('t', t.getTime(), 'expected a valid time');
+  requireFinite('location.lonDeg', lonDeg, -180, 360);
+  const lon = lonDeg > 180 ? lonDeg - 360 : lonDeg;
+  return new Date(t.getTime() + (lon / 15) * MS_PER_HOUR - 12 * MS_PER_HOUR).toISOString().slice(0, 10);
+}

@@ -67,6 +67,19 @@ export interface RejectionRow {
   reasons: { path: string; message: string }[];
 }
 
+/** A rejection without its payload, for lists. */
+export interface RejectionSummary {
+  id: number;
+  source: string;
+  receivedAt: string;
+  sender: string | null;
+  noticeId: string | null;
+  /** Size of the payload as received, bytes (UTF-8). */
+  sizeBytes: number;
+  reasonCount: number;
+  reasons: { path: string; message: string }[];
+}
+
 const NOTICE_COLUMNS = `id, sender, notice_id AS noticeId, object_id AS objectId, source, received_at AS receivedAt,
   issued_at AS issuedAt, kind, state, observations_added AS observationsAdded, raw`;
 
@@ -105,7 +118,8 @@ export function createNoticeStore(db: Db) {
       // The object stays on the work queue so the assessment runner withdraws its queued requests and announces it.
       enqueue.run(input.objectId, input.receivedAt, input.receivedAt);
       markMerged.run(0, noticeRow);
-      return { status: 'accepted', noticeRow, observationsAdded: 0, objectState: 'retracted', queued: true, revived: false };
+      // Nothing is queued for observation: the work item only withdraws the object's requests.
+      return { status: 'accepted', noticeRow, observationsAdded: 0, objectState: 'retracted', queued: false, revived: false };
     }
     if (!object) {
       insertObject.run(input.objectId, 'active', input.receivedAt, input.receivedAt, null, null, input.orbitJson);
@@ -168,6 +182,25 @@ export function createNoticeStore(db: Db) {
         reasons: string;
       })[];
       return rows.map((r) => ({ ...r, reasons: JSON.parse(r.reasons) as RejectionRow['reasons'] }));
+    },
+    /** Newest first, without the payloads: size in bytes and the first `maxReasons` reasons with their count. */
+    listRejectionSummaries(options: { beforeId?: number; limit: number; maxReasons: number }): RejectionSummary[] {
+      const rows = db
+        .prepare(
+          `SELECT id, source, received_at AS receivedAt, sender, notice_id AS noticeId, length(CAST(raw AS BLOB)) AS sizeBytes, reasons FROM rejections
+           ${options.beforeId !== undefined ? 'WHERE id < ?' : ''} ORDER BY id DESC LIMIT ?`,
+        )
+        .all(...(options.beforeId !== undefined ? [options.beforeId] : []), options.limit) as (Omit<RejectionSummary, 'reasons' | 'reasonCount'> & { reasons: string })[];
+      return rows.map((r) => {
+        const reasons = JSON.parse(r.reasons) as RejectionRow['reasons'];
+        return { ...r, reasonCount: reasons.length, reasons: reasons.slice(0, options.maxReasons) };
+      });
+    },
+    getRejection(id: number): RejectionRow | null {
+      const row = db
+        .prepare(`SELECT id, source, received_at AS receivedAt, sender, notice_id AS noticeId, raw, reasons FROM rejections WHERE id = ?`)
+        .get(id) as (Omit<RejectionRow, 'reasons'> & { reasons: string }) | undefined;
+      return row ? { ...row, reasons: JSON.parse(row.reasons) as RejectionRow['reasons'] } : null;
     },
     counts(): { notices: number; rejections: number; objects: number; observations: number } {
       const one = (sql: string) => (db.prepare(sql).get() as { n: number }).n;

@@ -100,11 +100,32 @@ describe('review and health routes', () => {
     expect(second.nextCursor).toBeNull();
   });
 
-  it('lists rejections with their reasons', async () => {
+  it('lists rejections as summaries: size, reasons and when received, without the payload', async () => {
     const { app } = await setup();
     await app.inject({ method: 'POST', url: '/v1/notices', headers: bearer(DEMO_TOKENS.feeder), payload: { format: 'other' } });
     const body = (await app.inject({ url: '/v1/rejections', headers: bearer(DEMO_TOKENS.reader) })).json();
+    expect(body.items[0]).toMatchObject({ sizeBytes: '{"format":"other"}'.length, receivedAt: '2027-03-04T06:00:00.000Z' });
     expect(body.items[0].reasons.some((r: { path: string }) => r.path === 'format')).toBe(true);
+    expect(body.items[0].reasonCount).toBe(body.items[0].reasons.length);
+    expect(body.items[0]).not.toHaveProperty('raw');
+  });
+
+  it('shows one rejection with its payload exactly as received and every reason', async () => {
+    const { app } = await setup();
+    await app.inject({ method: 'POST', url: '/v1/notices', headers: { ...bearer(DEMO_TOKENS.feeder), 'content-type': 'application/json' }, payload: '{"format": "other"}' });
+    const [item] = (await app.inject({ url: '/v1/rejections', headers: bearer(DEMO_TOKENS.reader) })).json().items;
+    const one = (await app.inject({ url: `/v1/rejections/${item.id}`, headers: bearer(DEMO_TOKENS.reader) })).json();
+    expect(one).toMatchObject({ id: item.id, raw: '{"format": "other"}', sizeBytes: 19, reasonCount: item.reasonCount });
+    expect((await app.inject({ url: '/v1/rejections/99999', headers: bearer(DEMO_TOKENS.reader) })).statusCode).toBe(404);
+  });
+
+  it('answers a retraction without saying anything was queued', async () => {
+    const { app } = await setup();
+    await app.inject({ method: 'POST', url: '/v1/notices', headers: bearer(DEMO_TOKENS.feeder), payload: exampleNotice() });
+    const retraction = exampleNotice({ noticeId: 'ex-r', issuedAt: '2027-03-04T05:40:00Z', retracted: true, reason: 'false detection' });
+    delete retraction['observations'];
+    const res = await app.inject({ method: 'POST', url: '/v1/notices', headers: bearer(DEMO_TOKENS.feeder), payload: retraction });
+    expect(res.json().results[0]).toMatchObject({ status: 'accepted', objectState: 'retracted', queued: false });
   });
 
   it('names a bad query parameter', async () => {

@@ -11,13 +11,15 @@ const kept = (revision = 'r1') => ({
   itemsValidBeforeMs: min(90),
   noNewItemBeforeMs: min(800),
   itemsJson: Buffer.from('{"id":"a"}'),
+  nextCursor: null,
+  etag: 'W/"a"',
 });
 
 describe('kept queue answers', () => {
   it('serve a later question while the revision holds, no item has ended and none has opened', () => {
     const answers = createQueueAnswers();
     answers.keep(key, kept());
-    expect(answers.lookup(key, 'r1', min(30), min(750))?.toString()).toBe('{"id":"a"}');
+    expect(answers.lookup(key, 'r1', min(30), min(750))?.itemsJson.toString()).toBe('{"id":"a"}');
   });
 
   it('are not used after any database change', () => {
@@ -45,12 +47,13 @@ describe('kept queue answers', () => {
     expect(answers.lookup(key, 'r1', min(0), min(700))).toBeNull();
   });
 
-  it('are kept apart by site, kind and limit', () => {
+  it('are kept apart by site, kind, limit and page', () => {
     const answers = createQueueAnswers();
     answers.keep(key, kept());
     expect(answers.lookup({ ...key, siteId: 'kestrel-hollow' }, 'r1', min(0), min(720))).toBeNull();
     expect(answers.lookup({ ...key, kind: 'spectrum' }, 'r1', min(0), min(720))).toBeNull();
     expect(answers.lookup({ ...key, limit: 10 }, 'r1', min(0), min(720))).toBeNull();
+    expect(answers.lookup({ ...key, cursor: 'next' }, 'r1', min(0), min(720))).toBeNull();
   });
 
   it('hold at most 64 questions, forgetting the oldest first', () => {

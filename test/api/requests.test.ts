@@ -112,6 +112,70 @@ describe('queue and leases', () => {
     expect(await kinds(at(60))).toEqual(['colours', 'photometry']);
   });
 
+  it('answers 304 to a conditional queue read while nothing changed, and 200 with a new tag after a change', async () => {
+    const { store } = await setup();
+    const first = await app!.inject({ url: '/v1/queue?site=lantern-ridge', headers: scheduler });
+    const etag = first.headers['etag'] as string;
+    expect(etag).toMatch(/^W\/"[A-Za-z0-9_-]+"$/);
+    clockAt.t += 60_000;
+    const again = await app!.inject({ url: '/v1/queue?site=lantern-ridge', headers: { ...scheduler, 'if-none-match': etag } });
+    expect(again.statusCode).toBe(304);
+    expect(again.body).toBe('');
+    secondObject(store, proposal('spectrum', 90));
+    const changed = await app!.inject({ url: '/v1/queue?site=lantern-ridge', headers: { ...scheduler, 'if-none-match': etag } });
+    expect(changed.statusCode).toBe(200);
+    expect(changed.headers['etag']).not.toBe(etag);
+  });
+
+  it('pages the queue with nextCursor in score order, every request once', async () => {
+    const { store } = await setup();
+    secondObject(store, proposal('spectrum', 70));
+    const page1 = (await app!.inject({ url: '/v1/queue?site=lantern-ridge&limit=2', headers: scheduler })).json();
+    expect(page1.items.map((r: { score: number }) => r.score)).toEqual([80, 70]);
+    const page2 = (await app!.inject({ url: `/v1/queue?site=lantern-ridge&limit=2&cursor=${page1.nextCursor}`, headers: scheduler })).json();
+    expect(page2.items.map((r: { score: number }) => r.score)).toEqual([60]);
+    expect(page2.nextCursor).toBeNull();
+  });
+
+  it('refuses a queue cursor it did not give out', async () => {
+    await setup();
+    const res = await app!.inject({ url: '/v1/queue?site=lantern-ridge&cursor=bm9wZQ', headers: scheduler });
+    expect(res.statusCode).toBe(400);
+    expect(res.json().error.details[0].path).toBe('query.cursor');
+  });
+
+  it('refuses a queue interval whose from is after its to', async () => {
+    await setup();
+    const res = await app!.inject({ url: `/v1/queue?site=lantern-ridge&from=${at(60)}&to=${at(0)}`, headers: scheduler });
+    expect(res.statusCode).toBe(400);
+    expect(res.json().error).toMatchObject({ code: 'bad_request', details: [{ path: 'query.to', message: 'must not be before from' }] });
+  });
+
+  it('keeps the id of a request a replan revises, and shows its revisions', async () => {
+    const { store, ids } = await setup();
+    store.requests.saveAssessment({
+      objectId: 'ZX27A01',
+      createdAt: at(10),
+      observations: 3,
+      summary: {},
+      requests: [{ ...proposal('photometry', 62), windowStart: at(12) }, proposal('colours', 80), proposal('spectrum', 40, 'kestrel-hollow')],
+    });
+    const res = (await app!.inject({ url: `/v1/requests/${ids[0]}`, headers: scheduler })).json();
+    expect(res).toMatchObject({ id: ids[0], state: 'queued', revision: 2, revisedAt: at(10), score: 62 });
+    expect(res.revisions.map((r: { revision: number }) => r.revision)).toEqual([1, 2]);
+    expect(res.revisions[1].changes.map((c: { field: string }) => c.field)).toEqual(['window.start', 'score']);
+  });
+
+  it('answers 409 naming the replacement when a superseded request is leased', async () => {
+    const { store, ids } = await setup();
+    const nextNight = { ...proposal('photometry', 60), windowStart: at(24 * 60), windowEnd: at(26 * 60), recommendedStart: at(24 * 60), expiresAt: at(26 * 60) };
+    const { created } = store.requests.saveAssessment({ objectId: 'ZX27A01', createdAt: at(5), observations: 3, summary: {}, requests: [nextNight, proposal('colours', 80)] });
+    const res = await lease(ids[0]!);
+    expect(res.statusCode).toBe(409);
+    expect(res.json().error).toMatchObject({ code: 'not_leasable', details: { state: 'superseded', supersededBy: created[0], replacement: created[0] } });
+    expect(res.json().error.message).toContain(`lease ${created[0]} instead`);
+  });
+
   it('names an unknown site', async () => {
     await setup();
     const res = await app!.inject({ url: '/v1/queue?site=nowhere', headers: scheduler });
@@ -275,6 +339,8 @@ describe('service documents', () => {
       'GET /v1/notices',
       'POST /v1/notices',
       'GET /v1/rejections',
+      'GET /v1/rejections/{id}',
+      'GET /v1/sites',
       'GET /healthz',
       'GET /readyz',
       'GET /metrics',

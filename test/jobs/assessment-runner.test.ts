@@ -47,10 +47,26 @@ describe('assessment runner', () => {
     expect(store.deliveries.list({ limit: 10 }).map((d) => d.event)).toEqual(['request.queued']);
   });
 
-  it('supersedes the previous requests on a new assessment and announces the replan', async () => {
-    const { store, intake, runner } = setup(async () => oneRequest(80), true);
+  it('revises a queued request in place when a replan keeps its window in the same night', async () => {
+    let score = 70;
+    const { store, intake, runner } = setup(async () => oneRequest(score), true);
     intake.ingestJson(JSON.stringify(exampleNotice()), 'test');
     await runner.drain();
+    score = 71.5;
+    runner.enqueueActive();
+    await runner.drain();
+    const rows = store.requests.list({ objectId: 'ZX27A01', limit: 10 });
+    expect(rows.map((r) => [r.state, r.revision, r.score])).toEqual([['queued', 2, 71.5]]);
+    expect(store.deliveries.list({ limit: 10 }).map((d) => d.event)).toEqual(['request.queued']);
+  });
+
+  it("supersedes a queued request when the replan moves its window to another night, and announces the replan", async () => {
+    let output = oneRequest(80);
+    const { store, intake, runner } = setup(async () => output, true);
+    intake.ingestJson(JSON.stringify(exampleNotice()), 'test');
+    await runner.drain();
+    const nextNight = { windowStart: '2027-03-05T07:00:00.000Z', windowEnd: '2027-03-05T09:00:00.000Z', recommendedStart: '2027-03-05T07:10:00.000Z', expiresAt: '2027-03-05T09:00:00.000Z' };
+    output = { ...output, requests: output.requests.map((r) => ({ ...r, ...nextNight })) };
     runner.enqueueActive();
     await runner.drain();
     expect(store.requests.list({ objectId: 'ZX27A01', limit: 10 }).map((r) => r.state).sort()).toEqual(['queued', 'superseded']);

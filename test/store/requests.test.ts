@@ -37,25 +37,70 @@ describe('request store', () => {
     expect(store.requests.get(created[0]!)).toMatchObject({ state: 'queued', kind: 'photometry', body: { exposures: [{ filter: 'r' }] } });
   });
 
-  it('supersedes still-queued requests with the new ones and keeps the history', () => {
+  it('revises a queued request in place when the new window overlaps the old one', () => {
     const store = setup();
-    const first = assess(store, [proposal('photometry')]);
-    const second = assess(store, [proposal('photometry', 'lantern-ridge', 70)], 5);
+    const [id] = assess(store, [proposal('photometry')]).created;
+    const later = { ...proposal('photometry', 'lantern-ridge', 70), windowStart: at(12).toISOString(), body: { exposures: [{ filter: 'r', exposureS: 50, count: 18 }] } };
+    const second = assess(store, [later], 10);
+    expect(second).toMatchObject({ created: [], superseded: [], revised: [{ id, revision: 2 }] });
+    expect(store.requests.get(id!)).toMatchObject({ state: 'queued', revision: 2, revisedAt: at(10).toISOString(), score: 70, windowStart: at(12).toISOString() });
+    expect(store.requests.revisions(id!).map((r) => r.changes.map((c) => c.field))).toEqual([[], ['window.start', 'score', 'plan.exposures']]);
+    expect(store.requests.revisions(id!)[1]!.changes[0]).toEqual({ field: 'window.start', from: at(10).toISOString(), to: at(12).toISOString() });
+  });
+
+  it('revises a request in place when its window moves within the same night', () => {
+    const store = setup();
+    const [id] = assess(store, [{ ...proposal('photometry'), night: '2027-03-03' }]).created;
+    const moved = { ...proposal('photometry'), night: '2027-03-03', windowStart: at(200).toISOString(), windowEnd: at(260).toISOString() };
+    expect(assess(store, [moved], 10).revised.map((r) => r.id)).toEqual([id]);
+  });
+
+  it('makes no revision when a replan proposes the request exactly as it is', () => {
+    const store = setup();
+    const [id] = assess(store, [proposal('photometry')]).created;
+    expect(assess(store, [proposal('photometry')], 10)).toMatchObject({ unchanged: [id], revised: [] });
+    expect(store.requests.get(id!)?.revision).toBe(1);
+  });
+
+  it('supersedes a queued request by a new id when the window moves to another night, and keeps the history', () => {
+    const store = setup();
+    const first = assess(store, [{ ...proposal('photometry'), night: '2027-03-03' }]);
+    const nextNight: NewRequest = { ...proposal('photometry'), night: '2027-03-04', windowStart: at(24 * 60).toISOString(), windowEnd: at(26 * 60).toISOString() };
+    const second = assess(store, [nextNight], 5);
     const old = store.requests.get(first.created[0]!)!;
+    expect(second.created).toHaveLength(1);
     expect(old).toMatchObject({ state: 'superseded', supersededBy: second.created[0] });
     expect(store.requests.history(old.id).map((e) => e.toState)).toEqual(['queued', 'superseded']);
   });
 
-  it('never touches a leased request when superseding, and does not duplicate it', () => {
+  it('supersedes a queued request without a replacement when the kind is no longer proposed', () => {
+    const store = setup();
+    const first = assess(store, [proposal('photometry'), proposal('spectrum')]);
+    const second = assess(store, [proposal('photometry')], 5);
+    expect(second.superseded).toEqual([first.created[1]]);
+    expect(store.requests.get(first.created[1]!)).toMatchObject({ state: 'superseded', supersededBy: null });
+  });
+
+  it('names the open request to lease instead of a superseded one, following a chain of replacements', () => {
+    const store = setup();
+    const night = (n: number): NewRequest => ({ ...proposal('photometry'), night: `2027-03-0${n}`, windowStart: at(n * 24 * 60).toISOString(), windowEnd: at(n * 24 * 60 + 120).toISOString() });
+    const [a] = assess(store, [night(1)]).created;
+    const [b] = assess(store, [night(2)], 5).created;
+    const [c] = assess(store, [night(3)], 6).created;
+    expect(store.requests.get(a!)?.supersededBy).toBe(b);
+    expect(store.requests.lease(a!, 'queue-a', 600, at(7))).toMatchObject({ status: 'not_leasable', state: 'superseded', supersededBy: b, replacement: c });
+  });
+
+  it('never touches a leased request when replanning, and does not duplicate it', () => {
     const store = setup();
     const first = assess(store, [proposal('photometry'), proposal('colours')]);
     const leased = store.requests.lease(first.created[0]!, 'queue-a', 600, at(1));
     expect(leased.status).toBe('leased');
-    const second = assess(store, [proposal('photometry'), proposal('colours')], 2);
+    const second = assess(store, [proposal('photometry'), { ...proposal('colours'), score: 61 }], 2);
     expect(store.requests.get(first.created[0]!)?.state).toBe('leased');
     expect(second.skipped).toHaveLength(1);
-    expect(second.created).toHaveLength(1);
-    expect(store.requests.get(first.created[1]!)?.state).toBe('superseded');
+    expect(second.created).toHaveLength(0);
+    expect(store.requests.get(first.created[1]!)).toMatchObject({ state: 'queued', revision: 2 });
   });
 
   it('lets exactly one caller lease a request; the other learns who holds it and until when', () => {

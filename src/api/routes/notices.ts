@@ -1,6 +1,7 @@
 import { z } from 'zod';
 import { summarise } from '../../intake/ingest.js';
 import type { ApiContext } from '../context.js';
+import { ApiError } from '../errors.js';
 import { defineRoute, type AnyRouteSpec } from '../route-spec.js';
 import { errorSchema, limitParam, pageOf } from '../schemas.js';
 
@@ -29,15 +30,26 @@ const noticeItem = z.object({
   notice: z.unknown().describe('the notice as received'),
 });
 
-const rejectionItem = z.object({
+const reasonItem = z.object({ path: z.string(), message: z.string() });
+
+const rejectionSummary = z.object({
   id: z.number().int(),
   source: z.string(),
   receivedAt: z.string(),
   sender: z.string().nullable(),
   noticeId: z.string().nullable(),
-  raw: z.string().describe('the payload exactly as received'),
-  reasons: z.array(z.object({ path: z.string(), message: z.string() })),
+  sizeBytes: z.number().int().describe('size of the payload as received, bytes'),
+  reasonCount: z.number().int(),
+  reasons: z.array(reasonItem).describe('the first 10 reasons; every one, with the payload, at /v1/rejections/{id}'),
 });
+
+const rejectionItem = rejectionSummary.omit({ reasons: true }).extend({
+  raw: z.string().describe('the payload exactly as received'),
+  reasons: z.array(reasonItem).describe('every reason'),
+});
+
+/** Reasons shown per rejection in the list. */
+const MAX_LISTED_REASONS = 10;
 
 const numericCursor = z.coerce.number().int().positive().optional().describe('from nextCursor of the previous page');
 
@@ -93,15 +105,31 @@ export function noticeRoutes(ctx: ApiContext): AnyRouteSpec[] {
       method: 'GET',
       url: '/v1/rejections',
       tag: 'notices',
-      summary: 'Rejected payloads with their reasons, newest first',
+      summary: 'Rejected payloads, newest first: size, reasons, when received',
+      description: 'A summary per rejection; the payload as received and every reason are at /v1/rejections/{id}.',
       role: ['reader', 'operator'],
       readsOpenOnLoopback: true,
       query: z.object({ cursor: numericCursor, limit: limitParam }).strict(),
-      responses: { 200: { description: 'a page', schema: pageOf(rejectionItem) }, 400: { description: 'bad query', schema: errorSchema } },
+      responses: { 200: { description: 'a page', schema: pageOf(rejectionSummary) }, 400: { description: 'bad query', schema: errorSchema } },
       handler: async ({ query }) => {
-        const rows = store.notices.listRejections({ limit: query.limit, ...(query.cursor !== undefined ? { beforeId: query.cursor } : {}) });
+        const rows = store.notices.listRejectionSummaries({ limit: query.limit, maxReasons: MAX_LISTED_REASONS, ...(query.cursor !== undefined ? { beforeId: query.cursor } : {}) });
         const last = rows[rows.length - 1];
         return { items: rows, nextCursor: rows.length === query.limit && last ? String(last.id) : null };
+      },
+    }),
+    defineRoute({
+      method: 'GET',
+      url: '/v1/rejections/:id',
+      tag: 'notices',
+      summary: 'One rejected payload exactly as received, with every reason',
+      role: ['reader', 'operator'],
+      readsOpenOnLoopback: true,
+      params: z.object({ id: z.coerce.number().int().positive().describe('rejection id') }).strict(),
+      responses: { 200: { description: 'the rejection', schema: rejectionItem }, 404: { description: 'no such rejection', schema: errorSchema } },
+      handler: async ({ params }) => {
+        const row = store.notices.getRejection(params.id);
+        if (!row) throw new ApiError(404, 'not_found', `no rejection ${params.id}`);
+        return { ...row, sizeBytes: Buffer.byteLength(row.raw, 'utf8'), reasonCount: row.reasons.length };
       },
     }),
   ];

@@ -1,3 +1,4 @@
+import { createHash } from 'node:crypto';
 import { createQueueAnswers } from '../queue-answers.js';
 import { z } from 'zod';
 import { NOTICE_BANDS, NOTICE_FORMAT } from '../../intake/notice.js';
@@ -53,6 +54,7 @@ const queueQuery = z
     to: isoTime().optional().describe('default: from + 12 h'),
     kind: kindSchema.optional(),
     limit: limitParam,
+    cursor: z.string().max(400).optional().describe('from nextCursor of the previous page'),
   })
   .strict();
 
@@ -67,7 +69,21 @@ const listQuery = z
   .strict();
 
 const requestWithHistory = requestView.extend({
-  history: z.array(z.object({ at: z.string(), fromState: z.string().nullable(), toState: z.string(), detail: z.string().nullable() })),
+  history: z.array(z.object({ at: z.string(), fromState: z.string().nullable(), toState: z.string(), detail: z.string().nullable() })).describe('every change of state'),
+  revisions: z
+    .array(
+      z.object({
+        revision: z.number().int(),
+        at: z.string(),
+        assessmentId: z.number().int(),
+        score: z.number(),
+        windowStart: z.string(),
+        windowEnd: z.string(),
+        changes: z.array(z.object({ field: z.string(), from: z.unknown(), to: z.unknown() })).describe('what this revision changed (window edges, score, plan fields such as sequence and ephemeris); empty for the first'),
+      }),
+    )
+    .describe('every revision, first to last'),
+  replacement: z.string().nullable().describe('for a request no longer open: the open request to take instead, when there is one'),
 });
 
 function leaseFailure(check: Exclude<LeaseCheck, { status: 'ok' }>, id: string): ApiError {
@@ -96,6 +112,33 @@ function decodeCursor(cursor: string): { createdAt: string; id: string } {
 
 const QUEUE_ANSWER_TAIL = Buffer.from(']}', 'utf8');
 
+/** A queue page's position: the last item's score, window start and id (the queue's order). */
+function encodeQueueCursor(last: { score: number; windowStart: string; id: string }): string {
+  return Buffer.from(JSON.stringify([last.score, last.windowStart, last.id])).toString('base64url');
+}
+
+function decodeQueueCursor(cursor: string): { score: number; windowStart: string; id: string } {
+  const bad = () => new ApiError(400, 'bad_request', 'invalid cursor', [{ path: 'query.cursor', message: 'not a cursor this API gave out' }]);
+  let value: unknown;
+  try {
+    value = JSON.parse(Buffer.from(cursor, 'base64url').toString('utf8'));
+  } catch {
+    throw bad();
+  }
+  if (!Array.isArray(value) || value.length !== 3) throw bad();
+  const [score, windowStart, id] = value as unknown[];
+  if (typeof score !== 'number' || !Number.isFinite(score) || typeof windowStart !== 'string' || typeof id !== 'string') throw bad();
+  return { score, windowStart, id };
+}
+
+/** Weak comparison of an If-None-Match header with an entity tag (RFC 9110, section 13.1.2). */
+export function matchesEntityTag(header: string | string[] | undefined, etag: string): boolean {
+  if (header === undefined) return false;
+  const text = Array.isArray(header) ? header.join(',') : header;
+  const opaque = (tag: string) => tag.trim().replace(/^W\//, '');
+  return text.split(',').some((tag) => tag.trim() === '*' || opaque(tag) === opaque(etag));
+}
+
 export function requestRoutes(ctx: ApiContext): AnyRouteSpec[] {
   const { store, clock, config } = ctx;
   const siteIds = new Set(config.sites.map((s) => s.id));
@@ -111,36 +154,57 @@ export function requestRoutes(ctx: ApiContext): AnyRouteSpec[] {
       url: '/v1/queue',
       tag: 'queue',
       summary: 'Queued requests for a site, best score first',
-      description: 'Requests whose window is open at `from` or opens before `to`, each with its exposure sequence, tracking rates and ephemeris table.',
+      description:
+        'Requests whose window is open at `from` or opens before `to`, each with its exposure sequence, tracking rates and ephemeris table. A replan revises a request in place (same id, `revision` goes up) while its window stays in the same night. Pages follow `nextCursor`. The answer carries an `ETag` over its items; send it back as `If-None-Match` and a 304 without a body says nothing changed.',
       role: ['scheduler', 'reader'],
       readsOpenOnLoopback: true,
       query: queueQuery,
-      responses: { 200: { description: 'the queue', schema: z.object({ site: z.string(), from: z.string(), to: z.string(), items: z.array(requestView) }) }, 400: { description: 'bad query', schema: errorSchema } },
-      handler: async ({ query, reply }) => {
+      responses: {
+        200: {
+          description: 'the queue',
+          schema: z.object({ site: z.string(), from: z.string(), to: z.string(), nextCursor: z.string().nullable().describe('pass as ?cursor= for the next page; null on the last'), items: z.array(requestView) }),
+        },
+        304: { description: 'the items are unchanged since the entity tag given in If-None-Match' },
+        400: { description: 'bad query', schema: errorSchema },
+      },
+      handler: async ({ query, reply, request }) => {
         checkSite(query.site);
         const from = query.from ?? clock().toISOString();
         const to = query.to ?? new Date(Date.parse(from) + 12 * 3600_000).toISOString();
-        const kind = query.kind as RequestKind | undefined;
-        const key = { siteId: query.site, kind, limit: query.limit };
         const fromMs = Date.parse(from), toMs = Date.parse(to);
+        if (fromMs > toMs) throw new ApiError(400, 'bad_request', `from ${from} is after to ${to}`, [{ path: 'query.to', message: 'must not be before from' }]);
+        const kind = query.kind as RequestKind | undefined;
+        const after = query.cursor === undefined ? undefined : decodeQueueCursor(query.cursor);
+        const key = { siteId: query.site, kind, limit: query.limit, cursor: query.cursor };
         const revision = store.requests.revision();
-        let itemsJson = queueAnswers.lookup(key, revision, fromMs, toMs);
-        if (itemsJson === null) {
-          const items = store.requests.queueWithBodyText({ siteId: query.site, from, to, limit: query.limit, ...(kind ? { kind } : {}) });
-          itemsJson = Buffer.from(items.map((i) => requestViewJson(i.row, i.bodyJson)).join(','), 'utf8');
+        let answer = queueAnswers.lookup(key, revision, fromMs, toMs);
+        if (answer === null) {
+          // One row beyond the page says whether there is a next one.
+          const rows = store.requests.queueWithBodyText({ siteId: query.site, from, to, limit: query.limit + 1, ...(kind ? { kind } : {}), ...(after ? { after } : {}) });
+          const items = rows.slice(0, query.limit);
+          const last = items[items.length - 1];
+          const nextCursor = rows.length > query.limit && last ? encodeQueueCursor(last.row) : null;
+          const itemsJson = Buffer.from(items.map((i) => requestViewJson(i.row, i.bodyJson)).join(','), 'utf8');
+          const etag = `W/"${createHash('sha256').update(itemsJson).update(`|${nextCursor ?? ''}`).digest('base64url').slice(0, 27)}"`;
           const nextStart = store.requests.nextQueuedWindowStart(query.site, to, kind);
-          queueAnswers.keep(key, {
+          answer = {
             revision,
             fromMs,
             toMs,
-            itemsValidBeforeMs: items.reduce((m, i) => Math.min(m, Date.parse(i.row.windowEnd)), Infinity),
+            itemsValidBeforeMs: rows.reduce((m, i) => Math.min(m, Date.parse(i.row.windowEnd)), Infinity),
             noNewItemBeforeMs: nextStart === null ? Infinity : Date.parse(nextStart),
             itemsJson,
-          });
+            nextCursor,
+            etag,
+          };
+          queueAnswers.keep(key, answer);
         }
+        reply.header('etag', answer.etag);
+        reply.header('cache-control', 'no-cache');
+        if (matchesEntityTag(request.headers['if-none-match'], answer.etag)) return reply.status(304).send();
         // The kept items are UTF-8 bytes: the answer is a copy, not a fresh encoding of a large string.
-        const head = Buffer.from(`${JSON.stringify({ site: query.site, from, to }).slice(0, -1)},"items":[`, 'utf8');
-        return reply.type('application/json; charset=utf-8').send(Buffer.concat([head, itemsJson, QUEUE_ANSWER_TAIL]));
+        const head = Buffer.from(`${JSON.stringify({ site: query.site, from, to, nextCursor: answer.nextCursor }).slice(0, -1)},"items":[`, 'utf8');
+        return reply.type('application/json; charset=utf-8').send(Buffer.concat([head, answer.itemsJson, QUEUE_ANSWER_TAIL]));
       },
     }),
     defineRoute({
@@ -155,7 +219,10 @@ export function requestRoutes(ctx: ApiContext): AnyRouteSpec[] {
       responses: {
         200: { description: 'leased', schema: z.object({ leaseToken: z.string(), leaseExpiresAt: z.string(), request: requestView }) },
         404: { description: 'no such request', schema: errorSchema },
-        409: { description: 'another holder has it (details: holder, until), or it is no longer leasable', schema: errorSchema },
+        409: {
+          description: 'another holder has it (details: holder, until), or it is no longer leasable (details: state, supersededBy, and replacement: the open request to lease instead, or null)',
+          schema: errorSchema,
+        },
       },
       handler: async ({ params, body }) => {
         const r = store.requests.lease(params.id, body.holder, body.seconds, clock());
@@ -168,7 +235,11 @@ export function requestRoutes(ctx: ApiContext): AnyRouteSpec[] {
             ctx.metrics.leaseConflicts.inc({ site: store.requests.get(params.id)?.siteId ?? 'unknown' });
             throw new ApiError(409, 'lease_conflict', `request ${params.id} is leased by ${r.holder} until ${r.until}`, { holder: r.holder, until: r.until });
           case 'not_leasable':
-            throw new ApiError(409, 'not_leasable', `request ${params.id} cannot be leased: ${r.reason}`, { state: r.state });
+            throw new ApiError(409, 'not_leasable', `request ${params.id} cannot be leased: ${r.reason}`, {
+              state: r.state,
+              supersededBy: r.supersededBy,
+              replacement: r.replacement,
+            });
         }
       },
     }),
@@ -267,7 +338,8 @@ export function requestRoutes(ctx: ApiContext): AnyRouteSpec[] {
       handler: async ({ params }) => {
         const r = store.requests.get(params.id);
         if (!r) throw new ApiError(404, 'not_found', `no request ${params.id}`);
-        return { ...toRequestView(r), history: store.requests.history(r.id) };
+        const open = r.state === 'queued' || r.state === 'leased';
+        return { ...toRequestView(r), history: store.requests.history(r.id), revisions: store.requests.revisions(r.id), replacement: open ? null : store.requests.replacementOf(r.id) };
       },
     }),
     defineRoute({
