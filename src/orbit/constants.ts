@@ -25,7 +25,11 @@ export const RAD_PER_DEG = Math.PI / 180;
 export const ARCSEC_PER_RAD = DEG_PER_RAD * 3600;
 
 /**
- * Mean obliquity of the J2000 ecliptic, radians: 84381.406 arcsec (IAU 2006,
- * Capitaine et al. 2003), the value astronomy-engine's ECL<->EQJ rotation uses.
+ * Obliquity of the J2000 ecliptic to which orbital elements refer, radians:
+ * 84381.448 arcsec = 23 deg 26' 21.448" (IAU 1976, Lieske et al. 1977), the
+ * frame of published osculating elements ("ecliptic and mean equinox of
+ * J2000") and of the notice's orbit block. astronomy-engine's ECL frame uses
+ * 84381.406" (IAU 2006); the 0.042" between them tilts an orbit's plane by as
+ * much, 0.4-1.4" in a close approacher's place.
  */
-export const OBLIQUITY_J2000_RAD = 0.40909260059599012;
+export const OBLIQUITY_J2000_RAD = (84381.448 / 3600) * (Math.PI / 180);

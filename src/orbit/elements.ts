@@ -15,7 +15,8 @@ import { cross, dot, norm, type Vec3 } from './vector.js';
  * - classical (a, e, i, node, argument of periapsis, true anomaly), frame- and
  *   unit-agnostic, after Vallado's RV2COE / COE2RV (Algorithms 9 and 10);
  * - perihelion ("cometary") elements of the notice orbit block
- *   {q, e, i, node, peri, tp}, heliocentric, ecliptic and mean equinox J2000,
+ *   {q, e, i, node, peri, tp}, heliocentric, ecliptic and mean equinox J2000
+ *   (obliquity 84381.448 arcsec, IAU 1976, as published elements use),
  *   valid for every eccentricity.
  * Vallado algorithm and equation numbers (4th ed.) are from memory.
  */
@@ -139,7 +140,7 @@ function orientPerifocal(rPf: Vec3, vPf: Vec3, iRad: number, nodeRad: number, ar
 const COS_OBL = Math.cos(OBLIQUITY_J2000_RAD);
 const SIN_OBL = Math.sin(OBLIQUITY_J2000_RAD);
 
-/** Ecliptic J2000 -> equatorial J2000 (rotation about x by the J2000 mean obliquity, 84381.406 arcsec). */
+/** Ecliptic J2000 -> equatorial J2000 (rotation about x by the elements' J2000 obliquity, 84381.448 arcsec, IAU 1976). */
 export function equatorialFromEcliptic(a: Vec3): Vec3 {
   return { x: a.x, y: COS_OBL * a.y - SIN_OBL * a.z, z: SIN_OBL * a.y + COS_OBL * a.z };
 }
