@@ -2,7 +2,7 @@ import { loadConfig } from '../config/load.js';
 import { rangingFor, type RangePriorChoice } from '../planning/assess.js';
 import { locationSchema, RANGE_PRIOR_CHOICES, type GeodeticLocation } from '../config/schema.js';
 import type { Notice, NoticeOrbit } from '../intake/notice.js';
-import { ephemerisFromElements, type EphemerisRow } from '../orbit/ephemeris.js';
+import type { EphemerisRow } from '../orbit/ephemeris.js';
 import type { PerihelionElements } from '../orbit/elements.js';
 import { ttFromTtIso } from '../orbit/time.js';
 import { DEFAULT_MEMBERS, estimateObject } from '../orbit/estimation/index.js';
@@ -14,9 +14,11 @@ import { UsageError } from './io.js';
 /**
  * `nightjar ephem`: the topocentric ephemeris of the object in one notice, from a
  * configured site or an ad-hoc place, at listed times or on a regular grid.
- * A notice with an `orbit` block is propagated from its elements; a notice with
- * only a tracklet is answered by short-arc estimation (systematic ranging into
- * virtual orbits), whose rows carry the 1-sigma ellipse `unc` and `magSigma`.
+ * Both kinds of notice take the service's path (estimateObject): an `orbit` block
+ * is the nominal, with an ensemble drawn from its covariance or the stated default
+ * element spread; a notice with only a tracklet is answered by short-arc estimation
+ * (systematic ranging into virtual orbits). Every row carries the 1-sigma ellipse
+ * `unc` and `magSigma`, and the notes say where the uncertainty comes from.
  */
 export const HELP = `nightjar ephem --notice FILE (--site ID | --lat DEG --lon DEG --height M)
                (--times ISO[,ISO...] | --start ISO --end ISO --step MINUTES)
@@ -30,12 +32,15 @@ V magnitude from H and G when the notice gives H. Times are ISO-8601 UTC.
 
 The notice is checked as intake checks it, except for its age: past or
 future time may be asked for. A notice with an orbit block is propagated from
-its elements. A notice with only a tracklet is estimated: its positions are
-fitted over a grid of distances and range-rates and resampled into virtual
-orbits; each row is the nominal (a robust centre of the cloud) with unc, the
-1-sigma uncertainty ellipse {major, minor, pa} in arcsec (pa east of north;
-3 x unc holds about 99 % of the virtual orbits), and magSigma, the spread of
-V in mag. These are estimates from a short arc, not an impact prediction.
+its elements (ecliptic J2000, obliquity 84381.448"), with virtual orbits drawn
+from the block's default element spread (weighted by the notice's positions
+when it has them). A notice with only a tracklet is estimated: its positions
+are fitted over a grid of distances and range-rates and resampled into virtual
+orbits. Each row is the nominal with unc, the 1-sigma uncertainty ellipse
+{major, minor, pa} in arcsec (pa east of north; 3 x unc holds about 99 % of
+the virtual orbits), and magSigma, the spread of V in mag; the notes say where
+the uncertainty comes from. --json prints {objectId, method, notes, rows}.
+These are estimates, not an impact prediction.
 
 Options:
   --notice FILE      notice v1 JSON file (required)
@@ -46,13 +51,13 @@ Options:
   --times LIST       comma-separated ISO-8601 UTC times
   --start, --end     first and last time of a grid (ISO-8601 UTC)
   --step MINUTES     grid spacing, minutes
-  --members N        virtual orbits for a tracklet-only notice (default 1000)
+  --members N        virtual orbits (default 1000)
   --seed S           seed of the virtual orbits' draws (default 1; same seed, same rows)
   --range-prior P    range prior of a tracklet-only estimate: auto (default: the
                      population prior for 3 or more positions, rho^0.5 for 2),
                      population, or powerLaw (rho^0.5: wider regions, no
                      preference against unusual orbits such as Earth-like ones)
-  --json             print a JSON array of rows instead of text
+  --json             print JSON {objectId, method, notes, rows} instead of text
   --config FILE      configuration file (default: NIGHTJAR_CONFIG, else the demo)
   -h, --help         show this help`;
 
@@ -205,16 +210,28 @@ function formatArcsec(x: number): string {
   return x >= 100 ? `${x.toFixed(0)}"` : `${x.toFixed(1)}"`;
 }
 
-function formatText(rows: EphemerisRow[], notice: Notice, label: string): string {
+/** What `--json` prints: the rows with the estimate's method and notes (which uncertainty the ellipses come from). */
+export interface EphemerisAnswer {
+  objectId: string;
+  method: 'orbit-block' | 'ranging';
+  notes: string[];
+  rows: EphemerisRow[];
+}
+
+function formatText(answer: EphemerisAnswer, notice: Notice, label: string): string {
+  const { rows } = answer;
   const estimated = rows.some((r) => r.unc !== null);
   const lines = [
     `ephemeris of ${notice.objectId} (notice ${notice.noticeId}) from ${label}`,
+    answer.method === 'orbit-block'
+      ? 'from the orbit block (the nominal); unc is the 1-sigma ellipse of its ensemble, not an impact prediction'
+      : `estimated from the tracklet${notice.orbit === undefined ? ' alone' : ' (the notes say what became of the orbit block)'} (virtual orbits); unc is the 1-sigma ellipse, not an impact prediction`,
+    ...answer.notes.map((note) => `note: ${note}`),
     'astrometric ICRS, light-time corrected; rates in arcsec/s (RA rate x cos Dec); distances in au; angles in deg',
     '',
     'time (UTC)            RA (h m s)    Dec (d m s)     raRate   decRate      delta         r   phase   elong     alt      az  airmass     V' +
       (estimated ? '    unc 1-sigma (maj x min @ pa)  Vsig' : ''),
   ];
-  if (estimated) lines.splice(2, 0, 'estimated from the tracklet alone (virtual orbits); unc is the 1-sigma ellipse, not an impact prediction');
   for (const row of rows) {
     lines.push(
       [
@@ -266,23 +283,20 @@ export const main: CommandMain = async (argv, io) => {
     return 1;
   }
   const notice = read.notice;
-  if (notice.orbit === undefined) {
-    const { members, seed } = ensembleOptions(values);
-    const estimate = estimateObject({
-      objectId: notice.objectId,
-      observations: trackletOf(notice),
-      now: new Date(notice.issuedAt),
-      members,
-      seed,
-      ranging: rangingFor(rangePriorOption(values['range-prior'])),
-    });
-    const rows = estimate.ephemeris(location, times).map((row) => roundRow(row));
-    io.stdout(values.json ? `${JSON.stringify(rows, null, 2)}\n` : formatText(rows, notice, label));
-    return 0;
-  }
-  const { elements, epochTt } = elementsFromNoticeOrbit(notice.orbit);
-  const photometry = notice.orbit.H === undefined ? undefined : { hMag: notice.orbit.H, g: notice.orbit.G ?? 0.15 };
-  const rows = ephemerisFromElements(elements, epochTt, location, times, photometry ? { photometry } : {}).map(roundRow);
-  io.stdout(values.json ? `${JSON.stringify(rows, null, 2)}\n` : formatText(rows, notice, label));
+  const { members, seed } = ensembleOptions(values);
+  // One path for both kinds of notice, as the service takes: a tracklet is estimated by ranging; an
+  // orbit block is the nominal, with an ensemble from its covariance or the stated default spread.
+  const estimate = estimateObject({
+    objectId: notice.objectId,
+    observations: trackletOf(notice),
+    orbit: notice.orbit,
+    now: new Date(notice.issuedAt),
+    members,
+    seed,
+    ranging: rangingFor(rangePriorOption(values['range-prior'])),
+  });
+  const rows = estimate.ephemeris(location, times).map((row) => roundRow(row));
+  const answer: EphemerisAnswer = { objectId: notice.objectId, method: estimate.summary.method, notes: estimate.summary.notes, rows };
+  io.stdout(values.json ? `${JSON.stringify(answer, null, 2)}\n` : formatText(answer, notice, label));
   return 0;
 };

@@ -37,7 +37,12 @@ const write = (name: string, body: unknown) => {
   return path;
 };
 const orbitPath = write('orbit.json', orbitNotice);
+const { observations: _tracklet, ...orbitOnlyNotice } = orbitNotice;
+const orbitOnlyPath = write('orbit-only.json', orbitOnlyNotice);
 const trackletOnlyPath = resolve('config/demo/notices/0001-close-approacher.json');
+
+interface Answer<R = Row> { objectId: string; method: string; notes: string[]; rows: R[] }
+const answerOf = <R = Row>(io: { out: string[] }) => JSON.parse(io.out.join('')) as Answer<R>;
 
 interface Row {
   t: string; ra: number; dec: number; raRate: number; decRate: number; unc: unknown; mag: number | null; magSigma: unknown;
@@ -47,38 +52,51 @@ interface Row {
 describe('nightjar ephem', () => {
   it('prints one JSON row per requested time with exactly the documented fields', async () => {
     const io = collectingIo();
-    const code = await main(['--notice', orbitPath, '--site', 'lantern-ridge', '--times', '2027-03-05T03:00:00Z,2027-03-05T04:00:00Z', '--json'], io);
+    const code = await main(['--notice', orbitOnlyPath, '--site', 'lantern-ridge', '--times', '2027-03-05T03:00:00Z,2027-03-05T04:00:00Z', '--members', '100', '--json'], io);
     expect(code).toBe(0);
-    const rows = JSON.parse(io.out.join('')) as Row[];
-    expect(rows).toHaveLength(2);
-    expect(Object.keys(rows[0]!)).toEqual(['t', 'ra', 'dec', 'raRate', 'decRate', 'unc', 'mag', 'magSigma', 'delta', 'r', 'phase', 'elong', 'alt', 'az', 'airmass']);
-    expect(rows[0]!.t).toBe('2027-03-05T03:00:00.000Z');
-    expect(rows[0]!.unc).toBeNull();
+    const answer = answerOf(io);
+    expect(Object.keys(answer)).toEqual(['objectId', 'method', 'notes', 'rows']);
+    expect(answer.rows).toHaveLength(2);
+    expect(Object.keys(answer.rows[0]!)).toEqual(['t', 'ra', 'dec', 'raRate', 'decRate', 'unc', 'mag', 'magSigma', 'delta', 'r', 'phase', 'elong', 'alt', 'az', 'airmass']);
+    expect(answer.rows[0]!.t).toBe('2027-03-05T03:00:00.000Z');
   });
 
-  it('gives the same numbers as the orbit module for the site in the configuration, to the printed precision', async () => {
+  it('gives an orbit block every row an ellipse and a magnitude spread, and says in the notes that they come from the default element spread', async () => {
     const io = collectingIo();
-    await main(['--notice', orbitPath, '--site', 'lantern-ridge', '--times', '2027-03-05T03:00:00Z', '--json'], io);
-    const [row] = JSON.parse(io.out.join('')) as Row[];
+    expect(await main(['--notice', orbitOnlyPath, '--site', 'lantern-ridge', '--times', '2027-03-05T03:00:00Z,2027-03-06T03:00:00Z', '--members', '200', '--json'], io)).toBe(0);
+    const answer = answerOf<Row & { unc: { major: number; minor: number; pa: number }; magSigma: number }>(io);
+    expect(answer.method).toBe('orbit-block');
+    expect(answer.notes.join(' ')).toMatch(/default element spread \(no covariance given\)/);
+    for (const row of answer.rows) {
+      expect(Object.keys(row.unc)).toEqual(['major', 'minor', 'pa']);
+      expect(row.unc.major).toBeGreaterThan(0);
+      expect(row.magSigma).toBeGreaterThanOrEqual(0);
+    }
+  });
+
+  it('takes the orbit block as the nominal: the same place as the orbit module for the site in the configuration, to 1 mas', async () => {
+    const io = collectingIo();
+    await main(['--notice', orbitOnlyPath, '--site', 'lantern-ridge', '--times', '2027-03-05T03:00:00Z', '--members', '100', '--json'], io);
+    const [row] = answerOf(io).rows;
     const site = loadConfig({ env: {} }).sites.find((s) => s.id === 'lantern-ridge')!;
     const { elements, epochTt } = elementsFromNoticeOrbit(orbitNotice.orbit);
     const [direct] = ephemerisFromElements(elements, epochTt, site.location, [new Date('2027-03-05T03:00:00Z')], { photometry: { hMag: 24.5, g: 0.2 } });
-    expect(row!.ra).toBeCloseTo(direct!.ra, 6);
-    expect(row!.dec).toBeCloseTo(direct!.dec, 6);
+    expect(Math.abs(row!.ra - direct!.ra) * Math.cos((direct!.dec * Math.PI) / 180) * 3600).toBeLessThan(0.001);
+    expect(Math.abs(row!.dec - direct!.dec) * 3600).toBeLessThan(0.001);
     expect(row!.mag).toBeCloseTo(direct!.mag!, 2);
     expect(row!.delta).toBeCloseTo(direct!.delta, 9);
   });
 
   it('builds a time grid from --start, --end and --step, both ends included', async () => {
     const io = collectingIo();
-    await main(['--notice', orbitPath, '--lat', '34.2', '--lon=-107.6', '--height', '2300', '--start', '2027-03-05T00:00:00Z', '--end', '2027-03-05T02:00:00Z', '--step', '30', '--json'], io);
-    const rows = JSON.parse(io.out.join('')) as Row[];
+    await main(['--notice', orbitOnlyPath, '--lat', '34.2', '--lon=-107.6', '--height', '2300', '--start', '2027-03-05T00:00:00Z', '--end', '2027-03-05T02:00:00Z', '--step', '30', '--members', '50', '--json'], io);
+    const { rows } = answerOf(io);
     expect(rows.map((r) => r.t)).toEqual(['00:00', '00:30', '01:00', '01:30', '02:00'].map((hm) => `2027-03-05T${hm}:00.000Z`));
   });
 
   it('prints a table for people without --json', async () => {
     const io = collectingIo();
-    expect(await main(['--notice', orbitPath, '--site', 'kestrel-hollow', '--times', '2027-03-05T03:00:00Z'], io)).toBe(0);
+    expect(await main(['--notice', orbitOnlyPath, '--site', 'kestrel-hollow', '--times', '2027-03-05T03:00:00Z', '--members', '50'], io)).toBe(0);
     const text = io.out.join('');
     expect(text).toMatch(/^ephemeris of LR27C1M \(notice test-orbit-0001\) from kestrel-hollow/);
     expect(text).toMatch(/\n2027-03-05T03:00:00Z +\d{2} \d{2} \d{2}\.\d{2} +[+-]\d{2} \d{2} \d{2}\.\d/);
@@ -88,7 +106,7 @@ describe('nightjar ephem', () => {
     const io = collectingIo();
     const args = ['--notice', trackletOnlyPath, '--site', 'lantern-ridge', '--times', '2026-11-30T07:43:12Z,2026-12-01T05:00:00Z', '--members', '200', '--seed', '3', '--json'];
     expect(await main(args, io)).toBe(0);
-    const rows = JSON.parse(io.out.join('')) as (Row & { unc: { major: number; minor: number; pa: number }; magSigma: number })[];
+    const { rows } = answerOf<Row & { unc: { major: number; minor: number; pa: number }; magSigma: number }>(io);
     expect(rows).toHaveLength(2);
     expect(Object.keys(rows[0]!)).toEqual(['t', 'ra', 'dec', 'raRate', 'decRate', 'unc', 'mag', 'magSigma', 'delta', 'r', 'phase', 'elong', 'alt', 'az', 'airmass']);
     expect(Object.keys(rows[0]!.unc)).toEqual(['major', 'minor', 'pa']);
@@ -120,7 +138,7 @@ describe('nightjar ephem', () => {
       const io = collectingIo();
       const args = ['--notice', trackletOnlyPath, '--site', 'lantern-ridge', '--times', '2026-12-01T05:00:00Z', '--members', '300', '--seed', '3', '--range-prior', prior, '--json'];
       expect(await main(args, io)).toBe(0);
-      return JSON.parse(io.out.join('')) as { unc: { major: number } }[];
+      return answerOf<{ unc: { major: number } }>(io).rows;
     };
     const [population] = await rowsWith('population');
     const [powerLaw] = await rowsWith('powerLaw');
@@ -140,8 +158,12 @@ describe('nightjar ephem', () => {
   });
 
   it('does not check the age of a notice: a notice from the future is accepted', async () => {
-    const future = write('future.json', { ...orbitNotice, issuedAt: '2099-01-01T00:00:00Z' });
-    expect(await main(['--notice', future, '--site', 'lantern-ridge', '--times', '2027-03-05T03:00:00Z', '--json'], collectingIo())).toBe(0);
+    const future = write('future.json', { ...orbitOnlyNotice, issuedAt: '2027-06-01T00:00:00Z' });
+    expect(await main(['--notice', future, '--site', 'lantern-ridge', '--times', '2027-03-05T03:00:00Z', '--members', '50', '--json'], collectingIo())).toBe(0);
+  });
+
+  it("refuses times past the leap-second table's validity horizon, saying so", async () => {
+    await expect(main(['--notice', orbitOnlyPath, '--site', 'lantern-ridge', '--times', '2031-01-01T00:00:00Z', '--members', '50'], collectingIo())).rejects.toThrow(/validity horizon of the leap-second table/);
   });
 
   it('exits 1 and lists every problem by path for an invalid notice', async () => {
