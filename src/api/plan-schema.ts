@@ -72,6 +72,20 @@ export const planSchema = z
       })
       .passthrough()
       .describe('the exposure sequence'),
+    lightCurve: z
+      .object({
+        likelyDiameterM: z.number().nullable().describe('the size the length is chosen for (geometric mean of the diameter range)'),
+        longestPlausiblePeriodS: z.number().describe('longest rotation period worth planning for at that size, s'),
+        periodBasis: z.string(),
+        wantedS: z.number().describe('two cycles of that period, s'),
+        boundsS: z.object({ min: z.number(), max: z.number() }).describe("the site's lightCurve.minMinutes and maxMinutes, s"),
+        sequenceS: z.number().describe('what this request takes, s'),
+        part: z.number().int().describe('1, or 2 for the follow-on in a later window'),
+        parts: z.number().int(),
+        followOnS: z.number().describe('length of the follow-on request this one leads to, s; 0 when none'),
+      })
+      .optional()
+      .describe('photometry only: why the light curve is as long as it is (docs/scoring.md)'),
     tracking: z
       .object({
         mode: z.literal('non-sidereal'),

@@ -133,6 +133,17 @@ export const spectrographSchema = z
   })
   .strict();
 
+/** How long a light-curve request may be, minutes; absent fields take the photometry module's defaults (30 and 120). */
+export const lightCurveSettingsSchema = z
+  .object({
+    minMinutes: positive().max(1440).optional(),
+    maxMinutes: positive().max(1440).optional(),
+  })
+  .strict()
+  .refine((b) => b.minMinutes === undefined || b.maxMinutes === undefined || b.minMinutes <= b.maxMinutes, {
+    message: 'minMinutes must not exceed maxMinutes',
+  });
+
 export const siteSchema = z
   .object({
     id: z
@@ -146,6 +157,7 @@ export const siteSchema = z
     imager: imagerSchema,
     spectrograph: spectrographSchema.optional(),
     exposure: exposureSettingsSchema.optional(),
+    lightCurve: lightCurveSettingsSchema.optional(),
     typicalSeeingArcsec: positive().max(20),
     /** V-band zenith sky brightness on a moonless dark night, mag/arcsec^2. */
     darkSkyVMagPerArcsec2: finite().min(15).max(23),

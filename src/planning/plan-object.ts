@@ -2,6 +2,7 @@ import type { Site } from '../config/schema.js';
 import type { ObjectEstimate } from '../orbit/estimate-types.js';
 import type { EphemerisRow } from '../orbit/ephemeris.js';
 import { planExposure, type ExposurePlan, type PlanResult } from '../photometry/plans.js';
+import { DEFAULT_LIGHT_CURVE_BOUNDS_MIN, lightCurveLength, likelyDiameterM, type LightCurveLength } from '../photometry/cadence.js';
 import type { NotFeasible, ObservingConditions, RequestKind } from '../photometry/conditions.js';
 import { buildSkyTimeline, skyFromTimeline, type SkyTimeline } from '../sky/timeline.js';
 import { observableWindows, type ObservableWindow } from '../sky/windows.js';
@@ -34,8 +35,6 @@ import { buildTrack, TRACK_SPREAD_EVERY, TRACK_STEP_MIN, trackRowsForSites, type
 export const REQUEST_KINDS: readonly RequestKind[] = ['photometry', 'colours', 'spectrum'];
 /** Ephemeris table spacing in a request, minutes. */
 export const TABLE_STEP_MIN = 5;
-/** Shortest window worth a light curve, s (planning assumption: a few frames over 10 min). */
-export const MIN_PHOTOMETRY_WINDOW_S = 600;
 /** Most pointings a search pattern may have before the object needs astrometry first (planning assumption: 3 x 3). */
 export const DEFAULT_MAX_SEARCH_POINTINGS = 9;
 export const REQUEST_FORMAT = 'nightjar.request.v1';
@@ -117,6 +116,21 @@ export interface RequestBody {
     acquisitionS?: number;
     resolvingPower?: number;
     notes: string[];
+  };
+  /**
+   * Light curves: why the sequence is as long as it is. About two cycles of the longest plausible
+   * period for the likely size, within the site's bounds; `part` 2 is the follow-on in a later window.
+   */
+  lightCurve?: {
+    likelyDiameterM: number | null;
+    longestPlausiblePeriodS: number;
+    periodBasis: string;
+    wantedS: number;
+    boundsS: { min: number; max: number };
+    sequenceS: number;
+    part: 1 | 2;
+    parts: 1 | 2;
+    followOnS: number;
   };
   tracking: { mode: 'non-sidereal'; atUtc: string; raRateArcsecPerS: number; decRateArcsecPerS: number; totalRateArcsecPerS: number };
   conditionsAtStart: { altitudeDeg: number; airmass: number; skyVMagPerArcsec2: number; moonSeparationDeg: number };
@@ -289,6 +303,67 @@ interface KindChoice {
   closesBecause: string;
   recommended: Candidate;
   plan: ExposurePlan;
+  /** Time the plan was given, s: what is left of the window, or less for a light curve sized for its purpose. */
+  planWindowS: number;
+  /** Light curves: the length chosen and which request of the object's light curve at this site this is. */
+  lightCurve?: { length: LightCurveLength; part: 1 | 2; parts: 1 | 2 };
+}
+
+interface WindowCandidates {
+  w: ObservableWindow;
+  windowS: number;
+  byKind: Map<RequestKind, Candidate[]>;
+}
+
+/** A site's light-curve bounds, minutes: its `lightCurve` settings with the photometry module's defaults, the pair kept in order. */
+export function lightCurveBoundsOf(site: Site): { minMinutes: number; maxMinutes: number } {
+  const set = site.lightCurve ?? {};
+  const minMinutes = set.minMinutes ?? Math.min(DEFAULT_LIGHT_CURVE_BOUNDS_MIN.minMinutes, set.maxMinutes ?? Number.POSITIVE_INFINITY);
+  const maxMinutes = set.maxMinutes ?? Math.max(DEFAULT_LIGHT_CURVE_BOUNDS_MIN.maxMinutes, minMinutes);
+  return { minMinutes, maxMinutes };
+}
+
+/**
+ * The first run of bright-enough times, in window order, where the kind's plan fits: light curves
+ * from the run's first time (longest coverage), given at most `lengthS` (their sized length) and
+ * needing at least `minLengthS`; colours and spectra at the lowest airmass that still fits. Else
+ * the failure with the most time available, which says most about why the kind does not fit.
+ */
+function chooseWindow(kind: RequestKind, site: Site, windows: readonly WindowCandidates[], lengthS: number | null, minLengthS: number): { choice: KindChoice | null; failure: string | null } {
+  let failure: string | null = null;
+  let failureS = -1;
+  const failed = (reason: string, availableS: number) => {
+    if (availableS > failureS) {
+      failure = reason;
+      failureS = availableS;
+    }
+  };
+  for (const { w, byKind } of windows) {
+    for (const run of brightRuns(w, byKind.get(kind) ?? [], kind)) {
+      const runS = (run.endMs - run.startMs) / 1000;
+      if (kind === 'photometry' && runS < minLengthS) {
+        failed(`window of ${fmt(runS / 60)} min is shorter than the ${fmt(minLengthS / 60)} min a light curve needs here (lightCurve.minMinutes)`, runS);
+        continue;
+      }
+      const order = kind === 'photometry' ? run.members : [...run.members].sort((a, b) => a.c.airmass - b.c.airmass || a.tMs - b.tMs);
+      for (const cand of order) {
+        const availableS = (run.endMs - cand.tMs) / 1000;
+        if (availableS <= 0) continue;
+        if (kind === 'photometry' && availableS < minLengthS) break;
+        const planWindowS = lengthS === null ? availableS : Math.min(availableS, lengthS);
+        const plan = planAt(kind, site, cand.c, planWindowS);
+        if (plan.feasible && plan.totalS <= availableS + 1e-6) {
+          return {
+            choice: { kind, window: w, startMs: run.startMs, endMs: run.endMs, opensBecause: run.opensBecause, closesBecause: run.closesBecause, recommended: cand, plan, planWindowS },
+            failure: null,
+          };
+        }
+        if (!plan.feasible) failed(plan.reason, availableS);
+        else failed(`the sequence takes ${fmt(plan.totalS)} s, only ${fmt(availableS)} s left in the window`, availableS);
+      }
+    }
+  }
+  return { choice: null, failure };
 }
 
 interface WindowRun {
@@ -477,51 +552,35 @@ function planSite(input: PlanObjectInput, site: Site, startMs: number, endMs: nu
   const lastRun = usefulRuns.flat().at(-1);
   const hoursLeft = lastRun === undefined ? 0 : lastRun.endMs >= endMs ? horizonH : (lastRun.endMs - startMs) / 3_600_000;
 
+  const lightCurve = lightCurveLength(
+    summary.diameterM === null ? null : likelyDiameterM(summary.diameterM.min, summary.diameterM.max),
+    lightCurveBoundsOf(site),
+  );
   const choices: KindChoice[] = [];
+  let followOnMissing: string | null = null;
   for (const kind of REQUEST_KINDS) {
     if (kind === 'spectrum' && site.spectrograph === undefined) {
       out.reasons.push('spectrum: no spectrograph at this site');
       continue;
     }
-    let choice: KindChoice | null = null;
-    // The failure with the most time available says most about why the kind does not fit.
-    let fitFailure: string | null = null;
-    let fitFailureS = -1;
-    const failed = (reason: string, availableS: number) => {
-      if (availableS > fitFailureS) {
-        fitFailure = reason;
-        fitFailureS = availableS;
-      }
-    };
-    for (const { w, byKind } of perWindow) {
-      for (const run of brightRuns(w, byKind.get(kind) ?? [], kind)) {
-        const runS = (run.endMs - run.startMs) / 1000;
-        if (kind === 'photometry' && runS < MIN_PHOTOMETRY_WINDOW_S) {
-          failed(`window of ${fmt(runS / 60)} min is shorter than the ${MIN_PHOTOMETRY_WINDOW_S / 60} min a light curve needs`, runS);
-          continue;
-        }
-        // Light curves start as early as possible (longest coverage); colours and spectra at the lowest airmass that still fits.
-        const order = kind === 'photometry' ? run.members : [...run.members].sort((a, b) => a.c.airmass - b.c.airmass || a.tMs - b.tMs);
-        for (const cand of order) {
-          const availableS = (run.endMs - cand.tMs) / 1000;
-          if (availableS <= 0) continue;
-          const plan = planAt(kind, site, cand.c, availableS);
-          if (plan.feasible && plan.totalS <= availableS + 1e-6) {
-            choice = { kind, window: w, startMs: run.startMs, endMs: run.endMs, opensBecause: run.opensBecause, closesBecause: run.closesBecause, recommended: cand, plan };
-            break;
-          }
-          if (!plan.feasible) failed(plan.reason, availableS);
-          else failed(`the sequence takes ${fmt(plan.totalS)} s, only ${fmt(availableS)} s left in the window`, availableS);
-        }
-        if (choice !== null) break;
-      }
-      if (choice !== null) break;
-    }
-    if (choice === null) {
-      out.reasons.push(`${kind}: ${fitFailure ?? faintReason(kind, site, perWindow.flatMap((p) => (p.byKind.get(kind) ?? []).map((cand) => ({ cand, windowS: p.windowS }))))}`);
+    const lengthS = kind === 'photometry' ? lightCurve.firstS : null;
+    const found = chooseWindow(kind, site, perWindow, lengthS, lightCurve.minS);
+    if (found.choice === null) {
+      out.reasons.push(`${kind}: ${found.failure ?? faintReason(kind, site, perWindow.flatMap((p) => (p.byKind.get(kind) ?? []).map((cand) => ({ cand, windowS: p.windowS }))))}`);
       continue;
     }
-    choices.push(choice);
+    if (kind !== 'photometry') {
+      choices.push(found.choice);
+      continue;
+    }
+    // More light curve worth taking than one request may hold: a follow-on in a later window.
+    const later = lightCurve.followOnS > 0 ? perWindow.filter((p) => p.w.start.getTime() >= found.choice!.window.end.getTime()) : [];
+    const followOn = later.length > 0 ? chooseWindow(kind, site, later, lightCurve.followOnS, lightCurve.minS).choice : null;
+    const parts = followOn === null ? 1 : 2;
+    choices.push({ ...found.choice, lightCurve: { length: lightCurve, part: 1, parts } });
+    if (followOn !== null) choices.push({ ...followOn, lightCurve: { length: lightCurve, part: 2, parts } });
+    else if (lightCurve.followOnS > 0)
+      followOnMissing = `photometry: a follow-on light curve of ${fmt(lightCurve.followOnS / 60)} min is worth taking, but no later window in the next ${fmt(horizonH)} h fits it`;
   }
 
   const fieldArcsec = Math.min(site.imager.fieldArcmin.width, site.imager.fieldArcmin.height) * 60;
@@ -549,6 +608,7 @@ function planSite(input: PlanObjectInput, site: Site, startMs: number, endMs: nu
     }
     out.requests.push(buildRequest(input, site, choice, pattern, exact, { feasibleWindows, hoursLeft, hP50 }, weights));
   }
+  if (followOnMissing !== null && out.requests.some((q) => q.kind === 'photometry')) out.reasons.push(followOnMissing);
   if (out.requests.length === 0 && out.reasons.length === 0) out.reasons.push('no request could be built');
   return out;
 }
@@ -618,7 +678,7 @@ function buildRequest(
   // Without an airmass limit, the airmass at the lowest allowed altitude.
   const maxAirmass = site.limits.maxAirmass ?? airmassKastenYoung(Math.max(site.limits.minAltitudeDeg, 1));
   const summary = estimate.summary;
-  const limitV = limitingV(choice.kind, site, rec.c, (choice.endMs - rec.tMs) / 1000);
+  const limitV = limitingV(choice.kind, site, rec.c, choice.planWindowS);
   const vMag = rec.c.observing?.vMag ?? Number.NaN;
   const marginMag = limitV === null ? 0 : Math.max(0, limitV - vMag);
   const score = scoreRequest(
@@ -664,6 +724,21 @@ function buildRequest(
       region3SigmaAcrossArcsec: extent === null ? null : r(extent, 1),
     },
     sequence: sequenceOf(plan),
+    ...(choice.lightCurve === undefined
+      ? {}
+      : {
+          lightCurve: {
+            likelyDiameterM: choice.lightCurve.length.likelyDiameterM === null ? null : r(choice.lightCurve.length.likelyDiameterM, 1),
+            longestPlausiblePeriodS: choice.lightCurve.length.longestPeriodS,
+            periodBasis: choice.lightCurve.length.basis,
+            wantedS: choice.lightCurve.length.wantedS,
+            boundsS: { min: choice.lightCurve.length.minS, max: choice.lightCurve.length.maxS },
+            sequenceS: r(plan.totalS, 0),
+            part: choice.lightCurve.part,
+            parts: choice.lightCurve.parts,
+            followOnS: choice.lightCurve.part === 1 && choice.lightCurve.parts === 2 ? choice.lightCurve.length.followOnS : 0,
+          },
+        }),
     tracking: {
       mode: 'non-sidereal',
       atUtc: iso(rec.tMs),
