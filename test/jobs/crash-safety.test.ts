@@ -103,20 +103,33 @@ describe('crash safety', () => {
     expect(one('SELECT count(*) AS n FROM notices')).toBe(burst.length);
     expect(one('SELECT count(DISTINCT object_id) AS n FROM assessments')).toBe(burst.length);
     expect(one("SELECT count(*) AS n FROM work WHERE state <> 'done'")).toBe(0);
-    // No request is duplicated: one open request per object, site and kind at most.
-    expect(one(`SELECT count(*) AS n FROM (SELECT object_id, site_id, kind, count(*) AS c FROM requests
-      WHERE state IN ('queued', 'leased') GROUP BY object_id, site_id, kind HAVING c > 1)`)).toBe(0);
-    // No assessment is half-written: each one's stored summary lists exactly the requests it created.
+    // No request is duplicated: one open request per object, site, kind and night at most.
+    expect(one(`SELECT count(*) AS n FROM (SELECT object_id, site_id, kind, night, count(*) AS c FROM requests
+      WHERE state IN ('queued', 'leased') GROUP BY object_id, site_id, kind, night HAVING c > 1)`)).toBe(0);
+    // No assessment is half-written: it proposed (created or revised) no more requests than its stored summary
+    // lists, and every request's current revision was written together with it.
     const rows = store.prepare('SELECT id, summary FROM assessments').all() as { id: number; summary: string }[];
     for (const r of rows) {
       const summary = JSON.parse(r.summary) as { sites: { requests: unknown[] }[] };
       const planned = summary.sites.reduce((n, s) => n + s.requests.length, 0);
-      const stored = (store.prepare('SELECT count(*) AS n FROM requests WHERE assessment_id = ?').get(r.id) as { n: number }).n;
-      expect(stored, `assessment ${r.id}`).toBe(planned);
+      const written = (store.prepare('SELECT count(*) AS n FROM request_revisions WHERE assessment_id = ?').get(r.id) as { n: number }).n;
+      expect(written, `assessment ${r.id}`).toBeLessThanOrEqual(planned);
     }
-    // Every open request belongs to its object's latest assessment.
-    expect(one(`SELECT count(*) AS n FROM requests r WHERE r.state = 'queued'
-      AND r.assessment_id <> (SELECT max(a.id) FROM assessments a WHERE a.object_id = r.object_id)`)).toBe(0);
+    expect(one(`SELECT count(*) AS n FROM requests r WHERE NOT EXISTS (SELECT 1 FROM request_revisions v
+      WHERE v.request_id = r.id AND v.revision = r.revision AND v.assessment_id = r.assessment_id)`)).toBe(0);
+    // Every queued request is one its object's latest assessment proposes (same site, kind and window).
+    const latest = store.prepare(`SELECT a.object_id AS objectId, a.summary FROM assessments a
+      WHERE a.id = (SELECT max(b.id) FROM assessments b WHERE b.object_id = a.object_id)`).all() as { objectId: string; summary: string }[];
+    const proposed = new Set(
+      latest.flatMap((a) =>
+        (JSON.parse(a.summary) as { sites: { siteId: string; requests: { kind: string; windowStart: string; windowEnd: string }[] }[] }).sites.flatMap((s) =>
+          s.requests.map((q) => `${a.objectId}|${s.siteId}|${q.kind}|${q.windowStart}|${q.windowEnd}`),
+        ),
+      ),
+    );
+    const queued = store.prepare(`SELECT object_id AS objectId, site_id AS siteId, kind, window_start AS windowStart, window_end AS windowEnd FROM requests
+      WHERE state = 'queued'`).all() as { objectId: string; siteId: string; kind: string; windowStart: string; windowEnd: string }[];
+    for (const q of queued) expect(proposed.has(`${q.objectId}|${q.siteId}|${q.kind}|${q.windowStart}|${q.windowEnd}`), `${q.objectId} ${q.siteId} ${q.kind}`).toBe(true);
     // A lease taken before a kill survives it.
     expect(leased, 'a request was leased before one of the kills').not.toBeNull();
     {
