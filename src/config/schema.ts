@@ -291,6 +291,9 @@ export const demoSchema = z
   .strict()
   .prefault({});
 
+/** How far a V filter's dark sky may differ from the site's darkSkyVMagPerArcsec2 (rounding), mag. */
+export const DARK_SKY_AGREEMENT_MAG = 0.01;
+
 export const configSchema = z
   .object({
     service: serviceSchema.prefault({}),
@@ -304,6 +307,18 @@ export const configSchema = z
     cfg.sites.forEach((site, i) => {
       if (seen.has(site.id)) ctx.addIssue({ code: 'custom', path: ['sites', i, 'id'], message: `duplicate site id "${site.id}"` });
       seen.add(site.id);
+      // Band skies are the V sky plus each filter's dark-sky colour against the site's V sky, so a V
+      // filter's own dark sky must be the site's: otherwise V would be planned under another sky.
+      site.imager.filters.forEach((filter, j) => {
+        const dark = filter.darkSkyMagPerArcsec2;
+        if (filter.name === 'V' && dark !== undefined && Math.abs(dark - site.darkSkyVMagPerArcsec2) > DARK_SKY_AGREEMENT_MAG) {
+          ctx.addIssue({
+            code: 'custom',
+            path: ['sites', i, 'imager', 'filters', j, 'darkSkyMagPerArcsec2'],
+            message: `${dark} contradicts the site's darkSkyVMagPerArcsec2 ${site.darkSkyVMagPerArcsec2}: a V filter's dark sky must equal the site's V sky (or be left out)`,
+          });
+        }
+      });
     });
   });
 

@@ -74,16 +74,22 @@ export function moonIlluminanceKS(phaseAngleDeg: number): number {
 }
 
 /**
- * Scattering function f(rho) for separation rho (degrees): Rayleigh 10^5.36 (1.06 + cos^2 rho) plus
- * Mie 10^(6.15 - rho/40) (KS91 eq. 21); for rho < 10 deg the Mie term is 6.2e7 / rho^2 as KS91
- * suggest (from memory; the model is not calibrated that close to the Moon).
+ * Scattering function f(rho) for separation rho (degrees): Rayleigh 10^5.36 (1.06 + cos^2 rho)
+ * (KS91 eq. 17) plus Mie scattering, the larger of KS91's two forms, 10^(6.15 - rho/40) (eq. 21)
+ * and 6.2e7 / rho^2 (eq. 19, for small separations). Read piecewise (eq. 19 below 10 deg, eq. 21
+ * above), as commonly applied, the sky jumps by 0.16 mag at 10 deg; the larger of the two is
+ * continuous, crosses over at 8.45 deg and is at most 0.16 mag brighter than the piecewise reading
+ * between 8.45 and 10 deg (the brighter sky: the conservative side for exposure times).
+ * Equation numbers and constants are from memory of the paper (its text was not at hand to check);
+ * the model is not calibrated within a few degrees of the Moon. rho is held at 0.25 deg or more
+ * (the Moon's radius) so the sky stays finite on the disc.
  */
 export function scatteringFunctionKS(separationDeg: number): number {
   requireFinite('moonSeparationDeg', separationDeg, 0, 180);
-  const rho = Math.max(separationDeg, 0.25); // keep finite at the Moon's disc
+  const rho = Math.max(separationDeg, 0.25);
   const cos = Math.cos(rho * DEG);
   const rayleigh = Math.pow(10, 5.36) * (1.06 + cos * cos);
-  const mie = rho >= 10 ? Math.pow(10, 6.15 - rho / 40) : 6.2e7 / (rho * rho);
+  const mie = Math.max(Math.pow(10, 6.15 - rho / 40), 6.2e7 / (rho * rho));
   return rayleigh + mie;
 }
 

@@ -42,6 +42,24 @@ describe('configuration', () => {
     expect(issues[0]).toMatch(/^planning\.rangePrior: .*"auto"\|"population"\|"powerLaw"/);
   });
 
+  it("refuses a V filter whose dark sky contradicts the site's own dark V sky, naming the filter's field", () => {
+    const raw = demoConfigRaw();
+    const site = (raw['sites'] as { darkSkyVMagPerArcsec2: number; imager: { filters: { name: string; darkSkyMagPerArcsec2?: number }[] } }[])[1]!;
+    site.darkSkyVMagPerArcsec2 = 21.4;
+    const v = site.imager.filters.findIndex((f) => f.name === 'V');
+    site.imager.filters[v]!.darkSkyMagPerArcsec2 = 21.8;
+    expect(issuesOf(raw)).toEqual([
+      `sites[1].imager.filters[${v}].darkSkyMagPerArcsec2: 21.8 contradicts the site's darkSkyVMagPerArcsec2 21.4: a V filter's dark sky must equal the site's V sky (or be left out)`,
+    ]);
+  });
+
+  it("accepts a V filter that leaves its dark sky out (the site's V sky is used)", () => {
+    const raw = demoConfigRaw();
+    const site = (raw['sites'] as { imager: { filters: { name: string; darkSkyMagPerArcsec2?: number }[] } }[])[1]!;
+    delete site.imager.filters.find((f) => f.name === 'V')!.darkSkyMagPerArcsec2;
+    expect(issuesOf(raw)).toEqual([]);
+  });
+
   it('lists every problem, not only the first', () => {
     const raw = demoConfigRaw();
     const site = (raw['sites'] as Record<string, unknown>[])[1]!;

@@ -1,4 +1,5 @@
 import { describe, expect, it } from 'vitest';
+import * as Astronomy from 'astronomy-engine';
 import type { Site } from '../../src/config/schema.js';
 import { loadConfig } from '../../src/config/load.js';
 import { evaluateLimits, horizonMaskAltitudeDeg, requiredMoonSeparationDeg } from '../../src/sky/limits.js';
@@ -24,6 +25,25 @@ describe('Moon separation limit', () => {
   it('scales with the illuminated fraction and never drops below 3 deg', () => {
     expect(requiredMoonSeparationDeg(lanternRidge.limits, 0.5)).toBeCloseTo(15, 9);
     expect(requiredMoonSeparationDeg(lanternRidge.limits, 0.01)).toBe(3);
+  });
+
+  // The separation is measured from the site, so the fraction that scales it is the one seen from the site:
+  // the topocentric phase angle (at the Moon, between the Sun and the observer), Meeus eq. 48.1 k = (1 + cos i)/2.
+  it("scales with the illuminated fraction seen from the site, not from the Earth's centre (they differ by 0.0074 here)", () => {
+    const t = new Date('2027-03-15T07:00:00Z'); // lantern-ridge, Moon 12.6 deg up, 0.95 deg of parallax
+    const time = Astronomy.MakeTime(t);
+    const site = Astronomy.ObserverVector(time, new Astronomy.Observer(34.21, -107.62, 2310), false);
+    const moon = Astronomy.GeoMoon(time);
+    const sun = Astronomy.GeoVector(Astronomy.Body.Sun, time, true);
+    const toSun = new Astronomy.Vector(sun.x - moon.x, sun.y - moon.y, sun.z - moon.z, time);
+    const toSite = new Astronomy.Vector(site.x - moon.x, site.y - moon.y, site.z - moon.z, time);
+    const topocentric = (1 + Math.cos((Astronomy.AngleBetween(toSun, toSite) * Math.PI) / 180)) / 2;
+    const geocentric = Astronomy.Illumination(Astronomy.Body.Moon, time).phase_fraction;
+    expect(Math.abs(topocentric - geocentric)).toBeGreaterThan(0.007);
+    const report = evaluateLimits(lanternRidge, t, { raDeg: 186, decDeg: 30 });
+    expect(Math.abs(report.moon.illuminatedFraction - topocentric)).toBeLessThan(1e-4);
+    const moonCheck = report.checks.find((c) => c.limit === 'moonSeparation')!;
+    expect(moonCheck.margin).toBeCloseTo(report.moon.separationDeg - 30 * topocentric, 2);
   });
 
   it('is the configured value when it does not scale', () => {

@@ -3,6 +3,7 @@ import { loadConfig } from '../../src/config/load.js';
 import {
   airmassKS,
   nanolambertsFromVMag,
+  scatteringFunctionKS,
   skyBrightnessAt,
   skyBrightnessKS,
   vMagFromNanolamberts,
@@ -64,6 +65,19 @@ describe('Krisciunas & Schaefer (1991) sky brightness', () => {
     const r = skyBrightnessKS({ ...base, moonPhaseAngleDeg: 5, moonAltitudeDeg: 60, moonSeparationDeg: 60, targetAltitudeDeg: 60 });
     expect(r.vMagPerArcsec2).toBeGreaterThan(17);
     expect(r.vMagPerArcsec2).toBeLessThan(19.5);
+  });
+
+  // KS91 give two Mie forms, 10^(6.15 - rho/40) (eq. 21) and 6.2e7 rho^-2 (eq. 19; from memory); read
+  // piecewise at 10 deg the moonlight jumps by 0.16 mag. The model takes the larger, which is continuous.
+  it('keeps the moonlight continuous across 10 deg from the Moon, where the two Mie forms meet', () => {
+    const just = (deg: number) => vMagFromNanolamberts(skyBrightnessKS({ ...base, moonSeparationDeg: deg }).moonlightNanolamberts);
+    expect(Math.abs(just(10 - 1e-6) - just(10 + 1e-6))).toBeLessThan(1e-6);
+  });
+
+  it("uses the paper's 10^(6.15 - rho/40) Mie term beyond 8.45 deg and 6.2e7 / rho^2 closer in", () => {
+    const rayleigh = (deg: number) => Math.pow(10, 5.36) * (1.06 + Math.cos((deg * Math.PI) / 180) ** 2);
+    for (const deg of [9, 10, 30, 90]) expect(scatteringFunctionKS(deg)).toBeCloseTo(rayleigh(deg) + Math.pow(10, 6.15 - deg / 40), 3);
+    for (const deg of [1, 5, 8]) expect(scatteringFunctionKS(deg)).toBeCloseTo(rayleigh(deg) + 6.2e7 / deg ** 2, 3);
   });
 
   it('refuses a target below the horizon, naming the field', () => {
