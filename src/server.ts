@@ -71,6 +71,8 @@ export async function startService(options: StartOptions): Promise<RunningServic
     futureToleranceMin: config.service.futureToleranceMin,
     observe: (source, r) => metrics.noticesReceived.inc({ source: source.split(':')[0] ?? source, result: r.status }),
   });
+  // Routes that queue work start the assessment job at once (bound once the jobs exist).
+  let startAssessing: () => void = () => {};
   const workerEstimates = createOnDemandEstimates({ store, members: config.planning.members, clock, rangePrior: config.planning.rangePrior });
   const app = await buildApp({
     onDemand: withRefusals(workerEstimates, isEstimatorRefusal),
@@ -82,6 +84,7 @@ export async function startService(options: StartOptions): Promise<RunningServic
     metrics,
     logger: logger.child({ part: 'api' }),
     sourceNames: ['inbox', ...config.service.feeds.map(feedSourceName)],
+    onWorkQueued: () => startAssessing(),
   });
   const jobLog = logger.child({ part: 'jobs' });
   const log = { info: (o: object, m: string) => jobLog.info(o, m), warn: (o: object, m: string) => jobLog.warn(o, m) };
@@ -102,6 +105,7 @@ export async function startService(options: StartOptions): Promise<RunningServic
       debug: (m) => jobLog.debug({ scheduler: String(m) }, 'cron'),
     },
   );
+  startAssessing = () => void jobs.runNow('assess');
   let address: string;
   try {
     address = await app.listen({ host: config.service.host, port: config.service.port });

@@ -36,6 +36,8 @@ export interface AppOptions {
   onDemand?: OnDemandEstimates;
   /** Or a synchronous estimate source answered on the calling thread (tests); none by default. */
   estimateFor?: (objectId: string) => ObjectEstimate | null;
+  /** Called when a route puts objects on the work queue (an outcome, a confirmed position); the service starts assessing. */
+  onWorkQueued?: () => void;
 }
 
 export const API_VERSION = '1.0.0';
@@ -62,6 +64,7 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
     migrationsDir: options.migrationsDir,
     sourceNames: options.sourceNames ?? ['inbox', ...service.feeds.map((f) => `feed:${f.id}`)],
     onDemand: options.onDemand ?? onDemandFromEstimates(options.estimateFor ?? (() => null)),
+    workQueued: options.onWorkQueued ?? (() => {}),
   };
 
   const app = Fastify({

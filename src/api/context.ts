@@ -19,4 +19,6 @@ export interface ApiContext {
    * thread. Refusals reject with EstimateRefusedError.
    */
   onDemand: OnDemandEstimates;
+  /** Says that objects were put on the work queue, so assessment can start without waiting for its next tick. */
+  workQueued: () => void;
 }

@@ -25,6 +25,11 @@ export interface IntakeOptions {
   observe?: (source: string, result: IntakeResult) => void;
 }
 
+/** How an outcome's positions are taken: per position (in the notice's order), why it is held back, or null. */
+export interface FollowUp {
+  heldReasons: readonly (string | null)[];
+}
+
 /** Flattens a validated notice into the store's input. */
 export function toNoticeInput(notice: Notice, raw: string, source: string, receivedAt: Date): NoticeInput {
   const retraction = notice.retracted === true;
@@ -70,7 +75,7 @@ export function createIntake(options: IntakeOptions) {
     return result;
   }
 
-  function classify(item: PayloadItem, source: string): IntakeResult {
+  function classify(item: PayloadItem, source: string, followUp?: FollowUp): IntakeResult {
     const now = clock();
     if (!item.ok) {
       const rejectionId = notices.recordRejection({
@@ -83,7 +88,13 @@ export function createIntake(options: IntakeOptions) {
       });
       return { status: 'rejected', sender: null, noticeId: null, rejectionId, reasons: item.issues };
     }
-    const parsed = parseNotice(item.value, { now, checkAge: true, futureToleranceMin: options.futureToleranceMin });
+    const parsed = parseNotice(item.value, {
+      now,
+      checkAge: true,
+      futureToleranceMin: options.futureToleranceMin,
+      // An update of an object this sender already gave us (or an outcome's positions) needs no new tracklet.
+      isUpdate: followUp !== undefined ? () => true : (n) => notices.senderKnowsObject(n.sender, n.objectId),
+    });
     if (!parsed.ok) {
       const id = noticeIdentity(item.value);
       const rejectionId = notices.recordRejection({
@@ -97,7 +108,9 @@ export function createIntake(options: IntakeOptions) {
       return { status: 'rejected', sender: id.sender, noticeId: id.noticeId, rejectionId, reasons: parsed.issues };
     }
     const notice = parsed.notice;
-    const stored = notices.recordNotice(toNoticeInput(notice, item.rawText, source, now));
+    const input = toNoticeInput(notice, item.rawText, source, now);
+    if (followUp !== undefined) input.observations = input.observations.map((o, k) => ({ ...o, heldReason: followUp.heldReasons[k] ?? null }));
+    const stored = notices.recordNotice(input);
     if (stored.status === 'duplicate') {
       return { status: 'duplicate', sender: notice.sender, noticeId: notice.noticeId, objectId: notice.objectId, sameContent: stored.sameContent };
     }
@@ -120,6 +133,16 @@ export function createIntake(options: IntakeOptions) {
     /** NDJSON: one notice per line. */
     ingestNdjson(text: string, source: string): IntakeResult[] {
       return splitNdjsonPayload(text).map((item) => ingestItem(item, source));
+    },
+    /**
+     * Positions measured at a site for an object the service holds (an outcome's): stored as a
+     * notice merged with the tracklet, one position being enough. `heldReasons[k]`, when set,
+     * keeps position k out of assessments until an operator confirms it.
+     */
+    ingestFollowUp(value: unknown, rawText: string, source: string, followUp: FollowUp): IntakeResult {
+      const result = classify({ ok: true, rawText, value }, source, followUp);
+      options.observe?.(source, result);
+      return result;
     },
     /** An already-parsed value (e.g. a fastify body), with its verbatim text when known. */
     ingestValue(value: unknown, rawText: string, source: string): IntakeResult[] {

@@ -95,13 +95,23 @@ export interface ParseNoticeOptions {
   /** Refuse times later than now + futureToleranceMin and earlier than 1990 (intake: yes; ad-hoc CLI: no). */
   checkAge: boolean;
   futureToleranceMin?: number;
+  /**
+   * Whether the notice updates an object the service already holds (the same sender's
+   * designation, or the object of an outcome). An update is merged with the tracklet held, so
+   * one position is enough and no arc length is asked; a new object still needs a tracklet.
+   */
+  isUpdate?: (notice: Notice) => boolean;
 }
 
 export type ParseNoticeResult = { ok: true; notice: Notice } | { ok: false; issues: ValidationIssue[] };
 
+/** Positions an update of a known object needs at least: one (follow-up astrometry is often a few frames over minutes). */
+export const MIN_UPDATE_OBSERVATIONS = 1;
+
 function crossFieldIssues(notice: Notice, options: ParseNoticeOptions): ValidationIssue[] {
   const issues: ValidationIssue[] = [];
   const observations = notice.observations ?? [];
+  const update = notice.retracted !== true && options.isUpdate !== undefined && options.isUpdate(notice);
   if (notice.retracted === true) {
     if (notice.reason === undefined) issues.push({ path: 'reason', message: 'a retraction needs a reason' });
     if (observations.length > 0)
@@ -111,10 +121,13 @@ function crossFieldIssues(notice: Notice, options: ParseNoticeOptions): Validati
       issues.push({ path: 'reason', message: 'reason is only allowed together with "retracted": true' });
     // An orbit block alone is enough to compute an ephemeris; without one, a tracklet is needed.
     const orbitOnly = notice.orbit !== undefined && observations.length === 0;
-    if (observations.length < MIN_OBSERVATIONS && !orbitOnly) {
+    const needed = update ? MIN_UPDATE_OBSERVATIONS : MIN_OBSERVATIONS;
+    if (observations.length < needed && !orbitOnly) {
       issues.push({
         path: 'observations',
-        message: `expected at least ${MIN_OBSERVATIONS} observations${notice.orbit === undefined ? ' (or an orbit block)' : ''}, got ${observations.length}`,
+        message: update
+          ? `an update of a known object needs at least ${MIN_UPDATE_OBSERVATIONS} observation${notice.orbit === undefined ? ' (or an orbit block)' : ''}, got 0`
+          : `expected at least ${MIN_OBSERVATIONS} observations${notice.orbit === undefined ? ' (or an orbit block)' : ''}, got ${observations.length}`,
       });
     }
   }
@@ -126,7 +139,7 @@ function crossFieldIssues(notice: Notice, options: ParseNoticeOptions): Validati
       break;
     }
   }
-  if (observations.length >= MIN_OBSERVATIONS) {
+  if (!update && observations.length >= MIN_OBSERVATIONS) {
     const times = observations.map((o) => Date.parse(o.t));
     const arcMin = (Math.max(...times) - Math.min(...times)) / 60_000;
     if (arcMin < MIN_ARC_MINUTES) {

@@ -85,7 +85,7 @@ export function createAssessmentRunner(deps: RunnerDeps) {
       const result = store.requests.saveAssessment({
         objectId,
         createdAt: now.toISOString(),
-        observations: store.objects.observations(objectId).length,
+        observations: store.objects.tracklet(objectId).length,
         summary: output.summary,
         requests: output.requests,
       });

@@ -11,6 +11,8 @@ export interface ObservationInput {
   obsLatDeg: number;
   obsLonDeg: number;
   obsHeightM: number;
+  /** Set: kept but not used by assessments until an operator confirms it (e.g. a possible misidentification). */
+  heldReason?: string | null;
 }
 
 /** A validated notice, flattened for storage. */
@@ -97,8 +99,11 @@ export function createNoticeStore(db: Db) {
   const retractObject = db.prepare(`UPDATE objects SET state = 'retracted', retraction_reason = ?, retracted_at = ?, last_notice_at = ? WHERE id = ?`);
   const reviveObject = db.prepare(`UPDATE objects SET state = 'active', retraction_reason = NULL, retracted_at = NULL, retired_reason = NULL WHERE id = ?`);
   const insertObservation = db.prepare(`INSERT OR IGNORE INTO observations
-    (object_id, notice_row, t, ra_deg, dec_deg, sigma_arcsec, mag, band, obs_lat_deg, obs_lon_deg, obs_height_m)
-    VALUES (@objectId, @noticeRow, @t, @raDeg, @decDeg, @sigmaArcsec, @mag, @band, @obsLatDeg, @obsLonDeg, @obsHeightM)`);
+    (object_id, notice_row, t, ra_deg, dec_deg, sigma_arcsec, mag, band, obs_lat_deg, obs_lon_deg, obs_height_m, held_reason)
+    VALUES (@objectId, @noticeRow, @t, @raDeg, @decDeg, @sigmaArcsec, @mag, @band, @obsLatDeg, @obsLonDeg, @obsHeightM, @heldReason)`);
+  const senderKnows = db.prepare(`SELECT 1 AS known FROM notices n JOIN objects o ON o.id = n.object_id
+    WHERE n.sender = ? AND n.object_id = ? AND n.kind = 'observations'
+      AND (o.orbit IS NOT NULL OR EXISTS (SELECT 1 FROM observations b WHERE b.object_id = o.id)) LIMIT 1`);
   const enqueue = db.prepare(`INSERT INTO work (object_id, state, attempts, enqueued_at, updated_at) VALUES (?, 'waiting', 0, ?, ?)
     ON CONFLICT (object_id) DO UPDATE SET state = 'waiting', attempts = CASE WHEN work.state = 'running' THEN work.attempts ELSE 0 END,
       last_error = NULL, enqueued_at = excluded.enqueued_at, updated_at = excluded.updated_at`);
@@ -140,7 +145,7 @@ export function createNoticeStore(db: Db) {
     }
     let added = 0;
     for (const obs of input.observations) {
-      added += insertObservation.run({ ...obs, objectId: input.objectId, noticeRow }).changes;
+      added += insertObservation.run({ ...obs, heldReason: obs.heldReason ?? null, objectId: input.objectId, noticeRow }).changes;
     }
     markMerged.run(added, noticeRow);
     const queued = objectState === 'active' && (added > 0 || input.orbitJson !== null || revived || !object);
@@ -159,6 +164,10 @@ export function createNoticeStore(db: Db) {
         insertRejection.run(input.source, input.receivedAt, input.sender, input.noticeId, input.raw, JSON.stringify(input.reasons))
           .lastInsertRowid,
       );
+    },
+    /** True when this sender has already sent observations of this object and the service holds positions or an orbit for it. */
+    senderKnowsObject(sender: string, objectId: string): boolean {
+      return senderKnows.get(sender, objectId) !== undefined;
     },
     findNotice(sender: string, noticeId: string): NoticeRow | null {
       return (findByKey.get(sender, noticeId) as NoticeRow | undefined) ?? null;

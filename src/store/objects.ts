@@ -26,7 +26,15 @@ export interface TrackletRow {
 export interface StoredObservation extends ObservationInput {
   id: number;
   noticeRow: number;
+  heldReason: string | null;
+  confirmedAt: string | null;
+  confirmedBy: string | null;
 }
+
+export type ConfirmResult =
+  | { status: 'confirmed'; observation: StoredObservation }
+  | { status: 'not_found' }
+  | { status: 'not_held'; observation: StoredObservation };
 
 const OBJECT_COLUMNS = `id, state, first_notice_at AS firstNoticeAt, last_notice_at AS lastNoticeAt,
   retraction_reason AS retractionReason, retracted_at AS retractedAt, orbit, retired_reason AS retiredReason`;
@@ -34,9 +42,13 @@ const OBJECT_COLUMNS = `id, state, first_notice_at AS firstNoticeAt, last_notice
 /** Objects and their merged, deduplicated tracklets. */
 export function createObjectStore(db: Db) {
   const byId = db.prepare(`SELECT ${OBJECT_COLUMNS} FROM objects WHERE id = ?`);
-  const observationsOf = db.prepare(`SELECT id, notice_row AS noticeRow, t, ra_deg AS raDeg, dec_deg AS decDeg,
-    sigma_arcsec AS sigmaArcsec, mag, band, obs_lat_deg AS obsLatDeg, obs_lon_deg AS obsLonDeg, obs_height_m AS obsHeightM
-    FROM observations WHERE object_id = ? ORDER BY t, id`);
+  const OBSERVATION_COLUMNS = `id, notice_row AS noticeRow, t, ra_deg AS raDeg, dec_deg AS decDeg,
+    sigma_arcsec AS sigmaArcsec, mag, band, obs_lat_deg AS obsLatDeg, obs_lon_deg AS obsLonDeg, obs_height_m AS obsHeightM,
+    held_reason AS heldReason, confirmed_at AS confirmedAt, confirmed_by AS confirmedBy`;
+  const observationsOf = db.prepare(`SELECT ${OBSERVATION_COLUMNS} FROM observations WHERE object_id = ? ORDER BY t, id`);
+  const usableOf = db.prepare(`SELECT ${OBSERVATION_COLUMNS} FROM observations WHERE object_id = ? AND (held_reason IS NULL OR confirmed_at IS NOT NULL)
+    ORDER BY t, id`);
+  const observationById = db.prepare(`SELECT ${OBSERVATION_COLUMNS} FROM observations WHERE object_id = ? AND id = ?`);
   return {
     getObject(id: string): ObjectRow | null {
       return (byId.get(id) as ObjectRow | undefined) ?? null;
@@ -59,9 +71,12 @@ export function createObjectStore(db: Db) {
     activeIds(): string[] {
       return (db.prepare(`SELECT id FROM objects WHERE state = 'active' ORDER BY id`).all() as { id: string }[]).map((r) => r.id);
     },
-    /** The tracklet in time order as the orbit estimator takes it (degrees, arcsec, metres). */
+    /**
+     * The tracklet in time order as the orbit estimator takes it (degrees, arcsec, metres): every
+     * position except those held back (a possible misidentification) and not yet confirmed.
+     */
     tracklet(objectId: string): TrackletRow[] {
-      return (observationsOf.all(objectId) as StoredObservation[]).map((o) => ({
+      return (usableOf.all(objectId) as StoredObservation[]).map((o) => ({
         t: o.t,
         raDeg: o.raDeg,
         decDeg: o.decDeg,
@@ -76,9 +91,17 @@ export function createObjectStore(db: Db) {
       const row = byId.get(objectId) as ObjectRow | undefined;
       return row?.orbit ? (JSON.parse(row.orbit) as Record<string, unknown>) : null;
     },
-    /** The object's tracklet in time order. */
+    /** Every stored position of the object in time order, held ones included. */
     observations(objectId: string): StoredObservation[] {
       return observationsOf.all(objectId) as StoredObservation[];
+    },
+    /** An operator's confirmation of a held position: from now on assessments use it. */
+    confirmObservation(objectId: string, observationId: number, by: string, at: Date): ConfirmResult {
+      const row = observationById.get(objectId, observationId) as StoredObservation | undefined;
+      if (!row) return { status: 'not_found' };
+      if (row.heldReason === null || row.confirmedAt !== null) return { status: 'not_held', observation: row };
+      db.prepare(`UPDATE observations SET confirmed_at = ?, confirmed_by = ? WHERE id = ?`).run(at.toISOString(), by, observationId);
+      return { status: 'confirmed', observation: observationById.get(objectId, observationId) as StoredObservation };
     },
   };
 }

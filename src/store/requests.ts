@@ -193,6 +193,15 @@ function changesBetween(old: RequestRow, r: NewRequest): RevisionChange[] {
   return changes;
 }
 
+/** What is stored as a request's outcome: the result, when, notes, and how many positions came with it (and how many were held back). */
+export interface OutcomeRecord {
+  result: 'done' | 'failed';
+  observedAt: string;
+  notes: string | null;
+  positions?: number;
+  held?: number;
+}
+
 /** A queue read: a site's queued requests whose window is open at `from` or opens before `to`; `after` continues a page (keyset). */
 export interface QueueQuery {
   siteId: string;
@@ -394,7 +403,7 @@ export function createRequestStore(db: Db) {
   });
 
   const recordOutcome = db.transaction(
-    (id: string, token: string, outcome: { result: 'done' | 'failed'; observedAt: string; notes: string | null }, now: Date): LeaseCheck => {
+    (id: string, token: string, outcome: OutcomeRecord, now: Date): LeaseCheck => {
       const check = checkLease(id, token, now);
       if (check.status !== 'ok') return check;
       const at = now.toISOString();
@@ -439,7 +448,7 @@ export function createRequestStore(db: Db) {
     renew(id: string, token: string, seconds: number, now: Date): LeaseCheck {
       return renew.immediate(id, token, seconds, now);
     },
-    recordOutcome(id: string, token: string, outcome: { result: 'done' | 'failed'; observedAt: string; notes: string | null }, now: Date): LeaseCheck {
+    recordOutcome(id: string, token: string, outcome: OutcomeRecord, now: Date): LeaseCheck {
       return recordOutcome.immediate(id, token, outcome, now);
     },
     withdraw(id: string, reason: string, now: Date) {

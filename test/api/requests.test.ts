@@ -229,23 +229,25 @@ describe('queue and leases', () => {
     clockAt.t += 120_000;
     store.requests.expireLeases(clock());
     const fresh = (await lease(ids[0]!, 'queue-b', 600)).json().leaseToken as string;
-    const refused = await app!.inject({ method: 'POST', url: `/v1/requests/${ids[0]}/outcome`, headers: scheduler, payload: { leaseToken: stale, result: 'done', observedAt: at(5) } });
+    const refused = await app!.inject({ method: 'POST', url: `/v1/requests/${ids[0]}/outcome`, headers: scheduler, payload: { leaseToken: stale, result: 'done', observedAt: at(2) } });
     expect(refused.statusCode).toBe(409);
-    const accepted = await app!.inject({ method: 'POST', url: `/v1/requests/${ids[0]}/outcome`, headers: scheduler, payload: { leaseToken: fresh, result: 'done', observedAt: at(5) } });
+    const accepted = await app!.inject({ method: 'POST', url: `/v1/requests/${ids[0]}/outcome`, headers: scheduler, payload: { leaseToken: fresh, result: 'done', observedAt: at(2) } });
     expect(accepted.statusCode).toBe(200);
     expect(accepted.json().request.state).toBe('done');
   });
 
-  it('turns the astrometry of an outcome into a notice for the object and queues it again', async () => {
+  it("turns the positions of an outcome into a notice for the object and queues it again", async () => {
     const { ids, store } = await setup();
-    const token = (await lease(ids[0]!)).json().leaseToken as string;
-    const astrometry = [
-      { t: at(-20), ra: 151.3012, dec: -12.3301, sigma: 0.3, mag: 19.2, band: 'V' },
-      { t: at(-5), ra: 151.3089, dec: -12.3282, sigma: 0.3 },
+    const token = (await lease(ids[0]!, 'queue-a', 3600)).json().leaseToken as string;
+    clockAt.t = T0 + 30 * 60_000;
+    const positions = [
+      { t: at(25), ra: 151.3089, dec: -12.3282, sigma: 0.3 },
+      { t: at(20), ra: 151.3012, dec: -12.3301, sigma: 0.3, mag: 19.2, band: 'V' },
     ];
-    const res = await app!.inject({ method: 'POST', url: `/v1/requests/${ids[0]}/outcome`, headers: scheduler, payload: { leaseToken: token, result: 'done', observedAt: at(-5), astrometry } });
+    const res = await app!.inject({ method: 'POST', url: `/v1/requests/${ids[0]}/outcome`, headers: scheduler, payload: { leaseToken: token, result: 'done', observedAt: at(25), positions } });
     expect(res.statusCode).toBe(200);
-    expect(res.json().astrometry).toMatchObject({ status: 'accepted', observationsAdded: 2 });
+    expect(res.json().notice).toMatchObject({ status: 'accepted', observationsAdded: 2 });
+    expect(res.json().positions.map((p: { t: string; held: boolean }) => [p.t, p.held])).toEqual([[at(20), false], [at(25), false]]);
     const notice = store.notices.findNotice('site:lantern-ridge', `outcome-${ids[0]}`);
     expect(notice?.objectId).toBe('ZX27A01');
     expect(store.objects.observations('ZX27A01')[0]).toMatchObject({ obsLatDeg: 34.21, obsLonDeg: -107.62, obsHeightM: 2310 });
@@ -336,6 +338,7 @@ describe('service documents', () => {
       'GET /v1/requests',
       'GET /v1/objects',
       'GET /v1/objects/{id}',
+      'POST /v1/objects/{id}/observations/{obsId}/confirm',
       'GET /v1/notices',
       'POST /v1/notices',
       'GET /v1/rejections',
@@ -385,12 +388,12 @@ describe('service documents', () => {
 });
 
 describe('replanning after an outcome', () => {
-  it('puts the object back on the work queue when a request is reported done without astrometry', async () => {
+  it('puts the object back on the work queue when a request is reported done without positions', async () => {
     const { ids, store } = await setup();
     store.work.claimNext(clock());
     store.work.finish('ZX27A01', clock());
     const token = (await lease(ids[0]!)).json().leaseToken as string;
-    const res = await app!.inject({ method: 'POST', url: `/v1/requests/${ids[0]}/outcome`, headers: scheduler, payload: { leaseToken: token, result: 'done', observedAt: at(5) } });
+    const res = await app!.inject({ method: 'POST', url: `/v1/requests/${ids[0]}/outcome`, headers: scheduler, payload: { leaseToken: token, result: 'done', observedAt: at(1) } });
     expect(res.json().replanQueued).toBe(true);
     expect(store.work.get('ZX27A01')?.state).toBe('waiting');
   });

@@ -16,6 +16,7 @@ const objectSummary = z.object({
 });
 
 const observationView = z.object({
+  id: z.number().int(),
   t: z.string(),
   ra: z.number().describe('deg'),
   dec: z.number().describe('deg'),
@@ -23,7 +24,30 @@ const observationView = z.object({
   mag: z.number().nullable(),
   band: z.string().nullable(),
   observer: z.object({ lat: z.number(), lon: z.number(), height: z.number() }),
+  held: z.boolean().describe('kept but not used by assessments: held back (e.g. a possible misidentification) and not yet confirmed'),
+  heldReason: z.string().nullable(),
+  confirmedAt: z.string().nullable(),
+  confirmedBy: z.string().nullable(),
 });
+
+type StoredObservationRow = ReturnType<ApiContext['store']['objects']['observations']>[number];
+
+function toObservationView(x: StoredObservationRow) {
+  return {
+    id: x.id,
+    t: x.t,
+    ra: x.raDeg,
+    dec: x.decDeg,
+    sigma: x.sigmaArcsec,
+    mag: x.mag,
+    band: x.band,
+    observer: { lat: x.obsLatDeg, lon: x.obsLonDeg, height: x.obsHeightM },
+    held: x.heldReason !== null && x.confirmedAt === null,
+    heldReason: x.heldReason,
+    confirmedAt: x.confirmedAt,
+    confirmedBy: x.confirmedBy,
+  };
+}
 
 const objectDetail = objectSummary.extend({
   orbit: z.unknown().nullable().describe('the orbit block of the latest notice that carried one'),
@@ -124,6 +148,39 @@ export function objectRoutes(ctx: ApiContext): AnyRouteSpec[] {
       },
     }),
     defineRoute({
+      method: 'POST',
+      url: '/v1/objects/:id/observations/:obsId/confirm',
+      tag: 'review',
+      summary: 'Confirm a held position of an object (operator)',
+      description:
+        'A follow-up position outside the predicted 5-sigma region is kept but held back as a possible misidentification. Confirming it says the object measured is this one: assessments use it from now on, and the object is replanned at once.',
+      role: 'operator',
+      params: z.object({ id: z.string().min(1).max(128).describe('object id'), obsId: z.coerce.number().int().positive().describe('observation id, as in the object tracklet') }).strict(),
+      body: z.object({ note: z.string().max(1000).optional() }).strict(),
+      responses: {
+        200: { description: 'confirmed; the object is replanned', schema: z.object({ observation: observationView, replanQueued: z.boolean() }) },
+        404: { description: 'no such object or observation', schema: errorSchema },
+        409: { description: 'the observation is not held (never was, or already confirmed)', schema: errorSchema },
+      },
+      handler: async ({ params, body, caller }) => {
+        if (!store.objects.getObject(params.id)) throw new ApiError(404, 'not_found', `no object ${params.id}`);
+        const now = ctx.clock();
+        const who = `${caller?.name ?? 'operator'}${body.note ? `: ${body.note}` : ''}`;
+        const result = store.db.transaction(() => {
+          const r = store.objects.confirmObservation(params.id, params.obsId, who, now);
+          if (r.status === 'confirmed') store.work.enqueueIdle([params.id], now);
+          return r;
+        })();
+        if (result.status === 'not_found') throw new ApiError(404, 'not_found', `object ${params.id} has no observation ${params.obsId}`);
+        if (result.status === 'not_held') {
+          const why = result.observation.confirmedAt !== null ? `was confirmed at ${result.observation.confirmedAt} by ${result.observation.confirmedBy ?? 'an operator'}` : 'is not held back';
+          throw new ApiError(409, 'not_held', `observation ${params.obsId} of ${params.id} ${why}`);
+        }
+        ctx.workQueued();
+        return { observation: toObservationView(result.observation), replanQueued: true };
+      },
+    }),
+    defineRoute({
       method: 'GET',
       url: '/v1/objects',
       tag: 'review',
@@ -164,15 +221,7 @@ export function objectRoutes(ctx: ApiContext): AnyRouteSpec[] {
         return {
           ...summarise(o.id),
           orbit: o.orbit ? (JSON.parse(o.orbit) as unknown) : null,
-          tracklet: store.objects.observations(o.id).map((x) => ({
-            t: x.t,
-            ra: x.raDeg,
-            dec: x.decDeg,
-            sigma: x.sigmaArcsec,
-            mag: x.mag,
-            band: x.band,
-            observer: { lat: x.obsLatDeg, lon: x.obsLonDeg, height: x.obsHeightM },
-          })),
+          tracklet: store.objects.observations(o.id).map(toObservationView),
           assessment: store.requests.latestAssessment(o.id)?.summary ?? null,
           assessments: store.requests.assessments(o.id),
           requests: store.requests.list({ objectId: o.id, limit: 200 }).map(toRequestView),

@@ -5,6 +5,7 @@ import { NOTICE_BANDS, NOTICE_FORMAT } from '../../intake/notice.js';
 import type { LeaseCheck, RequestKind, RequestState } from '../../store/requests.js';
 import type { ApiContext } from '../context.js';
 import { ApiError } from '../errors.js';
+import { checkOutcome } from '../outcome-checks.js';
 import { defineRoute, type AnyRouteSpec } from '../route-spec.js';
 import { errorSchema, idParams, isoTime, kindSchema, limitParam, pageOf, requestView, requestViewJson, stateSchema, toRequestView } from '../schemas.js';
 
@@ -24,14 +25,14 @@ const renewBody = z
   })
   .strict();
 
-const astrometryRow = z
+const positionRow = z
   .object({
-    t: isoTime(),
+    t: isoTime().describe('mid-exposure, ISO UTC'),
     ra: z.number().min(0).lt(360).describe('deg, astrometric ICRS from the site'),
     dec: z.number().min(-90).max(90).describe('deg'),
     sigma: z.number().gt(0).max(3600).describe('1-sigma per axis, arcsec'),
     mag: z.number().min(-5).max(35).optional(),
-    band: z.enum(NOTICE_BANDS).optional(),
+    band: z.enum(NOTICE_BANDS).optional().describe('band of mag; V when absent'),
   })
   .strict();
 
@@ -39,11 +40,24 @@ const outcomeBody = z
   .object({
     leaseToken: z.string().min(1).max(200),
     result: z.enum(['done', 'failed']),
-    observedAt: isoTime(),
+    observedAt: isoTime().describe('when it was observed (or attempted); checked against the lease, the window, the clock and, for done, the darkness at the site'),
+    site: z.string().min(1).max(32).optional().describe("the site that observed it; when given it must be the request's"),
     notes: z.string().max(4000).optional(),
-    astrometry: z.array(astrometryRow).max(2000).optional().describe('positions measured at the site; fed back as a notice so the orbit improves'),
+    positions: z
+      .array(positionRow)
+      .max(2000)
+      .optional()
+      .describe("positions measured at the site: merged with the object's tracklet (one is enough) and the object replanned at once; one outside the predicted 5-sigma region is kept but held back until an operator confirms it"),
   })
   .strict();
+
+const positionOutcome = z.object({
+  id: z.number().int().nullable().describe('the stored observation, for /v1/objects/{id}/observations/{obsId}/confirm'),
+  t: z.string(),
+  sigmaDistance: z.number().nullable().describe("distance from the request's predicted place in combined sigma; null without a table to check against"),
+  held: z.boolean(),
+  heldReason: z.string().nullable(),
+});
 
 const withdrawBody = z.object({ reason: z.string().min(1).max(1000) }).strict();
 
@@ -266,44 +280,78 @@ export function requestRoutes(ctx: ApiContext): AnyRouteSpec[] {
       method: 'POST',
       url: '/v1/requests/:id/outcome',
       tag: 'queue',
-      summary: 'Report a leased request done or failed',
+      summary: 'Report a leased request done or failed, with the positions measured',
       description:
-        'Needs the current lease token. The object is put back on the work queue so its remaining requests are recomputed; astrometry measured at the site is first stored as a new notice for the object (sender `site:<id>`), so the orbit improves too.',
+        "Needs the current lease token. The outcome is checked first: `observedAt` (and every position's time) may not be in the future (2 min allowed for clocks), before the lease began (5 min allowed) or more than 15 min outside the request's window, and a `done` and every position must fall in darkness at the site by its own night limit. A refused outcome answers 422 naming each field and reason and changes nothing. Positions are stored as a notice for the object (sender `site:<id>`), merged with its tracklet (one position is enough), and the object is replanned at once; a position outside the request's predicted 5-sigma region is kept but held back as a possible misidentification until an operator confirms it.",
       role: 'scheduler',
       params: idParams,
       body: outcomeBody,
       responses: {
         200: {
-          description: 'recorded; the object is queued for a new assessment',
-          schema: z.object({ request: requestView, astrometry: z.unknown().nullable().describe('what happened to the astrometry notice'), replanQueued: z.boolean() }),
+          description: 'recorded; the object is replanned',
+          schema: z.object({
+            request: requestView,
+            positions: z.array(positionOutcome).describe('what became of each position, in time order'),
+            notice: z.unknown().nullable().describe('the intake result of the positions notice'),
+            replanQueued: z.boolean(),
+          }),
         },
         404: { description: 'no such request', schema: errorSchema },
         409: { description: 'not leased, stale token or expired lease', schema: errorSchema },
+        422: { description: 'refused: details lists each field and reason; the request is unchanged', schema: errorSchema },
       },
       handler: async ({ params, body }) => {
         const now = clock();
-        const r = store.requests.recordOutcome(params.id, body.leaseToken, { result: body.result, observedAt: body.observedAt, notes: body.notes ?? null }, now);
+        const leased = store.requests.checkLease(params.id, body.leaseToken, now);
+        if (leased.status !== 'ok') throw leaseFailure(leased, params.id);
+        const request = leased.request;
+        const site = config.sites.find((s) => s.id === request.siteId);
+        if (!site) throw new ApiError(422, 'outcome_refused', `request ${params.id} is for site ${request.siteId}, which is no longer configured`);
+        const positions = [...(body.positions ?? [])].sort((a, b) => Date.parse(a.t) - Date.parse(b.t));
+        const checked = checkOutcome({ request, site, now, result: body.result, observedAt: body.observedAt, siteId: body.site, positions });
+        if (checked.issues.length > 0) {
+          throw new ApiError(422, 'outcome_refused', `outcome refused: ${checked.issues.map((i) => `${i.path}: ${i.message}`).join('; ')}`, checked.issues);
+        }
+        const held = checked.verdicts.filter((v) => v.heldReason !== null).length;
+        const r = store.requests.recordOutcome(
+          params.id,
+          body.leaseToken,
+          { result: body.result, observedAt: body.observedAt, notes: body.notes ?? null, positions: positions.length, held },
+          now,
+        );
         if (r.status !== 'ok') throw leaseFailure(r, params.id);
-        let astrometry: unknown = null;
-        if (body.astrometry && body.astrometry.length > 0) {
-          const site = config.sites.find((s) => s.id === r.request.siteId);
-          const notice = {
+        let notice: unknown = null;
+        const location = { lat: site.location.latDeg, lon: site.location.lonDeg > 180 ? site.location.lonDeg - 360 : site.location.lonDeg, height: site.location.heightM };
+        if (positions.length > 0) {
+          const value = {
             format: NOTICE_FORMAT,
             noticeId: `outcome-${r.request.id}`,
             objectId: r.request.objectId,
             issuedAt: now.toISOString(),
             sender: `site:${r.request.siteId}`,
-            observer: site
-              ? { lat: site.location.latDeg, lon: site.location.lonDeg > 180 ? site.location.lonDeg - 360 : site.location.lonDeg, height: site.location.heightM }
-              : { lat: 0, lon: 0, height: 0 },
-            observations: [...body.astrometry].sort((a, b) => Date.parse(a.t) - Date.parse(b.t)),
+            observer: location,
+            observations: positions,
           };
-          const [result] = ctx.intake.ingestValue(notice, JSON.stringify(notice), `outcome:${r.request.id}`);
-          astrometry = result ?? null;
+          notice = ctx.intake.ingestFollowUp(value, JSON.stringify(value), `outcome:${r.request.id}`, { heldReasons: checked.verdicts.map((v) => v.heldReason) });
         }
-        // Replan the object: what is left to do for it has changed.
+        // Replan the object now: its tracklet is longer and what is left to do has changed.
         store.work.enqueueIdle([r.request.objectId], now);
-        return { request: toRequestView(r.request), astrometry, replanQueued: true };
+        ctx.workQueued();
+        const stored = positions.length > 0 ? store.objects.observations(r.request.objectId) : [];
+        const idOf = (t: string) =>
+          stored.find((o) => o.t === new Date(t).toISOString() && o.obsLatDeg === location.lat && o.obsLonDeg === location.lon && o.obsHeightM === location.height)?.id ?? null;
+        return {
+          request: toRequestView(r.request),
+          positions: positions.map((p, k) => ({
+            id: idOf(p.t),
+            t: p.t,
+            sigmaDistance: checked.verdicts[k]!.sigmaDistance === null ? null : Number(checked.verdicts[k]!.sigmaDistance!.toFixed(2)),
+            held: checked.verdicts[k]!.heldReason !== null,
+            heldReason: checked.verdicts[k]!.heldReason,
+          })),
+          notice,
+          replanQueued: true,
+        };
       },
     }),
     defineRoute({
