@@ -13,10 +13,13 @@ const COMMANDS: Record<string, { summary: string; load: () => Promise<{ main: Co
   'check-config': { summary: 'validate the configuration and list every problem', load: () => import('./commands/check-config.js') },
   plan: { summary: 'assess one notice and plan it for the sites, without the database', load: () => import('./commands/plan.js') },
   simulate: { summary: 'invent a night of discovery notices for the demo', load: () => import('./commands/simulate.js') },
-  ephem: { summary: 'topocentric ephemeris of a notice from a site or a place', load: () => import('./commands/ephem.js') },
+  ephemeris: { summary: 'topocentric ephemeris of a notice from a site or a place', load: () => import('./commands/ephemeris.js') },
   night: { summary: "a site's night: Sun, twilight, Moon and dark hours", load: () => import('./commands/night.js') },
   exposure: { summary: 'exposure plan for a magnitude and rate at a site (imager or spectrograph)', load: () => import('./commands/exposure.js') },
 };
+
+/** Commands renamed in this release: the old name is refused with the new one, so a script fails loudly rather than silently. */
+export const RENAMED_COMMANDS: Readonly<Record<string, string>> = { ephem: 'ephemeris' };
 
 function usage(): string {
   const lines = Object.entries(COMMANDS).map(([name, c]) => `  ${name.padEnd(14)} ${c.summary}`);
@@ -32,6 +35,11 @@ export async function runCli(argv: string[], io: CommandIo): Promise<number> {
   }
   const command = COMMANDS[name];
   if (!command) {
+    const renamed = RENAMED_COMMANDS[name];
+    if (renamed !== undefined) {
+      io.stderr(`the command "${name}" is now called "${renamed}": run "nightjar ${renamed}" with the same options\n`);
+      return 2;
+    }
     io.stderr(`unknown command "${name}"\n\n${usage()}`);
     return 2;
   }

@@ -127,7 +127,7 @@ export const planSchema = z
         firstObservedAtUtc: z.string(),
         hMagP50: z.number().nullable(),
         diameterM: z.object({ min: z.number(), max: z.number() }).nullable(),
-        neoFraction: z.number(),
+        nearEarthFraction: z.number().describe('fraction of the virtual orbits with perihelion distance q < 1.3 au'),
         closeApproach: z.boolean(),
         minDistanceLunarP50: z.number(),
         notes: z.array(z.string()),

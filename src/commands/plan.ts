@@ -1,7 +1,7 @@
 import { loadConfig } from '../config/load.js';
 import type { Notice } from '../intake/notice.js';
 import { EstimationFailedError, EstimationInputError } from '../orbit/estimation/index.js';
-import { assessObject, weightsFromConfig } from '../planning/assess.js';
+import { assessObject, estimateSummaryOut, weightsFromConfig } from '../planning/assess.js';
 import type { ObjectPlan, PlannedRequest, SitePlan } from '../planning/plan-object.js';
 import { readNoticeFile, trackletOf } from './notice-file.js';
 import { parseCommandArgs, parseUtc, parseWhole } from './args.js';
@@ -153,12 +153,12 @@ export const main: CommandMain = async (argv: string[], io: CommandIo) => {
   const plan = assessment.plan;
   const s = assessment.estimateSummary;
   if (values.json) {
-    io.stdout(`${JSON.stringify({ noticeId: notice.noticeId, summary: s, plan }, null, 2)}\n`);
+    io.stdout(`${JSON.stringify({ noticeId: notice.noticeId, summary: estimateSummaryOut(s), plan }, null, 2)}\n`);
     return 0;
   }
   const h = s.hMag === null ? 'H unknown' : `H ${s.hMag.p50.toFixed(1)} (${s.hMag.p5.toFixed(1)}..${s.hMag.p95.toFixed(1)})`;
   const summaryLine =
-    `assessment: ${s.method}, ${s.members} virtual orbits, ${Math.round(s.classFractions.neo * 100)} % NEO-like, ${h}, ` +
+    `assessment: ${s.method}, ${s.members} virtual orbits, ${Math.round(s.classFractions.neo * 100)} % with q < 1.3 au, ${h}, ` +
     `closest approach ${s.minGeocentricDistance.lunarDistances.p50.toFixed(1)} lunar distances within ${s.minGeocentricDistance.withinDays} days`;
   io.stdout(`${planText(notice, plan, summaryLine)}\n`);
   return 0;

@@ -271,7 +271,9 @@ export const planningSchema = z
         freshness: weight(),
         size: weight(),
         closeApproach: weight(),
-        neoLikeness: weight(),
+        nearEarthFraction: weight(),
+        /** The old name of nearEarthFraction, refused with a message naming the new one. */
+        neoLikeness: z.never({ error: 'renamed: use nearEarthFraction (the weight of the fraction of virtual orbits with q < 1.3 au)' }).optional(),
       })
       .strict()
       .default({}),

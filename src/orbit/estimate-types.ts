@@ -39,7 +39,7 @@ export interface EstimateSummary {
   members: number;
   /** Topocentric range at the tracklet's mean epoch, au. */
   rangeAu: Percentiles;
-  /** Fractions of the virtual orbits by class (sum 1): NEO-like q < 1.3 au, main-belt-like, other. */
+  /** Fractions of the virtual orbits by class (sum 1): neo = near-Earth, q < 1.3 au (the service writes it as nearEarth / nearEarthFraction); main-belt-like; other. */
   classFractions: { neo: number; mainBelt: number; other: number };
   /** Absolute magnitude H (V band) across the ensemble; null when the tracklet has no magnitudes and no H was given. */
   hMag: Percentiles | null;

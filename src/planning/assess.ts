@@ -36,7 +36,7 @@ export interface Assessment {
     objectId: string;
     assessedAt: string;
     firstObservedAt: string;
-    estimate: unknown;
+    estimate: EstimateSummaryOut;
     horizonEnd: string;
     sites: { siteId: string; siteName: string; windows: unknown[]; reasons: string[]; requests: { kind: string; score: number; windowStart: string; windowEnd: string; factors: unknown }[] }[];
   };
@@ -45,6 +45,18 @@ export interface Assessment {
 }
 
 export { seedForObject };
+
+/** The estimate summary as the service writes it (stored assessments, `nightjar plan --json`). */
+export type EstimateSummaryOut = Omit<EstimateSummary, 'classFractions'> & {
+  /** Fractions of the virtual orbits by orbit class (sum 1): nearEarth q < 1.3 au, mainBelt, other. */
+  classFractions: { nearEarth: number; mainBelt: number; other: number };
+};
+
+/** The summary with its class fractions named for what they are: `nearEarth` is the fraction with q < 1.3 au. */
+export function estimateSummaryOut(summary: EstimateSummary): EstimateSummaryOut {
+  const { neo, mainBelt, other } = summary.classFractions;
+  return { ...summary, classFractions: { nearEarth: neo, mainBelt, other } };
+}
 
 /** Score weights from the configuration, leaving out the ones not set (they take the defaults). */
 export function weightsFromConfig(weights: Readonly<Record<string, number | undefined>>): Partial<ScoreWeights> {
@@ -85,7 +97,7 @@ export function assessObject(input: AssessmentInput): Assessment {
       objectId: input.objectId,
       assessedAt: input.now.toISOString(),
       firstObservedAt: estimate.firstObservedAt,
-      estimate: estimate.summary,
+      estimate: estimateSummaryOut(estimate.summary),
       horizonEnd: plan.horizonEnd,
       sites: plan.sites.map((s) => ({
         siteId: s.siteId,

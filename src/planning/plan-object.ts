@@ -143,7 +143,8 @@ export interface RequestBody {
     firstObservedAtUtc: string;
     hMagP50: number | null;
     diameterM: { min: number; max: number } | null;
-    neoFraction: number;
+    /** Fraction of the virtual orbits with q < 1.3 au. */
+    nearEarthFraction: number;
     closeApproach: boolean;
     minDistanceLunarP50: number;
     notes: string[];
@@ -688,7 +689,7 @@ function buildRequest(
       hoursLeft: future.hoursLeft,
       hMag: future.hP50,
       minDistanceLunar: summary.minGeocentricDistance.lunarDistances.p50,
-      neoFraction: summary.classFractions.neo,
+      nearEarthFraction: summary.classFractions.neo,
       marginMag,
       limitingVMag: limitV,
       windowS: (choice.endMs - choice.startMs) / 1000,
@@ -756,7 +757,7 @@ function buildRequest(
       firstObservedAtUtc: estimate.firstObservedAt,
       hMagP50: future.hP50 === null ? null : r(future.hP50, 2),
       diameterM: summary.diameterM === null ? null : { min: r(summary.diameterM.min, 1), max: r(summary.diameterM.max, 1) },
-      neoFraction: summary.classFractions.neo,
+      nearEarthFraction: summary.classFractions.neo,
       closeApproach: summary.closeApproach,
       minDistanceLunarP50: r(summary.minGeocentricDistance.lunarDistances.p50, 2),
       notes: summary.notes,

@@ -17,7 +17,7 @@ export interface ScoreWeights {
   /** Weights of the parts of `value`. */
   size: number;
   closeApproach: number;
-  neoLikeness: number;
+  nearEarthFraction: number;
 }
 
 export const DEFAULT_SCORE_WEIGHTS: Readonly<ScoreWeights> = Object.freeze({
@@ -27,7 +27,7 @@ export const DEFAULT_SCORE_WEIGHTS: Readonly<ScoreWeights> = Object.freeze({
   freshness: 0.15,
   size: 0.4,
   closeApproach: 0.3,
-  neoLikeness: 0.3,
+  nearEarthFraction: 0.3,
 });
 
 /** Size part: H at which it is 0 and 1 (linear between); H 22 gives 0.67. */
@@ -52,8 +52,8 @@ export interface ScoreInputs {
   hMag: number | null;
   /** Median minimum geocentric distance, lunar distances; null when unknown. */
   minDistanceLunar: number | null;
-  /** Fraction of the virtual orbits that are NEO-like, 0..1. */
-  neoFraction: number;
+  /** Fraction of the virtual orbits with perihelion distance q < 1.3 au, 0..1. */
+  nearEarthFraction: number;
   /** How much brighter the object is than the faintest V the request's plan still reaches there, mag (0 at the limit). */
   marginMag: number;
   /** That limiting V, for the sentence (null when not found). */
@@ -96,7 +96,7 @@ const f1 = (x: number) => x.toFixed(1);
 function checkWeights(w: ScoreWeights): void {
   for (const key of Object.keys(DEFAULT_SCORE_WEIGHTS) as (keyof ScoreWeights)[]) requireFinite(`weights.${key}`, w[key], 0);
   if (w.urgency + w.value + w.feasibility + w.freshness <= 0) throw new PlanningInputError('weights', 0, 'the four factor weights must not all be 0');
-  if (w.size + w.closeApproach + w.neoLikeness <= 0) throw new PlanningInputError('weights', 0, 'the value part weights must not all be 0');
+  if (w.size + w.closeApproach + w.nearEarthFraction <= 0) throw new PlanningInputError('weights', 0, 'the value part weights must not all be 0');
 }
 
 /** Urgency = 0.5 / (feasible windows) + 0.5 x (1 - hoursLeft / horizonH), clamped to [0, 1]. */
@@ -110,18 +110,18 @@ export function urgencyFactor(i: Pick<ScoreInputs, 'horizonH' | 'feasibleWindows
   return { value: clamp01(windows + left), parts: [{ name: 'fewWindows', value: r3(windows) }, { name: 'littleTimeLeft', value: r3(left) }], why };
 }
 
-/** Value = weighted mean of size (H ramp 18 -> 24), close approach (log, 1 LD -> 50 LD) and NEO fraction. */
-export function valueFactor(i: Pick<ScoreInputs, 'hMag' | 'minDistanceLunar' | 'neoFraction'>, w: ScoreWeights): { value: number; parts: ScorePart[]; why: string } {
+/** Value = weighted mean of size (H ramp 18 -> 24), close approach (log, 1 LD -> 50 LD) and the near-Earth fraction (q < 1.3 au). */
+export function valueFactor(i: Pick<ScoreInputs, 'hMag' | 'minDistanceLunar' | 'nearEarthFraction'>, w: ScoreWeights): { value: number; parts: ScorePart[]; why: string } {
   const size = i.hMag === null ? 0.5 : clamp01((i.hMag - SIZE_H_ZERO) / (SIZE_H_ONE - SIZE_H_ZERO));
   const close = i.minDistanceLunar === null ? 0 : clamp01(1 - Math.log10(Math.max(i.minDistanceLunar, 1)) / Math.log10(CLOSE_LD_ZERO));
-  const neo = clamp01(i.neoFraction);
-  const value = (w.size * size + w.closeApproach * close + w.neoLikeness * neo) / (w.size + w.closeApproach + w.neoLikeness);
+  const nearEarth = clamp01(i.nearEarthFraction);
+  const value = (w.size * size + w.closeApproach * close + w.nearEarthFraction * nearEarth) / (w.size + w.closeApproach + w.nearEarthFraction);
   const hText = i.hMag === null ? 'H unknown (size part 0.5)' : `H ${f1(i.hMag)}${i.hMag > 22 ? ' (a small object)' : ''}`;
   const dText = i.minDistanceLunar === null ? 'closest approach unknown' : `closest approach ${f1(i.minDistanceLunar)} lunar distances`;
   return {
     value,
-    parts: [{ name: 'size', value: r3(size) }, { name: 'closeApproach', value: r3(close) }, { name: 'neoLikeness', value: r3(neo) }],
-    why: `${hText}; ${dText}; ${Math.round(neo * 100)} % of orbits NEO-like`,
+    parts: [{ name: 'size', value: r3(size) }, { name: 'closeApproach', value: r3(close) }, { name: 'nearEarthFraction', value: r3(nearEarth) }],
+    why: `${hText}; ${dText}; ${Math.round(nearEarth * 100)} % of virtual orbits with q < 1.3 au`,
   };
 }
 
@@ -159,7 +159,7 @@ export function scoreRequest(inputs: ScoreInputs, weights: ScoreWeights = DEFAUL
   requireFinite('hoursLeft', inputs.hoursLeft, 0);
   if (inputs.hMag !== null) requireFinite('hMag', inputs.hMag);
   if (inputs.minDistanceLunar !== null) requireFinite('minDistanceLunar', inputs.minDistanceLunar, 0);
-  requireFinite('neoFraction', inputs.neoFraction, 0, 1);
+  requireFinite('nearEarthFraction', inputs.nearEarthFraction, 0, 1);
   requireFinite('marginMag', inputs.marginMag, 0);
   requireFinite('windowS', inputs.windowS, 0);
   requireFinite('sequenceS', inputs.sequenceS, 0);

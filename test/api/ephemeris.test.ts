@@ -2,7 +2,7 @@ import { afterEach, describe, expect, it } from 'vitest';
 import type { FastifyInstance } from 'fastify';
 import { buildApp } from '../../src/api/app.js';
 import { withRefusals } from '../../src/api/on-demand.js';
-import { elementsFromNoticeOrbit } from '../../src/commands/ephem.js';
+import { elementsFromNoticeOrbit } from '../../src/commands/ephemeris.js';
 import { MIGRATIONS_DIR } from '../../src/config/load.js';
 import { createIntake } from '../../src/intake/ingest.js';
 import { createOnDemandEstimates, isEstimatorRefusal, type WorkerEstimates } from '../../src/jobs/on-demand-estimates.js';

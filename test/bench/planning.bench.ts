@@ -8,7 +8,7 @@
 import { loadConfig } from '../../src/config/load.js';
 import { parseNotice } from '../../src/intake/notice.js';
 import { trackletOf } from '../../src/commands/notice-file.js';
-import { elementsFromNoticeOrbit } from '../../src/commands/ephem.js';
+import { elementsFromNoticeOrbit } from '../../src/commands/ephemeris.js';
 import { estimateObject } from '../../src/orbit/estimation/index.js';
 import { estimateFromElements } from '../../src/planning/estimate-from-elements.js';
 import { planObject } from '../../src/planning/plan-object.js';

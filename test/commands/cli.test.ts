@@ -28,6 +28,13 @@ describe('the nightjar command', () => {
     expect(err.join('')).toContain('plan');
   });
 
+  it('refuses a renamed command, naming its new name', async () => {
+    const { io, err, out } = collectingIo();
+    expect(await runCli(['ephem', '--notice', 'x.json'], io)).toBe(2);
+    expect(err.join('')).toBe('the command "ephem" is now called "ephemeris": run "nightjar ephemeris" with the same options\n');
+    expect(out).toEqual([]);
+  });
+
   it('turns a bad option into a usage message with exit code 2', async () => {
     const { io, err } = collectingIo();
     expect(await runCli(['night', '--site'], io)).toBe(2);

@@ -60,6 +60,14 @@ describe('configuration', () => {
     expect(issuesOf(raw)).toEqual([]);
   });
 
+  it('takes the near-Earth fraction weight by its name and refuses its old name, naming the new one', () => {
+    const raw = demoConfigRaw();
+    raw['planning'] = { ...(raw['planning'] as object), weights: { nearEarthFraction: 0.5 } };
+    expect(parseConfig(raw).planning.weights.nearEarthFraction).toBe(0.5);
+    raw['planning'] = { ...(raw['planning'] as object), weights: { neoLikeness: 0.5 } };
+    expect(issuesOf(raw)).toEqual(['planning.weights.neoLikeness: renamed: use nearEarthFraction (the weight of the fraction of virtual orbits with q < 1.3 au)']);
+  });
+
   it('lists every problem, not only the first', () => {
     const raw = demoConfigRaw();
     const site = (raw['sites'] as Record<string, unknown>[])[1]!;

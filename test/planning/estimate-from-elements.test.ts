@@ -38,7 +38,7 @@ describe('estimateFromElements', () => {
     expect(row!.unc!.pa).toBeCloseTo(motionPa, 9);
   });
 
-  it('classes q < 1.3 au as NEO-like and gives the diameter range for albedo 0.25 to 0.05', () => {
+  it('classes q < 1.3 au as near-Earth and gives the diameter range for albedo 0.25 to 0.05', () => {
     expect(estimate.summary.classFractions).toEqual({ neo: 1, mainBelt: 0, other: 0 });
     // D = 1329 km / sqrt(p) x 10^(-H/5) (Pravec & Harris 2007): H 24.5 -> 33.46 m (p 0.25) to 74.82 m (p 0.05), by hand.
     expect(estimate.summary.diameterM!.min).toBeCloseTo(33.46, 1);

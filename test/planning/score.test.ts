@@ -9,7 +9,7 @@ const worked: ScoreInputs = {
   hoursLeft: 30,
   hMag: 25,
   minDistanceLunar: 5,
-  neoFraction: 0.9,
+  nearEarthFraction: 0.9,
   marginMag: 1.2,
   windowS: 7200,
   sequenceS: 1800,
@@ -55,8 +55,8 @@ describe('scoreRequest', () => {
   });
 
   it('stays within 0-100 at the extremes', () => {
-    const best = scoreRequest({ ...worked, feasibleWindows: 1, hoursLeft: 0, hMag: 30, minDistanceLunar: 0.1, neoFraction: 1, marginMag: 5, airmass: 1, hoursSinceDiscovery: 0 });
-    const worst = scoreRequest({ ...worked, feasibleWindows: 9, hoursLeft: 36, hMag: 10, minDistanceLunar: 1000, neoFraction: 0, marginMag: 0, windowS: 100, sequenceS: 100_000, airmass: 2.4, hoursSinceDiscovery: 1000 });
+    const best = scoreRequest({ ...worked, feasibleWindows: 1, hoursLeft: 0, hMag: 30, minDistanceLunar: 0.1, nearEarthFraction: 1, marginMag: 5, airmass: 1, hoursSinceDiscovery: 0 });
+    const worst = scoreRequest({ ...worked, feasibleWindows: 9, hoursLeft: 36, hMag: 10, minDistanceLunar: 1000, nearEarthFraction: 0, marginMag: 0, windowS: 100, sequenceS: 100_000, airmass: 2.4, hoursSinceDiscovery: 1000 });
     expect(best.total).toBe(100);
     expect(worst.total).toBeGreaterThanOrEqual(0);
     expect(worst.total).toBeLessThan(10);

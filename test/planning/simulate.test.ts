@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { parseNotice, type Notice } from '../../src/intake/notice.js';
-import { elementsFromNoticeOrbit } from '../../src/commands/ephem.js';
+import { elementsFromNoticeOrbit } from '../../src/commands/ephemeris.js';
 import { ephemerisFromElements } from '../../src/orbit/ephemeris.js';
 import { estimateFromElements } from '../../src/planning/estimate-from-elements.js';
 import { planObject } from '../../src/planning/plan-object.js';

@@ -4,7 +4,7 @@ import { join, resolve } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { rmSync } from 'node:fs';
 import { UsageError, type CommandIo } from '../../src/commands/io.js';
-import { elementsFromNoticeOrbit, main } from '../../src/commands/ephem.js';
+import { elementsFromNoticeOrbit, main } from '../../src/commands/ephemeris.js';
 import { ephemerisFromElements } from '../../src/orbit/ephemeris.js';
 import { loadConfig } from '../../src/config/load.js';
 
@@ -29,7 +29,7 @@ const orbitNotice = {
   orbit: { epoch: '2027-03-04T00:00:00Z', q: 0.95, e: 0.25, i: 4, node: 163, peri: 200, tp: '2027-02-20T06:00:00Z', H: 24.5, G: 0.2 },
 };
 
-const dir = mkdtempSync(join(tmpdir(), 'nightjar-ephem-'));
+const dir = mkdtempSync(join(tmpdir(), 'nightjar-ephemeris-'));
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
 const write = (name: string, body: unknown) => {
   const path = join(dir, name);
@@ -49,7 +49,7 @@ interface Row {
   delta: number; r: number; phase: number; elong: number; alt: number; az: number; airmass: number | null;
 }
 
-describe('nightjar ephem', () => {
+describe('nightjar ephemeris', () => {
   it('prints one JSON row per requested time with exactly the documented fields', async () => {
     const io = collectingIo();
     const code = await main(['--notice', orbitOnlyPath, '--site', 'lantern-ridge', '--times', '2027-03-05T03:00:00Z,2027-03-05T04:00:00Z', '--members', '100', '--json'], io);

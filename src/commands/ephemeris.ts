@@ -12,7 +12,7 @@ import type { CommandMain } from './io.js';
 import { UsageError } from './io.js';
 
 /**
- * `nightjar ephem`: the topocentric ephemeris of the object in one notice, from a
+ * `nightjar ephemeris`: the topocentric ephemeris of the object in one notice, from a
  * configured site or an ad-hoc place, at listed times or on a regular grid.
  * Both kinds of notice take the service's path (estimateObject): an `orbit` block
  * is the nominal, with an ensemble drawn from its covariance or the stated default
@@ -20,9 +20,9 @@ import { UsageError } from './io.js';
  * (systematic ranging into virtual orbits). Every row carries the 1-sigma ellipse
  * `unc` and `magSigma`, and the notes say where the uncertainty comes from.
  */
-export const HELP = `nightjar ephem --notice FILE (--site ID | --lat DEG --lon DEG --height M)
-               (--times ISO[,ISO...] | --start ISO --end ISO --step MINUTES)
-               [--members N] [--seed S] [--range-prior auto|population|powerLaw] [--json] [--config FILE]
+export const HELP = `nightjar ephemeris --notice FILE (--site ID | --lat DEG --lon DEG --height M)
+                   (--times ISO[,ISO...] | --start ISO --end ISO --step MINUTES)
+                   [--members N] [--seed S] [--range-prior auto|population|powerLaw] [--json] [--config FILE]
 
 Prints where the object of a notice is, as seen from a site: astrometric ICRS
 RA/Dec (light-time corrected, no aberration), rates in arcsec/s (RA rate times
@@ -279,7 +279,7 @@ export const main: CommandMain = async (argv, io) => {
   const { location, label } = viewpoint(values, io);
   const read = readNoticeFile(values.notice, io.cwd);
   if (!read.ok) {
-    io.stderr(`nightjar ephem: ${read.message}\n`);
+    io.stderr(`nightjar ephemeris: ${read.message}\n`);
     return 1;
   }
   const notice = read.notice;
