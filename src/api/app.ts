@@ -1,6 +1,7 @@
 import type { ObjectEstimate } from '../orbit/estimate-types.js';
 import { onDemandFromEstimates, type OnDemandEstimates } from './on-demand.js';
 import { createHash } from 'node:crypto';
+import type { IncomingMessage } from 'node:http';
 import Fastify, { type FastifyBaseLogger, type FastifyInstance } from 'fastify';
 import { z } from 'zod';
 import type { Config } from '../config/schema.js';
@@ -14,6 +15,7 @@ import { createRateLimiter } from './rate-limit.js';
 import { defineRoute, openApiDocument, registerRoutes, type AnyRouteSpec } from './route-spec.js';
 import { noticeRoutes } from './routes/notices.js';
 import { objectRoutes } from './routes/objects.js';
+import { pageRoutes } from './routes/pages.js';
 import { pictureRoutes } from './routes/pictures.js';
 import { requestRoutes } from './routes/requests.js';
 import { siteRoutes } from './routes/sites.js';
@@ -67,8 +69,22 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
     workQueued: options.onWorkQueued ?? (() => {}),
   };
 
+  // A page opened in a browser may carry its reader token as ?token=. It is taken out of the
+  // address before routing, so it is never logged, and kept here for the route's check.
+  const pageTokens = new WeakMap<IncomingMessage, string>();
   const app = Fastify({
     ...(options.logger ? { loggerInstance: options.logger } : { logger: false }),
+    rewriteUrl: (req) => {
+      const url = req.url ?? '/';
+      const q = url.indexOf('?');
+      if (q < 0 || !/(^|&)token=/.test(url.slice(q + 1))) return url;
+      const params = new URLSearchParams(url.slice(q + 1));
+      const token = params.get('token');
+      params.delete('token');
+      if (token !== null) pageTokens.set(req, token);
+      const rest = params.toString();
+      return rest === '' ? url.slice(0, q) : `${url.slice(0, q)}?${rest}`;
+    },
     bodyLimit: service.bodyLimitBytes,
     requestTimeout: 30_000,
     connectionTimeout: 60_000,
@@ -117,6 +133,7 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
     ...objectRoutes(ctx),
     ...deliveryRoutes(ctx),
     ...pictureRoutes(ctx),
+    ...pageRoutes(ctx),
     ...(options.extraRoutes ? options.extraRoutes(ctx) : []),
   ];
   const info = {
@@ -157,6 +174,10 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
   metrics.registry.gauge('nightjar_source_consecutive_failures', 'Consecutive failures per polled source (backoff while > 0).', () =>
     store.sources.all().map((s) => ({ labels: { source: s.source }, value: s.consecutiveFailures })),
   );
-  registerRoutes(app, [...routes, ...docRoutes], { tokens: service.tokens, openReadsOnLoopback: service.openReadsOnLoopback });
+  registerRoutes(app, [...routes, ...docRoutes], {
+    tokens: service.tokens,
+    openReadsOnLoopback: service.openReadsOnLoopback,
+    pageTokenOf: (request) => pageTokens.get(request.raw) ?? null,
+  });
   return app;
 }

@@ -20,6 +20,8 @@ export interface RouteSpec<P extends z.ZodType, Q extends z.ZodType, B extends z
   role: Role | readonly Role[] | null;
   /** GET routes may be open to loopback callers when the config says so. */
   readsOpenOnLoopback?: boolean;
+  /** A page or picture for a browser: takes the token from `?token=` too (see auth.ts). */
+  acceptsPageToken?: boolean;
   params?: P;
   query?: Q;
   body?: B;
@@ -57,7 +59,7 @@ export function defineRoute<P extends z.ZodType, Q extends z.ZodType, B extends 
 export function registerRoutes(
   app: FastifyInstance,
   routes: readonly AnyRouteSpec[],
-  auth: { tokens: readonly TokenEntry[]; openReadsOnLoopback: boolean },
+  auth: { tokens: readonly TokenEntry[]; openReadsOnLoopback: boolean; pageTokenOf?: (request: FastifyRequest) => string | null },
 ): void {
   for (const spec of routes) {
     app.route({
@@ -69,6 +71,8 @@ export function registerRoutes(
             ? null
             : requireRole(request, auth.tokens, spec.role, {
                 openOnLoopback: spec.method === 'GET' && spec.readsOpenOnLoopback === true && auth.openReadsOnLoopback,
+                pageToken: auth.pageTokenOf ? auth.pageTokenOf(request) : null,
+                acceptsPageToken: spec.method === 'GET' && spec.acceptsPageToken === true,
               });
         const params = validate(spec.params, request.params, 'params');
         const query = validate(spec.query, request.query, 'query');
@@ -106,7 +110,8 @@ function roleSentence(spec: AnyRouteSpec): string {
   if (spec.role === null) return 'Open to anyone.';
   const roles = typeof spec.role === 'string' ? [spec.role] : spec.role;
   const open = spec.method === 'GET' && spec.readsOpenOnLoopback ? ' Open to loopback callers when `openReadsOnLoopback` is set.' : '';
-  return `Needs a bearer token with the ${roles.map((r) => `\`${r}\``).join(' or ')} role.${open}`;
+  const page = spec.method === 'GET' && spec.acceptsPageToken ? ' A browser may give the token as `?token=` instead; the page passes it on to its pictures and links.' : '';
+  return `Needs a bearer token with the ${roles.map((r) => `\`${r}\``).join(' or ')} role.${open}${page}`;
 }
 
 /** Builds the OpenAPI 3.1 document from the route specs. */

@@ -6,6 +6,16 @@ import { z } from 'zod';
  * hard limit reads is required, so a site can never be planned with a limit missing.
  */
 
+/** True when the runtime's time-zone database knows `name` (Intl, ICU). */
+function isTimeZone(name: string): boolean {
+  try {
+    new Intl.DateTimeFormat('en', { timeZone: name });
+    return true;
+  } catch {
+    return false;
+  }
+}
+
 const finite = () => z.number().refine(Number.isFinite, 'expected a finite number');
 const fraction = () => finite().min(0).max(1);
 const positive = () => finite().positive();
@@ -151,6 +161,13 @@ export const siteSchema = z
       .regex(/^[a-z0-9][a-z0-9-]{0,31}$/, 'expected lower-case letters, digits and hyphens (1-32)'),
     name: z.string().min(1).max(120),
     location: locationSchema,
+    /** IANA time zone of the site (e.g. America/Denver), for local clock times in the pictures; absent: local mean time. */
+    timeZone: z
+      .string()
+      .min(1)
+      .max(64)
+      .refine(isTimeZone, 'expected an IANA time zone name such as America/Denver or Asia/Tokyo')
+      .optional(),
     mount: z.enum(['equatorial', 'altaz']),
     limits: limitsSchema,
     telescope: telescopeSchema,

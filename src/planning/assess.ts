@@ -1,5 +1,5 @@
 import type { RangePriorChoice, Site } from '../config/schema.js';
-import { seedForObject, type EstimateSummary, type TrackletObservation } from '../orbit/estimate-types.js';
+import { seedForObject, type EstimateSummary, type ObjectEstimate, type TrackletObservation } from '../orbit/estimate-types.js';
 import { estimateObject, type NoticeOrbitBlock, type RangePriorKind } from '../orbit/estimation/index.js';
 import type { ScoreWeights } from './score.js';
 import { planObject, type ObjectPlan, type PlannedRequest } from './plan-object.js';
@@ -27,19 +27,39 @@ export function rangingFor(choice: RangePriorChoice | undefined): { rangePrior?:
   return choice === undefined || choice === 'auto' ? {} : { rangePrior: choice };
 }
 
+/** Stored as the assessment's summary: the estimate and, per site, windows, requests' scores and reasons. */
+export interface AssessmentSummary {
+  objectId: string;
+  assessedAt: string;
+  firstObservedAt: string;
+  estimate: EstimateSummaryOut;
+  horizonEnd: string;
+  sites: { siteId: string; siteName: string; windows: unknown[]; reasons: string[]; requests: { kind: string; score: number; windowStart: string; windowEnd: string; factors: unknown }[] }[];
+}
+
+/** The summary stored with an assessment, from the estimate and its plan. */
+export function assessmentSummary(estimate: ObjectEstimate, plan: ObjectPlan): AssessmentSummary {
+  return {
+    objectId: estimate.objectId,
+    assessedAt: plan.plannedAt,
+    firstObservedAt: estimate.firstObservedAt,
+    estimate: estimateSummaryOut(estimate.summary),
+    horizonEnd: plan.horizonEnd,
+    sites: plan.sites.map((s) => ({
+      siteId: s.siteId,
+      siteName: s.siteName,
+      windows: s.windows,
+      reasons: s.reasons,
+      requests: s.requests.map((r) => ({ kind: r.kind, score: r.score, windowStart: r.windowStart, windowEnd: r.windowEnd, factors: r.body.score })),
+    })),
+  };
+}
+
 export interface Assessment {
   plan: ObjectPlan;
   estimateSummary: EstimateSummary;
   requests: PlannedRequest[];
-  /** Stored as the assessment's summary: the estimate and, per site, windows, requests' scores and reasons. */
-  summary: {
-    objectId: string;
-    assessedAt: string;
-    firstObservedAt: string;
-    estimate: EstimateSummaryOut;
-    horizonEnd: string;
-    sites: { siteId: string; siteName: string; windows: unknown[]; reasons: string[]; requests: { kind: string; score: number; windowStart: string; windowEnd: string; factors: unknown }[] }[];
-  };
+  summary: AssessmentSummary;
   /** Set when no site has a window in the horizon. */
   retireReason: string | null;
 }
@@ -93,20 +113,7 @@ export function assessObject(input: AssessmentInput): Assessment {
     plan,
     estimateSummary: estimate.summary,
     requests,
-    summary: {
-      objectId: input.objectId,
-      assessedAt: input.now.toISOString(),
-      firstObservedAt: estimate.firstObservedAt,
-      estimate: estimateSummaryOut(estimate.summary),
-      horizonEnd: plan.horizonEnd,
-      sites: plan.sites.map((s) => ({
-        siteId: s.siteId,
-        siteName: s.siteName,
-        windows: s.windows,
-        reasons: s.reasons,
-        requests: s.requests.map((r) => ({ kind: r.kind, score: r.score, windowStart: r.windowStart, windowEnd: r.windowEnd, factors: r.body.score })),
-      })),
-    },
+    summary: assessmentSummary(estimate, plan),
     retireReason: noWindow
       ? `no observable window at any site in the next ${input.horizonH} h (${plan.sites.map((s) => `${s.siteId}: ${s.reasons[0] ?? 'no window'}`).join('; ')})`
       : null,

@@ -23,11 +23,29 @@ const rowSchema = z.object({
 export type PlanRow = z.infer<typeof rowSchema>;
 export type UncertaintyArcsec = z.infer<typeof uncSchema>;
 
+const lenient = <T extends z.ZodType>(schema: T) => schema.nullable().optional().catch(null);
+
 const planSchema = z.object({
-  ephemeris: z.object({ rows: z.array(rowSchema) }).optional(),
-  target: z.object({ vMag: z.number().nullable().optional() }).optional(),
-  tracking: z.object({ raRateArcsecPerS: z.number(), decRateArcsecPerS: z.number() }).optional(),
-  sequence: z.object({ steps: z.array(z.object({ slitArcsec: z.number().optional(), filter: z.string().optional() })) }).optional(),
+  ephemeris: lenient(z.object({ rows: z.array(rowSchema) })),
+  target: lenient(
+    z.object({
+      raDeg: z.number().optional(),
+      decDeg: z.number().optional(),
+      vMag: z.number().nullable().optional(),
+      uncertainty1Sigma: z.object({ majorArcsec: z.number(), minorArcsec: z.number(), paDeg: z.number() }).nullable().optional(),
+    }),
+  ),
+  tracking: lenient(z.object({ raRateArcsecPerS: z.number(), decRateArcsecPerS: z.number() })),
+  sequence: lenient(z.object({ steps: z.array(z.object({ slitArcsec: z.number().optional(), filter: z.string().optional() })) })),
+  expectedDurationS: lenient(z.number()),
+  windowClosesBecause: lenient(z.string()),
+  conditionsAtStart: lenient(z.object({ altitudeDeg: z.number(), airmass: z.number() })),
+  searchPattern: lenient(
+    z.object({
+      pointings: z.array(z.object({ offsetEastArcsec: z.number(), offsetNorthArcsec: z.number() })),
+      fieldArcsec: z.number(),
+    }),
+  ),
 });
 
 export interface PlanFacts {
@@ -36,21 +54,54 @@ export interface PlanFacts {
   raRate: number | null;
   decRate: number | null;
   slitArcsec: number | null;
+  /** Target place at the recommended start, deg (astrometric ICRS). */
+  raDeg: number | null;
+  decDeg: number | null;
+  /** 1-sigma ellipse at the recommended start, arcsec and deg. */
+  uncertainty: UncertaintyArcsec | null;
+  durationS: number | null;
+  closesBecause: string | null;
+  /** Altitude (deg) and airmass at the recommended start, as the planner found them. */
+  atStart: { altitudeDeg: number; airmass: number } | null;
+  searchPattern: { offsets: { eastArcsec: number; northArcsec: number }[]; fieldArcsec: number } | null;
 }
 
-/** The parts of a request body the pictures use; anything missing comes back empty or null. */
+const NO_FACTS: PlanFacts = {
+  rows: [],
+  vMag: null,
+  raRate: null,
+  decRate: null,
+  slitArcsec: null,
+  raDeg: null,
+  decDeg: null,
+  uncertainty: null,
+  durationS: null,
+  closesBecause: null,
+  atStart: null,
+  searchPattern: null,
+};
+
+/** The parts of a request body the pictures and pages use; anything missing or malformed comes back empty or null. */
 export function planFacts(body: unknown): PlanFacts {
   const parsed = planSchema.safeParse(body);
-  if (!parsed.success) return { rows: [], vMag: null, raRate: null, decRate: null, slitArcsec: null };
+  if (!parsed.success) return NO_FACTS;
   const p = parsed.data;
   const rows = (p.ephemeris?.rows ?? []).filter((r) => Number.isFinite(Date.parse(r.t))).sort((a, b) => Date.parse(a.t) - Date.parse(b.t));
   const slit = p.sequence?.steps.find((s) => s.slitArcsec !== undefined)?.slitArcsec ?? null;
+  const u = p.target?.uncertainty1Sigma ?? null;
   return {
     rows,
     vMag: p.target?.vMag ?? rows[0]?.mag ?? null,
     raRate: p.tracking?.raRateArcsecPerS ?? rows[0]?.raRate ?? null,
     decRate: p.tracking?.decRateArcsecPerS ?? rows[0]?.decRate ?? null,
     slitArcsec: slit,
+    raDeg: p.target?.raDeg ?? null,
+    decDeg: p.target?.decDeg ?? null,
+    uncertainty: u ? { major: u.majorArcsec, minor: u.minorArcsec, pa: u.paDeg } : null,
+    durationS: p.expectedDurationS ?? null,
+    closesBecause: p.windowClosesBecause ?? null,
+    atStart: p.conditionsAtStart ?? null,
+    searchPattern: p.searchPattern ? { offsets: p.searchPattern.pointings.map((q) => ({ eastArcsec: q.offsetEastArcsec, northArcsec: q.offsetNorthArcsec })), fieldArcsec: p.searchPattern.fieldArcsec } : null,
   };
 }
 

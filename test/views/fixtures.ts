@@ -3,6 +3,7 @@ import type { HeliocentricState } from '../../src/orbit/elements.js';
 import { ensemblePlaces } from '../../src/orbit/ephemeris.js';
 import type { ObjectEstimate } from '../../src/orbit/estimate-types.js';
 import { estimateFromState } from '../../src/planning/estimate-from-elements.js';
+import { assessmentSummary, type AssessmentSummary } from '../../src/planning/assess.js';
 import { planObject } from '../../src/planning/plan-object.js';
 import { inventState } from '../../src/planning/simulate.js';
 import { storedRequest } from '../../src/jobs/stored-request.js';
@@ -32,6 +33,9 @@ export const INVENTED: readonly InventedObject[] = [
   { objectId: 'QV27C03', raDeg: 120, decDeg: 40, distanceAu: 0.02, hMag: 25.5, transverseKmPerS: 10, motionPaDeg: 300 },
 ];
 
+/** An invented object too far south for either demo site: planned, it gets no request, only reasons. */
+export const INVENTED_FAR_SOUTH: InventedObject = { objectId: 'QV27C09', raDeg: 170, decDeg: -72, distanceAu: 0.05, hMag: 24, transverseKmPerS: 7, motionPaDeg: 90 };
+
 const SIDEREAL_YEAR_MS = 365.25636 * 86_400_000;
 
 function stateOf(o: InventedObject, at: Date, scale = 1, paOffsetDeg = 0): HeliocentricState {
@@ -50,16 +54,17 @@ function stateOf(o: InventedObject, at: Date, scale = 1, paOffsetDeg = 0): Helio
 
 /**
  * The estimate of an invented object, discovered 90 min before `at` (default NOW) and placed
- * so the demo sites see it that night; with `members`, a small ensemble of neighbouring orbits
+ * so the demo sites see it that night; with `members` (true: 40, or a count), an ensemble of neighbouring orbits
  * (distance scaled 0.9..1.1, direction of motion turned up to 0.5 deg) gives the member points.
  */
-export function inventedEstimate(o: InventedObject, options: { members?: boolean; at?: Date } = {}): ObjectEstimate {
+export function inventedEstimate(o: InventedObject, options: { members?: boolean | number; at?: Date } = {}): ObjectEstimate {
   const at = options.at ?? NOW;
   const firstObservedAt = new Date(at.getTime() - 90 * 60_000).toISOString();
   const base = estimateFromState({ objectId: o.objectId, firstObservedAt, state: stateOf(o, at), hMag: o.hMag });
   if (!options.members) return base;
   const states: HeliocentricState[] = [];
-  for (let i = 0; i < 40; i++) states.push(stateOf(o, at, 0.9 + (0.2 * i) / 39, ((i * 7) % 11) / 10 - 0.5));
+  const count = typeof options.members === 'number' ? options.members : 40;
+  for (let i = 0; i < count; i++) states.push(stateOf(o, at, 0.9 + (0.2 * i) / (count - 1), ((i * 7) % 11) / 10 - 0.5));
   return {
     ...base,
     ephemeris: base.ephemeris,
@@ -72,6 +77,11 @@ export function inventedEstimate(o: InventedObject, options: { members?: boolean
 
 /** The planner's requests for an estimate at the given sites, as the store takes them. */
 export function plannedRequests(estimate: ObjectEstimate, sites: Site[], now = NOW, horizonH = 12): NewRequest[] {
+  return plannedAssessment(estimate, sites, now, horizonH).requests;
+}
+
+/** The planner's requests and the assessment summary the service stores with them. */
+export function plannedAssessment(estimate: ObjectEstimate, sites: Site[], now = NOW, horizonH = 12): { requests: NewRequest[]; summary: AssessmentSummary } {
   const plan = planObject({ estimate, sites, now, horizonH });
-  return plan.sites.flatMap((s) => s.requests.map(storedRequest));
+  return { requests: plan.sites.flatMap((s) => s.requests.map(storedRequest)), summary: assessmentSummary(estimate, plan) };
 }

@@ -40,7 +40,27 @@ describe('reading a request plan', () => {
   });
 
   it('reads nothing from a plan without a table rather than failing', () => {
-    expect(planFacts({ exposures: [] })).toEqual({ rows: [], vMag: null, raRate: null, decRate: null, slitArcsec: null });
+    expect(planFacts({ exposures: [] })).toEqual({
+      rows: [],
+      vMag: null,
+      raRate: null,
+      decRate: null,
+      slitArcsec: null,
+      raDeg: null,
+      decDeg: null,
+      uncertainty: null,
+      durationS: null,
+      closesBecause: null,
+      atStart: null,
+      searchPattern: null,
+    });
     expect(planFacts('not an object').rows).toEqual([]);
+  });
+
+  it('reads the rest of a plan it can, when one part is malformed', () => {
+    const facts = planFacts({ expectedDurationS: 'long', target: { raDeg: 150.2, decDeg: 22.1, vMag: 17.6, uncertainty1Sigma: { majorArcsec: 6, minorArcsec: 2, paDeg: 40 } } });
+    expect(facts.durationS).toBeNull();
+    expect(facts.raDeg).toBe(150.2);
+    expect(facts.uncertainty).toEqual({ major: 6, minor: 2, pa: 40 });
   });
 });
