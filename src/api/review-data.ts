@@ -5,7 +5,8 @@ import type { RequestRow } from '../store/requests.js';
 import { assessmentFacts, type AssessmentFacts } from '../views/assessment-summary.js';
 import { DEFAULT_MOTION_S, pointingConditions, type PointingInput } from '../views/pointing-chart.js';
 import { planFacts, rowAt, type PlanRow } from '../views/request-plan.js';
-import { KIND_WORDS, sampleTimes, tonightSpan, type TonightObject } from '../views/tonight-chart.js';
+import { sampleTimes, tonightSpan, type TonightObject } from '../views/tonight-chart.js';
+import { KIND_WORDS } from '../views/words.js';
 import type { ApiContext } from './context.js';
 import { ApiError } from './errors.js';
 import { EstimateRefusedError } from './on-demand.js';
@@ -158,11 +159,13 @@ export function reviewData(ctx: ApiContext) {
   }
 
   /** A time asked for: said to be a request's recommended start when it is one (to the second, as the pages link it). */
-  function askedTime(t: Date, atSite: readonly RequestRow[]): PointingTime {
+  function askedTime(t: Date, atSite: readonly RequestRow[], now: Date): PointingTime {
     const starting = atSite.find((r) => Math.ceil(Date.parse(r.recommendedStart) / 1000) * 1000 === t.getTime());
     if (starting) return { t, reason: `the recommended start of its ${KIND_WORDS[starting.kind] ?? starting.kind} request (score ${starting.score})`, request: starting };
     const covering = atSite.find((r) => Date.parse(r.windowStart) <= t.getTime() && Date.parse(r.windowEnd) >= t.getTime()) ?? null;
-    return { t, reason: 'the time asked for', request: covering ?? atSite[0] ?? null };
+    const isNow = Math.abs(t.getTime() - now.getTime()) <= 60_000;
+    const reason = isNow && covering ? `now, in the window of its ${KIND_WORDS[covering.kind] ?? covering.kind} request (recommended start ${hm(covering.recommendedStart)} UTC)` : isNow ? 'now' : 'the time asked for';
+    return { t, reason, request: covering ?? atSite[0] ?? null };
   }
 
   /** The pointing picture's input for an object from a site (default: its best open request's site) at `t` (default: see defaultPointingTime). */
@@ -172,7 +175,7 @@ export function reviewData(ctx: ApiContext) {
     const site = siteOr404(siteId ?? objectOpen[0]?.siteId ?? config.sites[0]!.id);
     const atSite = objectOpen.filter((r) => r.siteId === site.id);
     const now = clock();
-    const when: PointingTime = tAsked ? askedTime(tAsked, atSite) : defaultPointingTime(objectId, site, now);
+    const when: PointingTime = tAsked ? askedTime(tAsked, atSite, now) : defaultPointingTime(objectId, site, now);
     const t = when.t;
     const view = await orNull(ctx.onDemand.skyView(objectId, site.location, t, MAX_MEMBER_POINTS));
     let row: PlanRow | null = view?.row ?? null;

@@ -1,7 +1,7 @@
 import type { EstimateFacts } from './assessment-summary.js';
 import { esc, num } from './markup.js';
-import { clockTime, dayTime, decDms, durationWords, maybe, pageDocument, raHms } from './page-parts.js';
-import { KIND_NAMES } from './review-page.js';
+import { clockTime, dayTime, decDms, maybe, pageDocument, raHms } from './page-parts.js';
+import { durationWords, KIND_WORDS } from './words.js';
 
 /**
  * A page per object: what the latest assessment estimates (range, orbit classes, H and size,
@@ -115,7 +115,7 @@ function siteSection(site: ObjectSiteView): string {
 ${site.requests
   .map(
     (r) => `<tr data-request-id="${esc(r.id)}">
-<td><a href="${esc(r.jsonUrl)}">${esc(KIND_NAMES[r.kind] ?? r.kind)}</a>${r.revision !== null ? ` (revision ${esc(String(r.revision))})` : ''}</td>
+<td><a href="${esc(r.jsonUrl)}">${esc(KIND_WORDS[r.kind] ?? r.kind)}</a>${r.revision !== null ? ` (revision ${esc(String(r.revision))})` : ''}</td>
 <td>${esc(r.state)}${r.supersededBy ? ` by <code>${esc(r.supersededBy)}</code>` : ''}</td>
 <td class="num">${esc(num(r.score, 1))}</td>
 <td>${esc(dayTime(r.recommendedStartUtc))}</td>

@@ -61,11 +61,6 @@ export function clockTime(iso: string): string {
   return Number.isFinite(Date.parse(iso)) ? iso.slice(11, 16) : iso;
 }
 
-/** A duration in seconds as "38 min" or "1.6 h". */
-export function durationWords(s: number): string {
-  return s >= 5400 ? `${num(s / 3600, 1)} h` : `${Math.max(1, Math.round(s / 60))} min`;
-}
-
 /** RA in hours as "10 00 48.0" (h m s). */
 export function raHms(deg: number): string {
   const total = Math.round((((deg % 360) + 360) % 360) / 15 * 36000) % 864000;

@@ -1,5 +1,6 @@
 import { esc, num } from './markup.js';
-import { clockTime, dayTime, decDms, durationWords, maybe, pageDocument, raHms } from './page-parts.js';
+import { clockTime, dayTime, decDms, maybe, pageDocument, raHms } from './page-parts.js';
+import { durationWords, KIND_WORDS } from './words.js';
 
 /**
  * The review page: per site, tonight's timeline and the queue (target, altitude and airmass at
@@ -59,12 +60,10 @@ export interface ReviewPageInput {
   links: { href: string; text: string }[];
 }
 
-export const KIND_NAMES: Readonly<Record<string, string>> = { photometry: 'light curve', colours: 'colours', spectrum: 'spectrum' };
-
 function requestRow(r: ReviewRequest): string {
   return `<tr class="state-${esc(r.state)}" data-request-id="${esc(r.id)}">
 <td><a href="${esc(r.objectPageUrl)}">${esc(r.objectId)}</a></td>
-<td>${esc(KIND_NAMES[r.kind] ?? r.kind)}${r.state === 'leased' ? ' (leased)' : ''}</td>
+<td>${esc(KIND_WORDS[r.kind] ?? r.kind)}${r.state === 'leased' ? ' (leased)' : ''}</td>
 <td class="num">${esc(num(r.score, 1))}</td>
 <td>${esc(dayTime(r.recommendedStartUtc))}</td>
 <td class="num">${r.durationS === null ? '–' : esc(durationWords(r.durationS))}</td>

@@ -6,6 +6,7 @@ import { skyAt } from '../sky/timeline.js';
 import { LabelPlacer, textBox, textWidthPx, wrapText, type Box } from './layout.js';
 import { localClock } from './local-time.js';
 import { el, esc, hhmmUtc, num, points, svgDocument } from './markup.js';
+import { durationWords, KIND_WORDS } from './words.js';
 
 /**
  * Tonight at one site as a timeline: one row per object with open requests, best score first;
@@ -176,9 +177,6 @@ export function buildTonightChart(input: { site: Site; night: Night; objects: To
   };
 }
 
-/** Words for a request kind as the astronomer says it. */
-export const KIND_WORDS: Readonly<Record<string, string>> = { photometry: 'light curve', colours: 'colours', spectrum: 'spectrum' };
-
 /**
  * A short name for the limit that closes a window, from the sky module's edge words
  * (src/sky/windows.ts) or the planner's (too faint); the full words go in the tooltip.
@@ -228,7 +226,6 @@ const ROW_GAP = 8;
 const hm = (t: Date) => hhmmUtc(t);
 /** A pale box behind text drawn over lines and bands, so nothing runs through it. */
 const backdrop = (box: Box) => el('rect', { x: box.x - 1, y: box.y, width: box.w + 2, height: box.h, fill: '#ffffff', 'fill-opacity': 0.85 });
-const durationWords = (s: number) => (s >= 5400 ? `${num(s / 3600, 1)} h` : `${Math.max(1, Math.round(s / 60))} min`);
 
 /** Renders the timeline as a standalone SVG document. */
 export function renderTonightChart(chart: TonightChart): string {

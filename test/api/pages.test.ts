@@ -7,7 +7,7 @@ import { CAUTIONS } from '../../src/api/docs-page.js';
 import { MIGRATIONS_DIR } from '../../src/config/load.js';
 import type { AssessmentSummary } from '../../src/planning/assess.js';
 import type { NewRequest } from '../../src/store/requests.js';
-import { INVENTED, INVENTED_FAR_SOUTH, NOW_ISO, inventedEstimate, plannedAssessment } from '../views/fixtures.js';
+import { INVENTED, INVENTED_FAR_SOUTH, NOW_ISO, inventedEstimate, plannedAssessment, storeAssessed, type RequestJson } from '../views/fixtures.js';
 import { DEMO_TOKENS, demoConfig, fixedClock, memoryStore } from '../helpers.js';
 
 const config = demoConfig();
@@ -25,22 +25,7 @@ beforeAll(() => {
 async function setup(options: { log?: string[] } = {}) {
   const clock = fixedClock(NOW_ISO);
   const store = memoryStore(clock);
-  for (const [objectId, p] of planned) {
-    store.notices.recordNotice({
-      sender: 'Invented Survey (test)',
-      noticeId: `n-${objectId}`,
-      objectId,
-      source: 'test',
-      receivedAt: '2027-03-04T05:00:00.000Z',
-      issuedAt: '2027-03-04T05:00:00.000Z',
-      raw: '{}',
-      kind: 'observations',
-      retractionReason: null,
-      orbitJson: null,
-      observations: [],
-    });
-    store.requests.saveAssessment({ objectId, createdAt: '2027-03-04T05:30:00.000Z', observations: 3, summary: p.summary, requests: p.requests });
-  }
+  storeAssessed(store, planned, { sender: 'Invented Survey (test)', receivedAt: '2027-03-04T05:00:00.000Z', assessedAt: '2027-03-04T05:30:00.000Z' });
   const logger = options.log
     ? pino({ level: 'info' }, new Writable({ write: (chunk: Buffer, _enc, done) => (options.log!.push(chunk.toString()), done()) }))
     : undefined;
@@ -50,18 +35,6 @@ async function setup(options: { log?: string[] } = {}) {
 
 const scheduler = { authorization: `Bearer ${DEMO_TOKENS.scheduler}` };
 const REMOTE = '10.1.2.3';
-
-interface QueueItem {
-  id: string;
-  objectId: string;
-  score: number;
-  recommendedStart: string;
-  plan: {
-    expectedDurationS: number;
-    target: { raDeg: number; decDeg: number; uncertainty1Sigma: { majorArcsec: number } | null };
-    conditionsAtStart: { altitudeDeg: number; airmass: number };
-  };
-}
 
 /** The queue table's rows on the review page: each cell's text by request id. */
 function queueTable(html: string): Map<string, string[]> {
@@ -91,7 +64,7 @@ describe('GET / (the review page)', () => {
     await setup();
     const html = (await app!.inject({ url: '/' })).body;
     const table = queueTable(html);
-    const queue = (await app!.inject({ url: '/v1/queue?site=lantern-ridge&from=2027-03-04T00:00:00Z&to=2027-03-05T00:00:00Z&limit=500', headers: scheduler })).json().items as QueueItem[];
+    const queue = (await app!.inject({ url: '/v1/queue?site=lantern-ridge&from=2027-03-04T00:00:00Z&to=2027-03-05T00:00:00Z&limit=500', headers: scheduler })).json().items as RequestJson[];
     expect(queue.length).toBeGreaterThan(0);
     for (const r of queue) {
       const cells = table.get(r.id)!;

@@ -7,7 +7,7 @@ import type { ObjectEstimate } from '../../src/orbit/estimate-types.js';
 import type { AssessmentSummary } from '../../src/planning/assess.js';
 import type { NewRequest } from '../../src/store/requests.js';
 import { byClass, parseXml, textOf } from '../views/xml.js';
-import { INVENTED, NOW_ISO, inventedEstimate, plannedAssessment } from '../views/fixtures.js';
+import { INVENTED, NOW_ISO, inventedEstimate, plannedAssessment, storeAssessed, type RequestJson } from '../views/fixtures.js';
 import { DEMO_TOKENS, demoConfig, fixedClock, memoryStore } from '../helpers.js';
 
 const config = demoConfig();
@@ -32,23 +32,7 @@ beforeAll(() => {
 async function setup(options: { withEstimates?: boolean; now?: string } = {}) {
   const clock = fixedClock(options.now ?? NOW_ISO);
   const store = memoryStore(clock);
-  for (const o of INVENTED) {
-    store.notices.recordNotice({
-      sender: 'Invented Survey (test)',
-      noticeId: `n-${o.objectId}`,
-      objectId: o.objectId,
-      source: 'test',
-      receivedAt: '2027-03-04T05:00:00.000Z',
-      issuedAt: '2027-03-04T05:00:00.000Z',
-      raw: '{}',
-      kind: 'observations',
-      retractionReason: null,
-      orbitJson: null,
-      observations: [],
-    });
-    const p = planned.get(o.objectId)!;
-    store.requests.saveAssessment({ objectId: o.objectId, createdAt: '2027-03-04T05:30:00.000Z', observations: 3, summary: p.summary, requests: p.requests });
-  }
+  storeAssessed(store, planned, { sender: 'Invented Survey (test)', receivedAt: '2027-03-04T05:00:00.000Z', assessedAt: '2027-03-04T05:30:00.000Z' });
   app = await buildApp({
     config,
     store,
@@ -61,24 +45,10 @@ async function setup(options: { withEstimates?: boolean; now?: string } = {}) {
 
 const scheduler = { authorization: `Bearer ${DEMO_TOKENS.scheduler}` };
 
-interface QueueItem {
-  id: string;
-  objectId: string;
-  kind: string;
-  score: number;
-  window: { start: string; end: string };
-  recommendedStart: string;
-  plan: {
-    expectedDurationS: number;
-    conditionsAtStart: { altitudeDeg: number; airmass: number };
-    ephemeris: { rows: { t: string; ra: number; dec: number; raRate: number; decRate: number; unc: { major: number; minor: number; pa: number } }[] };
-  };
-}
-
-async function queueJson(site: string): Promise<QueueItem[]> {
+async function queueJson(site: string): Promise<RequestJson[]> {
   const res = await app!.inject({ url: `/v1/queue?site=${site}&from=2027-03-04T00:00:00Z&to=2027-03-05T00:00:00Z&limit=500`, headers: scheduler });
   expect(res.statusCode).toBe(200);
-  return (res.json() as { items: QueueItem[] }).items;
+  return (res.json() as { items: RequestJson[] }).items;
 }
 
 const tonight = async (query = '?date=2027-03-03') => parseXml((await app!.inject({ url: `/v1/sites/lantern-ridge/tonight.svg${query}` })).body);

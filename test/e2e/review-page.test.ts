@@ -5,7 +5,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { MIGRATIONS_DIR } from '../../src/config/load.js';
 import { openStore } from '../../src/store/index.js';
 import { DEMO_TOKENS, demoConfig, demoConfigRaw, tempDir } from '../helpers.js';
-import { INVENTED, INVENTED_FAR_SOUTH, inventedEstimate, plannedAssessment } from '../views/fixtures.js';
+import { INVENTED, INVENTED_FAR_SOUTH, inventedEstimate, plannedAssessment, storeAssessed, type RequestJson } from '../views/fixtures.js';
 import { startServe, type ServiceProcess } from '../service-process.js';
 
 /**
@@ -42,23 +42,8 @@ function prepare(dir: string): string {
 
   const now = new Date();
   const store = openStore(db, MIGRATIONS_DIR, () => now);
-  for (const o of [...INVENTED, INVENTED_FAR_SOUTH]) {
-    store.notices.recordNotice({
-      sender: 'Invented Survey (browser test)',
-      noticeId: `e2e-${o.objectId}`,
-      objectId: o.objectId,
-      source: 'test',
-      receivedAt: now.toISOString(),
-      issuedAt: now.toISOString(),
-      raw: '{}',
-      kind: 'observations',
-      retractionReason: null,
-      orbitJson: null,
-      observations: [],
-    });
-    const planned = plannedAssessment(inventedEstimate(o, { at: now }), config.sites, now, 24);
-    store.requests.saveAssessment({ objectId: o.objectId, createdAt: now.toISOString(), observations: 3, summary: planned.summary, requests: planned.requests });
-  }
+  const planned = new Map([...INVENTED, INVENTED_FAR_SOUTH].map((o) => [o.objectId, plannedAssessment(inventedEstimate(o, { at: now }), config.sites, now, 24)]));
+  storeAssessed(store, planned, { sender: 'Invented Survey (browser test)', receivedAt: now.toISOString(), assessedAt: now.toISOString() });
   store.db.close();
   return configPath;
 }
@@ -129,18 +114,6 @@ function overlaps(texts: { text: string; left: number; top: number; right: numbe
   return bad;
 }
 
-interface QueueItem {
-  id: string;
-  objectId: string;
-  score: number;
-  recommendedStart: string;
-  plan: {
-    expectedDurationS: number;
-    target: { raDeg: number; decDeg: number; uncertainty1Sigma: { majorArcsec: number } | null };
-    conditionsAtStart: { altitudeDeg: number; airmass: number };
-  };
-}
-
 describe('the review pages in headless Chromium', () => {
   it('show both sites with their timelines, queues and cautions, every picture loaded', { timeout: 90_000 }, async (ctx) => {
     if (!hasChromium) return ctx.skip(SKIP_NOTE);
@@ -169,7 +142,7 @@ describe('the review pages in headless Chromium', () => {
       expect(overlaps(drawn.texts), src).toEqual([]);
       for (const t of drawn.texts) expect(t.right, `"${t.text}" runs off the picture`).toBeLessThanOrEqual(drawn.width + 0.5);
       const svg = await p.$eval('svg', (root) => ({ site: root.getAttribute('data-site-id')!, start: root.getAttribute('data-start')!, end: root.getAttribute('data-end')! }));
-      const queue = (await json<{ items: QueueItem[] }>(`/v1/queue?site=${svg.site}&from=${svg.start}&to=${svg.end}&limit=500`)).items;
+      const queue = (await json<{ items: RequestJson[] }>(`/v1/queue?site=${svg.site}&from=${svg.start}&to=${svg.end}&limit=500`)).items;
       expect(queue.length, `queue at ${svg.site}`).toBeGreaterThan(0);
       const names = drawn.texts.filter((t) => t.cls.includes('object-name')).map((t) => t.text);
       for (const objectId of new Set(queue.map((r) => r.objectId))) expect(names, `${objectId} in the timeline at ${svg.site}`).toContain(objectId);
@@ -209,7 +182,7 @@ describe('the review pages in headless Chromium', () => {
       // Same drawn size, so fewer arcsec across is the closer (smaller) view.
       expect(views.close.px).toBeCloseTo(views.wide.px, 0);
       expect(views.close.arcsec).toBeLessThan(views.wide.arcsec);
-      const request = await json<{ recommendedStart: string; plan: QueueItem['plan'] }>(`/v1/requests/${link.id}`);
+      const request = await json<{ recommendedStart: string; plan: RequestJson['plan'] }>(`/v1/requests/${link.id}`);
       const r = request.plan;
       if (Date.parse(views.t) !== Math.ceil(Date.parse(request.recommendedStart) / 1000) * 1000) continue;
       compared++;

@@ -7,6 +7,7 @@ import { assessmentSummary, type AssessmentSummary } from '../../src/planning/as
 import { planObject } from '../../src/planning/plan-object.js';
 import { inventState } from '../../src/planning/simulate.js';
 import { storedRequest } from '../../src/jobs/stored-request.js';
+import type { Store } from '../../src/store/index.js';
 import type { NewRequest } from '../../src/store/requests.js';
 
 /**
@@ -84,4 +85,43 @@ export function plannedRequests(estimate: ObjectEstimate, sites: Site[], now = N
 export function plannedAssessment(estimate: ObjectEstimate, sites: Site[], now = NOW, horizonH = 12): { requests: NewRequest[]; summary: AssessmentSummary } {
   const plan = planObject({ estimate, sites, now, horizonH });
   return { requests: plan.sites.flatMap((s) => s.requests.map(storedRequest)), summary: assessmentSummary(estimate, plan) };
+}
+
+/**
+ * Stores invented objects as the service leaves them after an assessment: a notice each (no
+ * observations of its own) and the assessment with its summary and requests.
+ */
+export function storeAssessed(store: Store, planned: ReadonlyMap<string, { requests: NewRequest[]; summary: unknown }>, options: { sender: string; receivedAt: string; assessedAt: string }): void {
+  for (const [objectId, p] of planned) {
+    store.notices.recordNotice({
+      sender: options.sender,
+      noticeId: `n-${objectId}`,
+      objectId,
+      source: 'test',
+      receivedAt: options.receivedAt,
+      issuedAt: options.receivedAt,
+      raw: '{}',
+      kind: 'observations',
+      retractionReason: null,
+      orbitJson: null,
+      observations: [],
+    });
+    store.requests.saveAssessment({ objectId, createdAt: options.assessedAt, observations: 3, summary: p.summary, requests: p.requests });
+  }
+}
+
+/** The parts of a request's JSON (GET /v1/requests/{id}, /v1/queue) the picture and page tests compare. */
+export interface RequestJson {
+  id: string;
+  objectId: string;
+  kind: string;
+  score: number;
+  window: { start: string; end: string };
+  recommendedStart: string;
+  plan: {
+    expectedDurationS: number;
+    target: { raDeg: number; decDeg: number; uncertainty1Sigma: { majorArcsec: number } | null };
+    conditionsAtStart: { altitudeDeg: number; airmass: number };
+    ephemeris: { rows: { t: string; ra: number; dec: number; raRate: number; decRate: number; unc: { major: number; minor: number; pa: number } }[] };
+  };
 }
