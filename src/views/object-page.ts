@@ -14,8 +14,10 @@ export interface ObjectRequestView {
   kind: string;
   state: string;
   score: number;
-  /** Revision number when the store keeps revisions; null otherwise. */
-  revision: number | null;
+  /** 1 when proposed; each replan that changed it in place adds one. */
+  revision: number;
+  /** Every revision, first to last, with the fields it changed (none for the first). */
+  revisions: { revision: number; at: string; changed: string[] }[];
   windowStartUtc: string;
   windowEndUtc: string;
   recommendedStartUtc: string;
@@ -94,10 +96,13 @@ ${e.notes.length > 0 ? `<ul>${e.notes.map((n) => `<li>${esc(n)}</li>`).join('')}
 }
 
 function historyList(r: ObjectRequestView): string {
-  if (r.history.length === 0) return '';
-  return `<details><summary>history (${r.history.length})</summary><ol>${r.history
-    .map((h) => `<li>${esc(dayTime(h.at))}: ${esc(h.from ?? 'new')} → ${esc(h.to)}${h.detail ? ` (${esc(h.detail)})` : ''}</li>`)
-    .join('')}</ol></details>`;
+  const states = r.history.map((h) => ({ at: h.at, words: `${h.from ?? 'new'} → ${h.to}${h.detail ? ` (${h.detail})` : ''}` }));
+  const revisions = r.revisions
+    .filter((v) => v.revision > 1)
+    .map((v) => ({ at: v.at, words: `revision ${v.revision}: ${v.changed.length > 0 ? `changed ${v.changed.join(', ')}` : 'no field changed'}` }));
+  const events = [...states, ...revisions].sort((a, b) => a.at.localeCompare(b.at));
+  if (events.length === 0) return '';
+  return `<details><summary>history (${events.length})</summary><ol>${events.map((e) => `<li>${esc(dayTime(e.at))}: ${esc(e.words)}</li>`).join('')}</ol></details>`;
 }
 
 function siteSection(site: ObjectSiteView): string {
@@ -115,7 +120,7 @@ function siteSection(site: ObjectSiteView): string {
 ${site.requests
   .map(
     (r) => `<tr data-request-id="${esc(r.id)}">
-<td><a href="${esc(r.jsonUrl)}">${esc(KIND_WORDS[r.kind] ?? r.kind)}</a>${r.revision !== null ? ` (revision ${esc(String(r.revision))})` : ''}</td>
+<td><a href="${esc(r.jsonUrl)}">${esc(KIND_WORDS[r.kind] ?? r.kind)}</a>${r.revision > 1 ? ` (revision ${esc(String(r.revision))})` : ''}</td>
 <td>${esc(r.state)}${r.supersededBy ? ` by <code>${esc(r.supersededBy)}</code>` : ''}</td>
 <td class="num">${esc(num(r.score, 1))}</td>
 <td>${esc(dayTime(r.recommendedStartUtc))}</td>

@@ -163,6 +163,17 @@ describe('GET /objects/:id (a page per object)', () => {
     for (const site of config.sites) expect(html).toContain(`<img src="/v1/objects/QV27C01/pointing.svg?site=${site.id}"`);
   });
 
+  it('shows a request revised in place by a replan with its revision and what changed', async () => {
+    const { store } = await setup();
+    const later = new Date(Date.parse(NOW_ISO) + 20 * 60_000);
+    const replan = plannedAssessment(inventedEstimate(INVENTED[0]!, { at: later }), config.sites, later);
+    const saved = store.requests.saveAssessment({ objectId: INVENTED[0]!.objectId, createdAt: later.toISOString(), observations: 4, summary: replan.summary, requests: replan.requests });
+    expect(saved.revised.length).toBeGreaterThan(0);
+    const html = (await app!.inject({ url: `/objects/${INVENTED[0]!.objectId}` })).body;
+    expect(html).toContain('(revision 2)');
+    expect(html).toMatch(/revision 2: changed [a-zA-Z]/);
+  });
+
   it('gives the reasons for sites with no request', async () => {
     await setup();
     const html = (await app!.inject({ url: '/objects/QV27C09' })).body;

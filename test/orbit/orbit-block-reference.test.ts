@@ -1,7 +1,7 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { AstroTime, Body, HelioState, HelioVector, MassProduct, Observer, ObserverVector } from 'astronomy-engine';
-import { elementsFromNoticeOrbit } from '../../src/commands/ephem.js';
+import { elementsFromNoticeOrbit } from '../../src/commands/ephemeris.js';
 import { ephemerisFromElements } from '../../src/orbit/ephemeris.js';
 
 /**

@@ -148,7 +148,8 @@ export function pageRoutes(ctx: ApiContext): AnyRouteSpec[] {
         kind: r.kind,
         state: r.state,
         score: r.score,
-        revision: revisionOf(r),
+        revision: r.revision,
+        revisions: store.requests.revisions(r.id).map((v) => ({ revision: v.revision, at: v.at, changed: v.changes.map((c) => c.field) })),
         windowStartUtc: r.windowStart,
         windowEndUtc: r.windowEnd,
         recommendedStartUtc: r.recommendedStart,
@@ -234,10 +235,4 @@ export function pageRoutes(ctx: ApiContext): AnyRouteSpec[] {
         reply.type(HTML_TYPE).header('cache-control', 'no-store').header('referrer-policy', 'no-referrer').send(await objectPage(params.id, caller)),
     }),
   ];
-}
-
-/** The request's revision number when the store keeps one (a replan revises a queued request), else null. */
-function revisionOf(r: RequestRow): number | null {
-  const value = (r as unknown as Record<string, unknown>)['revision'];
-  return typeof value === 'number' && Number.isInteger(value) ? value : null;
 }
