@@ -30,8 +30,11 @@ describe('comet Encke on 1990 October 6.0 TD (Meeus Example 33.b)', () => {
   const s = stateFromPerihelionElements(elements, tt);
   const place = astrometricPlace({ x: s.x, y: s.y, z: s.z }, { x: s.vx, y: s.vy, z: s.vz }, observerGeometry('geocentre', utcFromTt(tt)));
 
-  it('gives RA 158.558965 deg and Dec 19.158495 deg within 1.5 arcsec (the book gives RA to 0.1 s of time)', () => {
-    expect(separationArcsec(place.raDeg, place.decDeg, 158.558965, 19.158495)).toBeLessThan(1.5);
+  // Measured: -0.99 arcsec in RA cos Dec and -0.25 arcsec in Dec, the size of the difference between the
+  // library's truncated VSOP87 Earth and Meeus's full one (docs/accuracy.md).
+  it('gives RA 158.558965 deg within 1.2 arcsec (RA cos Dec) and Dec 19.158495 deg within 0.4 arcsec', () => {
+    expect(Math.abs(place.raDeg - 158.558965) * Math.cos(19.158495 * DEG) * 3600).toBeLessThan(1.2);
+    expect(Math.abs(place.decDeg - 19.158495) * 3600).toBeLessThan(0.4);
   });
   it('gives elongation 40.51 deg to the book\'s 0.01 deg', () => {
     expect(Math.abs(place.elongationDeg - 40.51)).toBeLessThan(0.005);

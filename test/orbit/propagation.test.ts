@@ -47,10 +47,14 @@ describe('perturbed propagation against the library', () => {
     expect(sep).toBeLessThan(0.01);
   });
 
-  it("tracks the library's Mars within 1 arcsec from Earth over 30 days from 2026 Sep 1 and 2028 May 1 (other dates: docs/accuracy.md)", () => {
-    expect(planetTrackingErrorArcsec(Body.Mars, '2026-09-01T00:00:00', 30)).toBeLessThan(1);
-    expect(planetTrackingErrorArcsec(Body.Mars, '2028-05-01T00:00:00', 30)).toBeLessThan(1);
-  });
+  // docs/accuracy.md: the bar of 1 arcsec holds on 7 of these 9 dates; the library's truncated VSOP87 Mars is
+  // not an exact solution of the force model, so the two others reach 1.14 and 1.53 arcsec (measured).
+  it.each(['2024-01-01', '2024-09-01', '2025-01-01', '2025-05-01', '2026-01-01', '2026-09-01', '2027-01-01', '2027-05-01', '2028-05-01'])(
+    "tracks the library's Mars within 1.6 arcsec from Earth over 30 days from %s",
+    (date) => {
+      expect(planetTrackingErrorArcsec(Body.Mars, `${date}T00:00:00`, 30)).toBeLessThan(1.6);
+    },
+  );
 
   it("tracks the library's Jupiter within 0.1 arcsec from Earth over 30 days", () => {
     expect(planetTrackingErrorArcsec(Body.Jupiter, '2026-05-01T00:00:00', 30)).toBeLessThan(0.1);
@@ -96,16 +100,20 @@ function referenceRk4(start: HeliocentricState, tEnd: number, stepDays: number):
   }
   return { r, v };
 }
-/** Topocentric direction of a reference state, light time to first order (tau < 25 s at 0.05 au). */
+/**
+ * Topocentric direction of a reference state: light time to first order (tau < 25 s at 0.05 au) with the
+ * Sun's barycentric motion over tau (the place is a barycentric difference; leaving it out costs 0.004-0.007").
+ */
 function referenceDirection(r: V3, v: V3, tt: number): V3 {
   const when = utcFromTt(tt);
-  const e = HelioVector(Body.Earth, when);
+  const e = HelioVector(Body.Earth, T(tt));
   const o = ObserverVector(when, new Observer(site.latDeg, site.lonDeg, site.heightM), false);
+  const ssb = HelioState(Body.SSB, T(tt)); // the barycentre seen from the Sun: the Sun moves at -ssb.v
   const obs: V3 = [e.x + o.x, e.y + o.y, e.z + o.z];
   let rho: V3 = [r[0] - obs[0], r[1] - obs[1], r[2] - obs[2]];
-  for (let k = 0; k < 3; k++) {
+  for (let k = 0; k < 4; k++) {
     const tau = Math.hypot(...rho) / 173.1446326846693;
-    rho = [r[0] - v[0] * tau - obs[0], r[1] - v[1] * tau - obs[1], r[2] - v[2] * tau - obs[2]];
+    rho = [r[0] - v[0] * tau - obs[0] + ssb.vx * tau, r[1] - v[1] * tau - obs[1] + ssb.vy * tau, r[2] - v[2] * tau - obs[2] + ssb.vz * tau];
   }
   return rho;
 }
@@ -129,8 +137,9 @@ function closeApproacher(missAu: number, closestIso: string): HeliocentricState 
 }
 
 describe('a close approacher against a tight-step independent RK4', () => {
+  // docs/accuracy.md: measured 0.00001, 0.00001 and 0.00005 arcsec (worst of 5 times).
   for (const missAu of [0.002, 0.01, 0.05]) {
-    it(`keeps topocentric RA/Dec within 1 arcsec over 3 days for a pass at ${missAu} au`, () => {
+    it(`keeps topocentric RA/Dec within 0.0001 arcsec over 3 days for a pass at ${missAu} au`, () => {
       const start = closeApproacher(missAu, '2027-03-05T12:00:00');
       const timesTt = [-1.5, -0.75, 0, 0.75, 1.5].map((d) => start.tt + d);
       const places = ensemblePlaces([start], site, timesTt.map(utcFromTt));
@@ -141,13 +150,14 @@ describe('a close approacher against a tight-step independent RK4', () => {
         const ra = (places.raDeg[k]! * Math.PI) / 180, dec = (places.decDeg[k]! * Math.PI) / 180;
         worst = Math.max(worst, angleArcsec([Math.cos(dec) * Math.cos(ra), Math.cos(dec) * Math.sin(ra), Math.sin(dec)], dir));
       });
-      expect(worst).toBeLessThan(1);
+      expect(worst).toBeLessThan(1e-4);
     });
   }
 });
 
 describe('step halving', () => {
-  it('changes the topocentric place of a 0.002 au pass by less than 0.05 arcsec when the step fraction is halved', () => {
+  // docs/accuracy.md: measured 0.0000009 and 0.0000033 arcsec at the two ends.
+  it('changes the topocentric place of a 0.002 au pass by less than 0.00001 arcsec when the step fraction is halved', () => {
     const start = closeApproacher(0.002, '2027-03-05T12:00:00');
     const times = [-1.5, 1.5].map((d) => utcFromTt(start.tt + d));
     const coarse = ensemblePlaces([start], site, times);
@@ -155,7 +165,7 @@ describe('step halving', () => {
     for (let k = 0; k < times.length; k++) {
       const dRa = (coarse.raDeg[k]! - fine.raDeg[k]!) * Math.cos((fine.decDeg[k]! * Math.PI) / 180) * 3600;
       const dDec = (coarse.decDeg[k]! - fine.decDeg[k]!) * 3600;
-      expect(Math.hypot(dRa, dDec)).toBeLessThan(0.05);
+      expect(Math.hypot(dRa, dDec)).toBeLessThan(1e-5);
     }
   });
 });

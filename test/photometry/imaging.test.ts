@@ -5,26 +5,24 @@ import type { ObservingConditions } from '../../src/photometry/conditions.js';
 import { PlanConfigError } from '../../src/photometry/conditions.js';
 import { imagingLimitingMagnitude, imagingLimits, imagingSetup, skyInBand } from '../../src/photometry/imaging.js';
 import { FOLLOWUP_1M, FOLLOWUP_1M5, SURVEY_0M5 } from './telescopes.js';
+import { loadConfig } from '../../src/config/load.js';
 
 const DARK = (skyV: number): ObservingConditions => ({ vMag: 20, rateArcsecPerS: 0.05, rateSigmaArcsecPerS: 0.002, airmass: 1.2, skyVMagPerArcsec2: skyV });
 
-describe('imaging check values of the trade (common practice; telescopes set up in telescopes.ts)', () => {
-  it('a 0.5-m survey telescope reaches about V 19 at SNR 5 in 30 s under a dark sky', () => {
-    const setup = imagingSetup(SURVEY_0M5, 'V', DARK(21.5));
-    const limit = imagingLimitingMagnitude(setup, 1.2, 5, 30);
-    expect(limit).toBeGreaterThan(18.5);
-    expect(limit).toBeLessThan(20.0);
-  });
-
-  it('1- and 1.5-m telescopes reach V 21-22 (within half a magnitude) at SNR 10 in two to five minutes', () => {
-    for (const site of [FOLLOWUP_1M, FOLLOWUP_1M5]) {
-      const setup = imagingSetup(site, 'V', DARK(21.8));
-      for (const exposureS of [120, 300]) {
-        const limit = imagingLimitingMagnitude(setup, 1.2, 10, exposureS);
-        expect(limit).toBeGreaterThan(20.5);
-        expect(limit).toBeLessThan(22.5);
-      }
-    }
+// docs/accuracy.md, "Check values of the trade": the table's limiting magnitudes, to 0.02 mag (their printed
+// precision plus 0.015). What the trade says beside them (common practice: about V 19 at SNR 5 in 30 s with a
+// 0.5-m survey telescope, V 21-22 in a few minutes with a 1-1.5 m) is context for the table, not a tolerance.
+describe('imaging check values (telescopes set up in telescopes.ts; airmass 1.2, dark sky)', () => {
+  const cases = [
+    { name: '0.5-m survey telescope, sky 21.5', site: SURVEY_0M5, sky: 21.5, table: [19.57, 19.8, 20.39] },
+    { name: '1.0-m telescope, sky 21.8', site: FOLLOWUP_1M, sky: 21.8, table: [20.87, 21.22, 21.86] },
+    { name: '1.5-m telescope, sky 21.8', site: FOLLOWUP_1M5, sky: 21.8, table: [21.6, 21.82, 22.39] },
+    { name: 'demo site lantern-ridge, sky 21.8', site: loadConfig({ env: {} }).sites[0]!, sky: 21.8, table: [20.86, 21.21, 21.84] },
+  ];
+  it.each(cases)('$name: V at SNR 5 in 30 s, SNR 10 in 120 s and in 300 s as in the table, within 0.02 mag', ({ site, sky, table }) => {
+    const setup = imagingSetup(site, 'V', DARK(sky));
+    const limits = [[5, 30], [10, 120], [10, 300]].map(([snr, t]) => imagingLimitingMagnitude(setup, 1.2, snr!, t!));
+    limits.forEach((limit, k) => expect(Math.abs(limit - table[k]!)).toBeLessThan(0.02));
   });
 });
 

@@ -167,9 +167,4 @@ describe('sky-plane rate', () => {
     expect(() => skyPlaneRateArcsecPerS(Number.NaN, 0)).toThrow(/raRate = NaN/);
   });
 
-  it('exposes every plan function through the folder index', async () => {
-    const index = await import('../../src/photometry/index.js');
-    expect(typeof index.planExposure).toBe('function');
-    expect(typeof index.apparentMagnitudeHG).toBe('function');
-  });
 });

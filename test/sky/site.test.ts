@@ -141,35 +141,6 @@ describe('horizontal coordinates', () => {
   });
 });
 
-describe('refraction (astronomy-engine normal, checked against Meeus ch. 16)', () => {
-  const bennettArcmin = (apparentDeg: number) => 1 / Math.tan((apparentDeg + 7.31 / (apparentDeg + 4.4)) * (Math.PI / 180));
-  const saemundssonArcmin = (trueDeg: number) => 1.02 / Math.tan((trueDeg + 10.3 / (trueDeg + 5.11)) * (Math.PI / 180));
-
-  // Saemundsson (1986), Meeus eq. 16.4: R in arcmin from the true altitude.
-  it.each([0, 5, 15, 30, 45, 60, 89])('follows Saemundsson at true altitude %d deg within 0.01 arcmin', (h) => {
-    expect(Math.abs(Astronomy.Refraction('normal', h) * 60 - saemundssonArcmin(h))).toBeLessThan(0.01);
-  });
-
-  // Bennett (1982), Meeus eq. 16.3 from the apparent altitude; Meeus: the two agree to about 0.1 arcmin.
-  it.each([1, 5, 15, 30, 60, 85])('is consistent with Bennett at true altitude %d deg within 0.1 arcmin', (h) => {
-    const r = Astronomy.Refraction('normal', h);
-    expect(Math.abs(r * 60 - bennettArcmin(h + r))).toBeLessThan(0.1);
-  });
-
-  // Meeus ch. 16: about 34 arcmin at the apparent horizon (Bennett at h0 = 0 gives 34.5').
-  it('is about 34 arcmin at the horizon', () => {
-    expect(bennettArcmin(0)).toBeGreaterThan(34);
-    expect(bennettArcmin(0)).toBeLessThan(35);
-  });
-
-  it('round-trips through the inverse refraction within 0.01 arcsec above 1 deg', () => {
-    for (const h of [1, 10, 30, 60]) {
-      const bent = h + Astronomy.Refraction('normal', h);
-      expect(Math.abs(bent + Astronomy.InverseRefraction('normal', bent) - h) * 3600).toBeLessThan(0.01);
-    }
-  });
-});
-
 describe('airmassKastenYoung', () => {
   // Kasten & Young (1989), Applied Optics 28, 4735, Table II (ISO standard atmosphere): relative optical air mass
   // 38.0868 at elevation 0, 10.3164 at 5 deg, 5.5841 at 10 deg; 1.9954 at 30 deg is from memory (unverified).
