@@ -7,42 +7,54 @@ import { noaaSunEvent } from './noaa-sun.js';
 
 const config = loadConfig({ env: {} });
 const lanternRidge = config.sites.find((s) => s.id === 'lantern-ridge')!;
-const rad = Math.PI / 180;
 
-const minutesApart = (a: Date | null, b: Date) => Math.abs((a?.getTime() ?? Number.NaN) - b.getTime()) / 60_000;
+const secondsApart = (a: Date | null, b: Date) => Math.abs((a?.getTime() ?? Number.NaN) - b.getTime()) / 1000;
+
+// NOAA's equation (test/sky/noaa-sun.ts) uses the sea-level rise/set altitude -0.833 deg (34' refraction + 16'
+// semidiameter); astronomy-engine scales the refraction with the site's air density, which moves sunrise and
+// sunset by 20-35 s at these heights (docs/accuracy.md, measured): tested at 45 s. Dusk and dawn (Sun's centre
+// at -12 deg, unrefracted) agree to 1-2 s: tested at 4 s.
+const RISE_SET_S = 45;
+const TWILIGHT_S = 4;
+
+describe.each(config.sites.map((s) => [s.id, s] as const))('nightAt, demo site %s, night of 2027-03-15, against the NOAA equation', (_id, site) => {
+  const night = nightAt(site, '2027-03-15');
+  const { latDeg, lonDeg } = site.location;
+  /** The equation's event on whichever UTC day puts it inside the night's span. */
+  const noaa = (h0: number, dir: 1 | -1): Date => {
+    for (let k = -1; k <= 2; k++) {
+      const t = noaaSunEvent(new Date(night.span.start.getTime() + k * 86_400_000), latDeg, lonDeg, h0, dir);
+      if (t >= night.span.start && t <= night.span.end) return t;
+    }
+    throw new Error('no event in the span');
+  };
+
+  it('has sunset and sunrise within 45 s', () => {
+    expect(secondsApart(night.sunset, noaa(-0.833, -1))).toBeLessThan(RISE_SET_S);
+    expect(secondsApart(night.sunrise, noaa(-0.833, +1))).toBeLessThan(RISE_SET_S);
+  });
+
+  it('has dusk and dawn (Sun centre at -12 deg, unrefracted) within 4 s', () => {
+    expect(secondsApart(night.dusk, noaa(-12, -1))).toBeLessThan(TWILIGHT_S);
+    expect(secondsApart(night.dawn, noaa(-12, +1))).toBeLessThan(TWILIGHT_S);
+  });
+});
 
 describe('nightAt, demo site lantern-ridge, night of 2027-03-15', () => {
   const night = nightAt(lanternRidge, '2027-03-15');
   const { latDeg, lonDeg } = lanternRidge.location;
-  // Local evening of Mar 15 at lon -107.6 is after 00:00 UTC of Mar 16; sunrise is on Mar 16 UTC as well.
-  const utcDay = new Date('2027-03-16T00:00:00Z');
-
-  // NOAA standard rise/set altitude -0.833 deg (34' refraction + 16' semidiameter); astronomy-engine scales the
-  // refraction for the site's 2310 m, which moves the time by well under a minute here.
-  it('has sunset within 2 minutes of the NOAA sunrise equation', () => {
-    const expected = noaaSunEvent(new Date('2027-03-15T12:00:00Z'), latDeg, lonDeg, -0.833, -1);
-    // The setting Sun on local Mar 15 falls on UTC Mar 16 ~01:10; the equation's UTC day is shifted accordingly.
-    const e = expected.getTime() < night.span.start.getTime() ? new Date(expected.getTime() + 86_400_000) : expected;
-    expect(minutesApart(night.sunset, e)).toBeLessThan(2);
-  });
-
-  it('has sunrise within 2 minutes of the NOAA sunrise equation', () => {
-    expect(minutesApart(night.sunrise, noaaSunEvent(utcDay, latDeg, lonDeg, -0.833, +1))).toBeLessThan(2);
-  });
-
-  it('has dusk and dawn (Sun centre at -12 deg, unrefracted) within 2 minutes of the NOAA equation', () => {
-    let dusk = noaaSunEvent(new Date('2027-03-15T12:00:00Z'), latDeg, lonDeg, -12, -1);
-    if (dusk.getTime() < night.span.start.getTime()) dusk = new Date(dusk.getTime() + 86_400_000);
-    expect(minutesApart(night.dusk, dusk)).toBeLessThan(2);
-    expect(minutesApart(night.dawn, noaaSunEvent(utcDay, latDeg, lonDeg, -12, +1))).toBeLessThan(2);
-  });
 
   it('orders sunset < dusk < dawn < sunrise and the dark interval is dusk to dawn', () => {
     const t = [night.sunset, night.dusk, night.dawn, night.sunrise].map((d) => d!.getTime());
     expect([...t].sort((a, b) => a - b)).toEqual(t);
     expect(night.dark).toEqual({ start: night.dusk, end: night.dawn });
-    expect(night.darkH).toBeGreaterThan(9);
-    expect(night.darkH).toBeLessThan(11);
+  });
+
+  // docs/accuracy.md: 10.224 dark hours, the Moon 56.5 % lit (phase angle 82.5 deg), setting 09:16:36 UTC.
+  it('has 10.224 dark hours and the Moon 56.5 % lit, setting at 09:16:36 UTC (within 30 s)', () => {
+    expect(night.darkH).toBeCloseTo(10.224, 3);
+    expect(night.moon.illuminatedFraction).toBeCloseTo(0.565, 3);
+    expect(secondsApart(night.moon.sets[0] ?? null, new Date('2027-03-16T09:16:36Z'))).toBeLessThan(30);
   });
 
   it('has the Moon above the horizon in the middle of every moon-up part of the dark, and below outside', () => {
@@ -61,10 +73,6 @@ describe('nightAt, demo site lantern-ridge, night of 2027-03-15', () => {
       const inside = night.moon.upDuringDark.some((i) => t >= i.start.getTime() && t <= i.end.getTime());
       if (!inside) expect(altAt(new Date(t))).toBeLessThan(0.5);
     }
-  });
-
-  it('reports an illuminated fraction consistent with the phase angle', () => {
-    expect(night.moon.illuminatedFraction).toBeCloseTo((1 + Math.cos(night.moon.phaseAngleDeg * rad)) / 2, 9);
   });
 
   it('renders ISO-8601 UTC strings in its JSON form', () => {
