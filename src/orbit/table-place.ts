@@ -1,5 +1,5 @@
 import { ellipseDistanceSquared, offsetArcsec } from './estimation/sky-spread.js';
-import type { UncertaintyEllipse } from './ephemeris.js';
+import type { EphemerisRow, UncertaintyEllipse } from './ephemeris.js';
 
 /**
  * Where a request's ephemeris table puts the object between its rows, and how
@@ -8,14 +8,7 @@ import type { UncertaintyEllipse } from './ephemeris.js';
  */
 
 /** One row of a request's ephemeris table: ISO UTC, RA/Dec degrees, rates arcsec/s (RA rate times cos Dec), 1-sigma ellipse arcsec. */
-export interface TableRowLike {
-  readonly t: string;
-  readonly ra: number;
-  readonly dec: number;
-  readonly raRate: number;
-  readonly decRate: number;
-  readonly unc: UncertaintyEllipse | null;
-}
+export type TableRowLike = Pick<EphemerisRow, 't' | 'ra' | 'dec' | 'raRate' | 'decRate' | 'unc'>;
 
 /** A predicted place as an offset from a reference row (east, north arcsec on that row's equidistant plane), with its ellipse. */
 export interface TablePlace {

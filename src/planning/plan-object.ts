@@ -534,7 +534,10 @@ function planSite(input: PlanObjectInput, site: Site, startMs: number, endMs: nu
   const perWindow = found.windows.map((w) => {
     const windowS = (w.end.getTime() - w.start.getTime()) / 1000;
     const make = (tMs: number): Omit<Candidate, 'bright'> => ({ tMs, c: conditionsAt(site, timeline, track, tMs, diameter) });
-    const base = candidatesIn(w, track.stepMs, startMs, (t) => ({ ...make(t), bright: { feasible: false, kind: 'photometry', reason: '', figures: {} } }));
+    // Candidate times on whole steps of UTC (not of `now`), so replans ten minutes apart weigh the same
+    // times and a kind near a threshold is not proposed and dropped by turns.
+    const gridOriginMs = Math.floor(startMs / track.stepMs) * track.stepMs;
+    const base = candidatesIn(w, track.stepMs, gridOriginMs, (t) => ({ ...make(t), bright: { feasible: false, kind: 'photometry', reason: '', figures: {} } }));
     const byKind = new Map<RequestKind, Candidate[]>();
     for (const kind of REQUEST_KINDS) {
       if (kind === 'spectrum' && site.spectrograph === undefined) continue;
