@@ -167,14 +167,16 @@ function rk4(start: HeliocentricState, tEnd: number, stepDays: number): { r: V3;
   }
   return { r, v };
 }
+/** Topocentric direction with first-order light time and the Sun's barycentric motion over it (a barycentric difference). */
 function topocentric(r: V3, v: V3, tt: number): V3 {
   const when = utcFromTt(tt);
-  const e = HelioVector(Body.Earth, when);
+  const e = HelioVector(Body.Earth, T(tt));
   const o = ObserverVector(when, new Observer(site.latDeg, site.lonDeg, site.heightM), false);
+  const ssb = HelioState(Body.SSB, T(tt));
   let rho: V3 = [r[0] - e.x - o.x, r[1] - e.y - o.y, r[2] - e.z - o.z];
-  for (let k = 0; k < 3; k++) {
+  for (let k = 0; k < 4; k++) {
     const tau = Math.hypot(...rho) / 173.1446326846693;
-    rho = [r[0] - v[0] * tau - e.x - o.x, r[1] - v[1] * tau - e.y - o.y, r[2] - v[2] * tau - e.z - o.z];
+    rho = [r[0] - v[0] * tau - e.x - o.x + ssb.vx * tau, r[1] - v[1] * tau - e.y - o.y + ssb.vy * tau, r[2] - v[2] * tau - e.z - o.z + ssb.vz * tau];
   }
   return rho;
 }
@@ -238,7 +240,7 @@ function accuracy(): void {
       const ra = (places.raDeg[k]! * Math.PI) / 180, dec = (places.decDeg[k]! * Math.PI) / 180;
       worst = Math.max(worst, angle([Math.cos(dec) * Math.cos(ra), Math.cos(dec) * Math.sin(ra), Math.sin(dec)], topocentric(ref.r, ref.v, tt)));
     });
-    console.log(`pass at ${missAu} au: worst ${worst.toFixed(4)} arcsec over ${timesTt.length} times (${tr.stepCount} steps)`);
+    console.log(`pass at ${missAu} au: worst ${worst.toFixed(5)} arcsec over ${timesTt.length} times (${tr.stepCount} steps)`);
   }
 }
 

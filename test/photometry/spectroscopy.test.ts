@@ -13,6 +13,7 @@ import {
   v0PhotonFluxPerCm2PerNm,
 } from '../../src/photometry/spectroscopy.js';
 import { FOLLOWUP_1M, SURVEY_0M5 } from './telescopes.js';
+import { loadConfig } from '../../src/config/load.js';
 
 /** Good non-sidereal tracking: 2 arcsec per hour of rate error (a planning assumption). */
 const GOOD_TRACKING_ARCSEC_PER_S = 2 / 3600;
@@ -68,6 +69,14 @@ describe('spectrum setup and caps', () => {
     const plan = spectrumPlan(FOLLOWUP_1M, conditions(vMag), { targetSnr: 20 });
     if (!plan.feasible) throw new Error(plan.reason);
     expect(Math.abs(plan.steps[0].exposureS - seconds)).toBeLessThan(1);
+  });
+
+  // docs/accuracy.md: the demo site (0.3 nm/px, 3-arcsec slit, SNR 20, airmass 1.2, dark sky) reaches V 17.64 in
+  // one 900-s exposure and V 18.56 in four (an hour of exposure).
+  it('gives the demo site lantern-ridge a limiting V of 17.64 in one 900-s spectrum and 18.56 in four, within 0.01 mag', () => {
+    const setup = spectrumSetup(loadConfig({ env: {} }).sites[0]!, 3, conditions(17));
+    expect(Math.abs(spectrumLimitingMagnitude(setup, 1.2, 20, 900) - 17.64)).toBeLessThan(0.01);
+    expect(Math.abs(spectrumLimitingMagnitude(setup, 1.2, 20, 900, 4) - 18.56)).toBeLessThan(0.01);
   });
 
   it('reaches exactly the target SNR at its own limiting magnitude', () => {

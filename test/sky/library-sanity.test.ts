@@ -35,10 +35,11 @@ describe('Sun (astronomy-engine, checked against Meeus)', () => {
 
   // Meeus Example 25.b (full VSOP87, same instant): 13h13m30.749s, -7d47m01.74s. The book's page was not at
   // hand; the values agree with independent public test suites that quote the same example.
-  it('is within 1 arcsec of Meeus Example 25.b', () => {
+  // Measured 0.21" in RA cos Dec and 0.77" in Dec.
+  it('is within 0.4 arcsec (RA cos Dec) and 1 arcsec (Dec) of Meeus Example 25.b', () => {
     const sun = geocentricApparentSun(time);
     const cosDec = Math.cos(sun.decDeg * (Math.PI / 180));
-    expect(Math.abs(sun.raDeg - hms(13, 13, 30.749) * 15) * cosDec * 3600).toBeLessThan(1);
+    expect(Math.abs(sun.raDeg - hms(13, 13, 30.749) * 15) * cosDec * 3600).toBeLessThan(0.4);
     expect(Math.abs(sun.decDeg + hms(7, 47, 1.74)) * 3600).toBeLessThan(1);
   });
 });
@@ -49,16 +50,18 @@ describe('Moon (astronomy-engine, checked against Meeus)', () => {
   // Meeus Example 47.a: lambda = 133.162655 deg (+ nutation 0.004610 = apparent 133.167265), beta = -3.229126 deg,
   // distance 368409.7 km. astronomy-engine's lunar theory and Meeus's truncated ELP-2000 each carry ~10"
   // and ~10-20 km, so tolerances are 10 arcsec and 30 km.
-  it('is within 10 arcsec and 30 km of Meeus Example 47.a', () => {
+  // Measured 2.3" in longitude, 0.8" in latitude, 14.8 km.
+  it('is within 4.5 arcsec, 1.6 arcsec and 29 km of Meeus Example 47.a', () => {
     const moon = Astronomy.EclipticGeoMoon(time); // true ecliptic and equinox of date
-    expect(Math.abs(moon.lon - 133.167265) * 3600).toBeLessThan(10);
-    expect(Math.abs(moon.lat + 3.229126) * 3600).toBeLessThan(10);
-    expect(Math.abs(moon.dist * Astronomy.KM_PER_AU - 368409.7)).toBeLessThan(30);
+    expect(Math.abs(moon.lon - 133.167265) * 3600).toBeLessThan(4.5);
+    expect(Math.abs(moon.lat + 3.229126) * 3600).toBeLessThan(1.6);
+    expect(Math.abs(moon.dist * Astronomy.KM_PER_AU - 368409.7)).toBeLessThan(29);
   });
 
   // Meeus Example 48.a: illuminated fraction k = 0.6786 (phase angle i = 69.0756 deg).
-  it('has the illuminated fraction of Meeus Example 48.a within 0.001', () => {
-    expect(Math.abs(Astronomy.Illumination(Astronomy.Body.Moon, time).phase_fraction - 0.6786)).toBeLessThan(0.001);
+  // Measured 0.67852.
+  it('has the illuminated fraction of Meeus Example 48.a within 0.00015', () => {
+    expect(Math.abs(Astronomy.Illumination(Astronomy.Body.Moon, time).phase_fraction - 0.6786)).toBeLessThan(0.00015);
   });
 
 });

@@ -45,12 +45,14 @@ describe('observerFromLocation', () => {
 
 describe('sidereal time', () => {
   // Meeus, Astronomical Algorithms (2nd ed.), Example 12.a: 1987 Apr 10, 0h UT, mean 13h10m46.3668s.
-  it('matches Meeus Example 12.a mean sidereal time within 0.01 s', () => {
+  // Measured 3.3 ms off (docs/accuracy.md).
+  it('matches Meeus Example 12.a mean sidereal time within 0.006 s', () => {
     const gmst = greenwichMeanSiderealTimeH(new Date('1987-04-10T00:00:00Z'));
-    expect(Math.abs(gmst - hms(13, 10, 46.3668)) * 3600).toBeLessThan(0.01);
+    expect(Math.abs(gmst - hms(13, 10, 46.3668)) * 3600).toBeLessThan(0.006);
   });
 
   // Meeus Example 12.b (same instant): apparent 13h10m46.1351s (equation of the equinoxes -0.2317 s).
+  // Measured 7.8 ms off.
   it('matches Meeus Example 12.b apparent sidereal time within 0.01 s', () => {
     const gast = greenwichApparentSiderealTimeH(new Date('1987-04-10T00:00:00Z'));
     expect(Math.abs(gast - hms(13, 10, 46.1351)) * 3600).toBeLessThan(0.01);
@@ -70,18 +72,20 @@ describe('sidereal time', () => {
 describe('horizontal coordinates', () => {
   // Meeus Example 13.b: Venus from the US Naval Observatory (38d55m17s N, 77d03m56s W), 1987 Apr 10 19:21 UT,
   // apparent RA 23h09m16.641s, Dec -6d43m11.61s; A = 68.0337 deg west of south (= 248.0337 from north), h = 15.1249 deg.
-  it('matches Meeus Example 13.b within 0.01 deg without refraction', () => {
+  // Measured 0.00008 deg in azimuth and 0.00005 deg in altitude (the book's last digit).
+  it('matches Meeus Example 13.b within 0.00015 deg without refraction', () => {
     const usno = { latDeg: dms(38, 55, 17), lonDeg: -dms(77, 3, 56), heightM: 0 };
     const hor = horizontalFromOfDate(usno, new Date('1987-04-10T19:21:00Z'), hms(23, 9, 16.641) * 15, dms(-6, 43, 11.61), {
       refraction: false,
     });
-    expect(Math.abs(hor.azDeg - 248.0337)).toBeLessThan(0.01);
-    expect(Math.abs(hor.altDeg - 15.1249)).toBeLessThan(0.01);
+    expect(Math.abs(hor.azDeg - 248.0337)).toBeLessThan(0.00015);
+    expect(Math.abs(hor.altDeg - 15.1249)).toBeLessThan(0.00015);
   });
 
   // Meeus Example 23.a (theta Persei, 2028 Nov 13.19 TD): J2000 2h44m11.986s +49d13m42.48s, proper motion
   // +0.03425 s/yr, -0.0895"/yr; apparent place 2h46m14.390s +49d21m07.45s (nutation + annual aberration).
-  it('reproduces Meeus Example 23.a apparent place within 0.5 arcsec (diurnal aberration adds < 0.33")', () => {
+  // Measured 0.09" in RA cos Dec and 0.20" in Dec (our diurnal aberration adds up to 0.33").
+  it('reproduces Meeus Example 23.a apparent place within 0.18 arcsec in RA cos Dec and 0.4 arcsec in Dec', () => {
     const jdTt = 2462088.69;
     const time = Astronomy.AstroTime.FromTerrestrialTime(jdTt - 2451545.0);
     const years = (jdTt - 2451545.0) / 365.25;
@@ -89,13 +93,13 @@ describe('horizontal coordinates', () => {
     const decDeg = dms(49, 13, 42.48 - 0.0895 * years);
     const target = apparentInFrame(siteFrameAt({ latDeg: 0, lonDeg: 0, heightM: 0 }, time.date), raDeg, decDeg);
     const cosDec = Math.cos(target.decOfDateDeg * (Math.PI / 180));
-    expect(Math.abs(target.raOfDateDeg - hms(2, 46, 14.39) * 15) * cosDec * 3600).toBeLessThan(0.5);
-    expect(Math.abs(target.decOfDateDeg - dms(49, 21, 7.45)) * 3600).toBeLessThan(0.5);
+    expect(Math.abs(target.raOfDateDeg - hms(2, 46, 14.39) * 15) * cosDec * 3600).toBeLessThan(0.18);
+    expect(Math.abs(target.decOfDateDeg - dms(49, 21, 7.45)) * 3600).toBeLessThan(0.4);
   });
 
   // Cross-check with astronomy-engine's own path for a fixed star (DefineStar + Equator + Horizon), which
-  // treats aberration differently for a distant fixed point; agreement within 1 arcsec on the sky.
-  it('agrees with astronomy-engine star path within 1 arcsec on the sky', () => {
+  // treats aberration differently for a distant fixed point; measured 0.26 arcsec on the sky.
+  it('agrees with astronomy-engine star path within 0.5 arcsec on the sky', () => {
     Astronomy.DefineStar(Astronomy.Body.Star1, 10, 20, 1000);
     const when = new Date('2027-03-15T06:00:00Z');
     const observer = observerFromLocation(demoSite);
@@ -104,7 +108,7 @@ describe('horizontal coordinates', () => {
     const ours = horizontalFromIcrs(demoSite, when, 150, 20);
     const dAlt = ours.altDeg - lib.altitude;
     const dAz = (ours.azDeg - lib.azimuth) * Math.cos(ours.altDeg * (Math.PI / 180));
-    expect(Math.hypot(dAlt, dAz)).toBeLessThan(1 * ARCSEC_DEG);
+    expect(Math.hypot(dAlt, dAz)).toBeLessThan(0.5 * ARCSEC_DEG);
   });
 
   it('computes the same horizon as astronomy-engine Horizon for coordinates of date, within 1e-6 deg', () => {
@@ -144,12 +148,13 @@ describe('horizontal coordinates', () => {
 describe('airmassKastenYoung', () => {
   // Kasten & Young (1989), Applied Optics 28, 4735, Table II (ISO standard atmosphere): relative optical air mass
   // 38.0868 at elevation 0, 10.3164 at 5 deg, 5.5841 at 10 deg; 1.9954 at 30 deg is from memory (unverified).
-  // The paper's eq. 3 fit is expected within 0.5 % of its table at the horizon and ~0.1 % above 5 deg.
+  // The eq. 3 fit measures 0.44 %, 0.10 %, 0.035 % and 0.056 % off the table (docs/accuracy.md); tolerances
+  // are about twice that.
   it.each([
     { zenithDeg: 90, table: 38.0868, tolerance: 0.005 },
     { zenithDeg: 85, table: 10.3164, tolerance: 0.002 },
-    { zenithDeg: 80, table: 5.5841, tolerance: 0.002 },
-    { zenithDeg: 60, table: 1.9954, tolerance: 0.002 },
+    { zenithDeg: 80, table: 5.5841, tolerance: 0.0007 },
+    { zenithDeg: 60, table: 1.9954, tolerance: 0.001 },
   ])('is within the fit error of the table at zenith distance $zenithDeg deg', ({ zenithDeg, table, tolerance }) => {
     const x = airmassKastenYoung(90 - zenithDeg);
     expect(Math.abs(x / table - 1)).toBeLessThan(tolerance);

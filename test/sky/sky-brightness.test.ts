@@ -21,9 +21,10 @@ const base = {
 describe('Krisciunas & Schaefer (1991) sky brightness', () => {
   // Reference library: specsim (DESI spectral simulator) documents its KS91 moonlight for target zenith 20 deg,
   // Moon zenith 70 deg, separation 50 deg, phase 0.25 (alpha = 45 deg), k = 0.15: 19.855 mag/arcsec^2.
-  it('gives 19.855 V mag/arcsec^2 of moonlight for the reference library case within 0.005 mag', () => {
+  // Measured 19.8548; the reference prints three decimals.
+  it('gives 19.855 V mag/arcsec^2 of moonlight for the reference library case to its printed precision (0.001 mag)', () => {
     const r = skyBrightnessKS(base);
-    expect(Math.abs(vMagFromNanolamberts(r.moonlightNanolamberts) - 19.855)).toBeLessThan(0.005);
+    expect(Math.abs(vMagFromNanolamberts(r.moonlightNanolamberts) - 19.855)).toBeLessThan(0.001);
   });
 
   // KS91 eq. 1 as we recall it: B(nL) = 34.08 exp(20.7233 - 0.92104 V); 21.8 mag/arcsec^2 is then ~ 66 nL
