@@ -1,18 +1,18 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { AstroTime, Body, HelioState, HelioVector, MassProduct, Observer, ObserverVector } from 'astronomy-engine';
+import { Body, MassProduct } from 'astronomy-engine';
 import { elementsFromNoticeOrbit } from '../../src/commands/ephemeris.js';
 import { ephemerisFromElements } from '../../src/orbit/ephemeris.js';
+import { referenceDirection, referenceRk4, referenceTt, type V3 } from './reference-integration.js';
 
 /**
  * An orbit block's ephemeris against an independent integration started from the
- * same elements. Everything on the reference side is written here, sharing no code
- * with src/: TT from UTC by the constant 69.184 s (IERS Bulletin C 52: TAI - UTC =
- * 37 s from 2017 January 1; TT - TAI = 32.184 s), the elements' frame (ecliptic J2000,
- * obliquity 84381.448", IAU 1976), Kepler's equation to the starting state, fixed
- * 10-minute RK4 steps with the Sun, the eight planets and the Moon taken from
- * astronomy-engine at every stage (no interpolation table), and a first-order
- * light-time place with the Sun's barycentric motion. Bar (docs/accuracy.md):
+ * same elements. Everything on the reference side is written in the tests, sharing no
+ * code with src/: here the elements' frame (ecliptic J2000, obliquity 84381.448",
+ * IAU 1976) and Kepler's equation to the starting state; in reference-integration.ts
+ * TT from UTC by the constant 69.184 s, fixed 10-minute RK4 steps with the planets and
+ * the Moon from astronomy-engine at every stage, and a first-order light-time place
+ * with the Sun's barycentric motion. Bar (docs/accuracy.md):
  * p90 of the difference over 48 hours at most 0.05 arcsec, close approachers too;
  * measured 0.00001-0.00005 arcsec, asserted at 0.0001. With the IAU 2006 obliquity
  * (84381.406") the same comparisons give 4.5" (demo), 17.4", 3.8" and 0.67" (close).
@@ -21,20 +21,13 @@ import { ephemerisFromElements } from '../../src/orbit/ephemeris.js';
 const DEG = Math.PI / 180;
 const ARCSEC_PER_RAD = 206_264.806_247_096_36;
 const J2000_MS = Date.UTC(2000, 0, 1, 12);
-const TT_MINUS_UTC_S = 69.184;
 const OBLIQUITY_IAU1976 = (84381.448 / 3600) * DEG;
-const C_AU_PER_DAY = (299_792.458 * 86_400) / 149_597_870.7;
 const GM_SUN = MassProduct(Body.Sun);
-const BODIES = [Body.Mercury, Body.Venus, Body.Earth, Body.Moon, Body.Mars, Body.Jupiter, Body.Saturn, Body.Uranus, Body.Neptune];
-const GM = BODIES.map((b) => MassProduct(b));
 const site = { latDeg: 34.21, lonDeg: -107.62, heightM: 2310 }; // lantern-ridge (config/default.json), invented
 
-type V3 = [number, number, number];
 interface Block { epoch: string; q: number; e: number; i: number; node: number; peri: number; tp: string }
 
 const ttOfTtIso = (iso: string) => (Date.parse(iso.endsWith('Z') ? iso : `${iso}Z`) - J2000_MS) / 86_400_000;
-const ttOfUtc = (d: Date) => (d.getTime() - J2000_MS) / 86_400_000 + TT_MINUS_UTC_S / 86_400;
-const atTt = (tt: number) => AstroTime.FromTerrestrialTime(tt);
 
 /** Heliocentric equatorial J2000 state from elliptic elements (Meeus ch. 30 and 33; Kepler's equation by Newton). */
 function stateFromBlock(b: Block, tt: number): { r: V3; v: V3 } {
@@ -57,60 +50,6 @@ function stateFromBlock(b: Block, tt: number): { r: V3; v: V3 } {
   };
 }
 
-function acceleration(tt: number, r: V3): V3 {
-  const rn = Math.hypot(...r);
-  const acc: V3 = [(-GM_SUN * r[0]) / rn ** 3, (-GM_SUN * r[1]) / rn ** 3, (-GM_SUN * r[2]) / rn ** 3];
-  const time = atTt(tt);
-  BODIES.forEach((body, k) => {
-    const p = HelioVector(body, time);
-    const d: V3 = [p.x - r[0], p.y - r[1], p.z - r[2]];
-    const dn = Math.hypot(...d), pn = Math.hypot(p.x, p.y, p.z);
-    acc[0] += GM[k]! * (d[0] / dn ** 3 - p.x / pn ** 3);
-    acc[1] += GM[k]! * (d[1] / dn ** 3 - p.y / pn ** 3);
-    acc[2] += GM[k]! * (d[2] / dn ** 3 - p.z / pn ** 3);
-  });
-  return acc;
-}
-
-/** Classical RK4 from (r, v) at t0 to t1 in equal steps of at most 10 minutes. */
-function integrate(r0: V3, v0: V3, t0: number, t1: number): { r: V3; v: V3 } {
-  const steps = Math.max(1, Math.ceil(Math.abs(t1 - t0) / (10 / 1440)));
-  const h = (t1 - t0) / steps;
-  let r = r0, v = v0, t = t0;
-  const add = (a: V3, b: V3, k: number): V3 => [a[0] + k * b[0], a[1] + k * b[1], a[2] + k * b[2]];
-  for (let s = 0; s < steps; s++) {
-    const a1 = acceleration(t, r);
-    const r2 = add(r, v, h / 2), v2 = add(v, a1, h / 2);
-    const a2 = acceleration(t + h / 2, r2);
-    const r3 = add(r, v2, h / 2), v3 = add(v, a2, h / 2);
-    const a3 = acceleration(t + h / 2, r3);
-    const r4 = add(r, v3, h), v4 = add(v, a3, h);
-    const a4 = acceleration(t + h, r4);
-    r = [0, 1, 2].map((i) => r[i]! + (h / 6) * (v[i]! + 2 * v2[i]! + 2 * v3[i]! + v4[i]!)) as V3;
-    v = [0, 1, 2].map((i) => v[i]! + (h / 6) * (a1[i]! + 2 * a2[i]! + 2 * a3[i]! + a4[i]!)) as V3;
-    t += h;
-  }
-  return { r, v };
-}
-
-/** Unit vector from the site to the object (astrometric: light time, the Sun's barycentric motion, no aberration). */
-function referenceDirection(r: V3, v: V3, timeUtc: Date): V3 {
-  const tt = ttOfUtc(timeUtc);
-  const earth = HelioVector(Body.Earth, atTt(tt));
-  const rotation = new AstroTime((timeUtc.getTime() - J2000_MS) / 86_400_000); // UT1 = UTC
-  const siteVec = ObserverVector(rotation, new Observer(site.latDeg, site.lonDeg, site.heightM), false);
-  const ssb = HelioState(Body.SSB, atTt(tt)); // the barycentre from the Sun; the Sun moves at -ssb.v
-  const o: V3 = [earth.x + siteVec.x, earth.y + siteVec.y, earth.z + siteVec.z];
-  let tau = 0;
-  let rho: V3 = [0, 0, 0];
-  for (let k = 0; k < 5; k++) {
-    rho = [r[0] - v[0] * tau - o[0] + ssb.vx * tau, r[1] - v[1] * tau - o[1] + ssb.vy * tau, r[2] - v[2] * tau - o[2] + ssb.vz * tau];
-    tau = Math.hypot(...rho) / C_AU_PER_DAY;
-  }
-  const n = Math.hypot(...rho);
-  return [rho[0] / n, rho[1] / n, rho[2] / n];
-}
-
 /** Differences (arcsec) between our rows and the reference, hourly over 48 hours from `startUtc`. */
 function differencesArcsec(block: Block, startUtc: string): number[] {
   const times = Array.from({ length: 49 }, (_, k) => new Date(Date.parse(startUtc) + k * 3_600_000));
@@ -119,8 +58,8 @@ function differencesArcsec(block: Block, startUtc: string): number[] {
   const epoch = ttOfTtIso(block.epoch);
   const start = stateFromBlock(block, epoch);
   return times.map((t, k) => {
-    const s = integrate(start.r, start.v, epoch, ttOfUtc(t));
-    const ref = referenceDirection(s.r, s.v, t);
+    const s = referenceRk4(start.r, start.v, epoch, referenceTt(t));
+    const ref = referenceDirection(s.r, s.v, t, site);
     const ra = rows[k]!.ra * DEG, dec = rows[k]!.dec * DEG;
     const ours: V3 = [Math.cos(dec) * Math.cos(ra), Math.cos(dec) * Math.sin(ra), Math.sin(dec)];
     const c: V3 = [ours[1] * ref[2] - ours[2] * ref[1], ours[2] * ref[0] - ours[0] * ref[2], ours[0] * ref[1] - ours[1] * ref[0]];

@@ -1,9 +1,10 @@
 import { describe, expect, it } from 'vitest';
-import { AstroTime, Body, GravitySimulator, HelioState, HelioVector, MassProduct, ObserverVector, Observer, StateVector } from 'astronomy-engine';
+import { AstroTime, Body, GravitySimulator, HelioState, HelioVector, StateVector } from 'astronomy-engine';
 import { stateFromPerihelionElements, type HeliocentricState } from '../../src/orbit/elements.js';
 import { ensemblePlaces, streamEnsemblePlacesForSites } from '../../src/orbit/ephemeris.js';
 import { propagateEnsemble } from '../../src/orbit/propagate.js';
 import { MOON_INDEX, PerturberTable } from '../../src/orbit/perturbers.js';
+import { referenceDirection, referenceRk4 } from './reference-integration.js';
 import { OrbitInputError } from '../../src/orbit/errors.js';
 import { ttFromTtIso, ttFromUtc, utcFromTt } from '../../src/orbit/time.js';
 
@@ -62,63 +63,6 @@ describe('perturbed propagation against the library', () => {
   });
 });
 
-// --- An independent integration written here: classical RK4 with small fixed steps, planets and Moon straight
-// from astronomy-engine at every stage (no interpolation table), heliocentric with the indirect term.
-const BODIES = [Body.Mercury, Body.Venus, Body.Earth, Body.Moon, Body.Mars, Body.Jupiter, Body.Saturn, Body.Uranus, Body.Neptune];
-const GM = BODIES.map((b) => MassProduct(b));
-const GM_SUN = MassProduct(Body.Sun);
-function referenceAcceleration(tt: number, r: V3): V3 {
-  const a: V3 = [0, 0, 0];
-  const rn = Math.hypot(...r);
-  for (let i = 0; i < 3; i++) a[i] = (-GM_SUN * r[i]!) / rn ** 3;
-  BODIES.forEach((b, k) => {
-    const p = HelioVector(b, T(tt));
-    const pv: V3 = [p.x, p.y, p.z];
-    const d: V3 = [pv[0] - r[0], pv[1] - r[1], pv[2] - r[2]];
-    const dn = Math.hypot(...d), pn = Math.hypot(...pv);
-    for (let i = 0; i < 3; i++) a[i] = a[i]! + GM[k]! * (d[i]! / dn ** 3 - pv[i]! / pn ** 3);
-  });
-  return a;
-}
-function referenceRk4(start: HeliocentricState, tEnd: number, stepDays: number): { r: V3; v: V3 } {
-  let r: V3 = [start.x, start.y, start.z];
-  let v: V3 = [start.vx, start.vy, start.vz];
-  const n = Math.ceil(Math.abs(tEnd - start.tt) / stepDays);
-  const h = (tEnd - start.tt) / n;
-  let t = start.tt;
-  const add = (a: V3, b: V3, k: number): V3 => [a[0] + k * b[0], a[1] + k * b[1], a[2] + k * b[2]];
-  for (let s = 0; s < n; s++) {
-    const a1 = referenceAcceleration(t, r);
-    const r2 = add(r, v, h / 2), v2 = add(v, a1, h / 2);
-    const a2 = referenceAcceleration(t + h / 2, r2);
-    const r3 = add(r, v2, h / 2), v3 = add(v, a2, h / 2);
-    const a3 = referenceAcceleration(t + h / 2, r3);
-    const r4 = add(r, v3, h), v4 = add(v, a3, h);
-    const a4 = referenceAcceleration(t + h, r4);
-    r = [0, 1, 2].map((i) => r[i]! + (h / 6) * (v[i]! + 2 * v2[i]! + 2 * v3[i]! + v4[i]!)) as V3;
-    v = [0, 1, 2].map((i) => v[i]! + (h / 6) * (a1[i]! + 2 * a2[i]! + 2 * a3[i]! + a4[i]!)) as V3;
-    t += h;
-  }
-  return { r, v };
-}
-/**
- * Topocentric direction of a reference state: light time to first order (tau < 25 s at 0.05 au) with the
- * Sun's barycentric motion over tau (the place is a barycentric difference; leaving it out costs 0.004-0.007").
- */
-function referenceDirection(r: V3, v: V3, tt: number): V3 {
-  const when = utcFromTt(tt);
-  const e = HelioVector(Body.Earth, T(tt));
-  const o = ObserverVector(when, new Observer(site.latDeg, site.lonDeg, site.heightM), false);
-  const ssb = HelioState(Body.SSB, T(tt)); // the barycentre seen from the Sun: the Sun moves at -ssb.v
-  const obs: V3 = [e.x + o.x, e.y + o.y, e.z + o.z];
-  let rho: V3 = [r[0] - obs[0], r[1] - obs[1], r[2] - obs[2]];
-  for (let k = 0; k < 4; k++) {
-    const tau = Math.hypot(...rho) / 173.1446326846693;
-    rho = [r[0] - v[0] * tau - obs[0] + ssb.vx * tau, r[1] - v[1] * tau - obs[1] + ssb.vy * tau, r[2] - v[2] * tau - obs[2] + ssb.vz * tau];
-  }
-  return rho;
-}
-
 /** An invented object that passes `missAu` from Earth's centre at `closestIso` with 9 km/s relative speed. */
 function closeApproacher(missAu: number, closestIso: string): HeliocentricState {
   const tt = ttFromTtIso('closest', closestIso);
@@ -146,8 +90,8 @@ describe('a close approacher against a tight-step independent RK4', () => {
       const places = ensemblePlaces([start], site, timesTt.map(utcFromTt));
       let worst = 0;
       timesTt.forEach((tt, k) => {
-        const ref = referenceRk4(start, tt, 10 / 1440);
-        const dir = referenceDirection(ref.r, ref.v, tt);
+        const ref = referenceRk4([start.x, start.y, start.z], [start.vx, start.vy, start.vz], start.tt, tt);
+        const dir = referenceDirection(ref.r, ref.v, utcFromTt(tt), site);
         const ra = (places.raDeg[k]! * Math.PI) / 180, dec = (places.decDeg[k]! * Math.PI) / 180;
         worst = Math.max(worst, angleArcsec([Math.cos(dec) * Math.cos(ra), Math.cos(dec) * Math.sin(ra), Math.sin(dec)], dir));
       });
