@@ -130,6 +130,12 @@ describe('configuration', () => {
     expect(out.join('')).toContain('2 site(s)');
   });
 
+  it("check-config says until when the leap-second table is valid, and what happens past it", async () => {
+    const { io, out } = collectingIo();
+    expect(await checkConfig([], io)).toBe(0);
+    expect(out.join('')).toMatch(/leap-second table \(IERS Bulletin C.*\) valid until 2027-06-28T00:00:00\.000Z: orbits are refused past it/);
+  });
+
   it('check-config reports a file that is not JSON', async () => {
     const dir = tempDir();
     writeFileSync(join(dir, 'broken.json'), '{"sites": [');
