@@ -1,5 +1,5 @@
 import type { Site } from '../config/schema.js';
-import { nightAt, type Night } from '../sky/night.js';
+import { localNightOf, nightAt, type Night } from '../sky/night.js';
 import { parallacticAngleDeg } from '../sky/site.js';
 import type { RequestRow } from '../store/requests.js';
 import { assessmentFacts, type AssessmentFacts } from '../views/assessment-summary.js';
@@ -26,20 +26,15 @@ export function isoSeconds(t: Date): string {
 }
 
 /**
- * The local date (local mean time, UTC + east longitude / 15 h; the sky module's night rule)
- * whose night is in progress or comes next at the site: the night that began the previous
- * evening until its sunrise, then the coming one.
+ * The local date of the night a picture shows by default at the site: the night `now` belongs to
+ * by the sky module's rule (local mean noon to noon, `localNightOf`) until that night's sunrise,
+ * then the coming one, so a page opened after dawn shows the night ahead, not the one just over.
  */
 export function currentLocalDate(site: Site, now: Date): string {
-  const lon = site.location.lonDeg > 180 ? site.location.lonDeg - 360 : site.location.lonDeg;
-  const local = new Date(now.getTime() + (lon / 15) * MS_PER_HOUR);
-  if (local.getUTCHours() < 12) {
-    const previous = new Date(local.getTime() - 24 * MS_PER_HOUR).toISOString().slice(0, 10);
-    const night = nightAt(site, previous);
-    const over = night.sunrise ?? night.span.end;
-    if (now < over) return previous;
-  }
-  return local.toISOString().slice(0, 10);
+  const date = localNightOf(now, site.location.lonDeg);
+  const night = nightAt(site, date);
+  if (now < (night.sunrise ?? night.span.end)) return date;
+  return new Date(Date.parse(`${date}T00:00:00Z`) + 24 * MS_PER_HOUR).toISOString().slice(0, 10);
 }
 
 /** When a pointing picture is drawn, why, and the request (if any) whose duration its motion covers. */
