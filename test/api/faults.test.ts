@@ -24,11 +24,12 @@ async function feedServer(handler: (n: number) => { status: number; body: string
   return `${await server.listen({ host: '127.0.0.1', port: 0 })}/feed`;
 }
 
-async function serviceWithFeed(url: string) {
+/** The service with one feed; `timeoutMs` short only where a test waits for the timeout (a loaded machine answers a local 500 slowly). */
+async function serviceWithFeed(url: string, timeoutMs = 300) {
   const now = { t: Date.parse('2027-03-04T06:00:00Z') };
   const clock = () => new Date(now.t);
   const config = demoConfig((raw) => {
-    (raw['service'] as Record<string, unknown>)['feeds'] = [{ id: 'survey', url, timeoutMs: 300, maxBackoffS: 600 }];
+    (raw['service'] as Record<string, unknown>)['feeds'] = [{ id: 'survey', url, timeoutMs, maxBackoffS: 600 }];
   });
   const store = memoryStore(clock);
   const metrics = createServiceMetrics();
@@ -43,7 +44,7 @@ async function serviceWithFeed(url: string) {
 describe('feed faults', () => {
   it('shows a failing feed backing off in /readyz and /metrics, and keeps answering', async () => {
     const url = await feedServer(() => ({ status: 500, body: '{"oops":1}' }));
-    const { app, poll } = await serviceWithFeed(url);
+    const { app, poll } = await serviceWithFeed(url, 5000);
     await poll.run();
     const ready = (await app.inject({ url: '/readyz' })).json();
     const feed = ready.sources.find((s: { source: string }) => s.source === 'feed:survey');
