@@ -17,7 +17,8 @@ export const LIGHT_CM_PER_S = 2.99792458e10;
 /**
  * Flux density of a V = 0 star, erg s^-1 cm^-2 A^-1: 363.1e-11 (Bessell,
  * Castelli & Plez 1998, A&A 333, 231, table A2; Bessell 1979 gives 3.6e-9).
- * Value from memory.
+ * The paper was not at hand; several independent public codes quote this value
+ * from that table.
  */
 export const V0_FLUX_ERG_PER_S_CM2_A = 3.631e-9;
 

@@ -5,9 +5,11 @@ import { skyAt, type SkyAt } from './timeline.js';
 
 /**
  * Sky brightness in V by Krisciunas & Schaefer (1991), "A model of the brightness of
- * moonlight", PASP 103, 1033-1039 (KS91). Equation numbers below are the paper's as we
- * recall them; the formulas are written from the paper. Surface brightness is carried in
- * nanolamberts (nL) internally, as in the paper, and reported in V mag/arcsec^2.
+ * moonlight", PASP 103, 1033-1039 (KS91). Equation numbers and constants below are from
+ * memory of the paper: its text was not at hand to check them (only its abstract, which
+ * gives the 8-23 % agreement quoted below). One published case is checked: a reference
+ * library's documented KS91 value (test/sky/sky-brightness.test.ts). Surface brightness is
+ * carried in nanolamberts (nL) internally, as in the paper, and reported in V mag/arcsec^2.
  */
 
 const DEG = Math.PI / 180;
