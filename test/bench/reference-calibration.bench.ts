@@ -1,0 +1,83 @@
+/**
+ * The short-arc estimator against the independent reference generator (test/reference/).
+ * Run: npx tsx test/bench/reference-calibration.bench.ts [cases per population] [first seed] [prior]
+ *   defaults 60, 1, the estimator's default prior; prior: 'population', 'powerLaw' or a number k (rho^k).
+ * Cases are generated once and kept in $TMPDIR/nightjar-reference-cases-v<version>-<population>-<seed>-<count>.json
+ * (generation takes 1-4 s a case); delete those files to regenerate.
+ * Prints, per population and horizon (+1 ... +48 h after the last position, the follow-up and the
+ * survey site pooled): truth inside the 3-sigma ellipse, median and p90 error of the nominal, median
+ * error of linear extrapolation, median 1-sigma major axis and its ratio to the median error, V inside
+ * 3 magSigma; then the range coverage, the +24 h nominal/linear ratio, the time per case and every miss.
+ */
+import { existsSync, readFileSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import type { RangingOptions } from '../../src/orbit/estimation/ranging.js';
+import { REFERENCE_HORIZONS_H, REFERENCE_POPULATIONS, referenceCases, type ReferenceCase, type ReferencePopulation } from '../reference/cases.js';
+import { ESTIMATOR_BAR, horizonFigures, median, rangeCoverage, scoreCase, type ScoredCase } from '../reference/evaluate.js';
+
+const GENERATOR_VERSION = 1;
+const perPopulation = Number(process.argv[2] ?? 60);
+const firstSeed = Number(process.argv[3] ?? 1);
+const priorArg = process.argv[4];
+const only = process.env.POPULATIONS?.split(',') as ReferencePopulation[] | undefined;
+
+function rangingOf(arg: string | undefined): RangingOptions {
+  if (arg === undefined) return {};
+  if (arg === 'population' || arg === 'powerLaw') return { rangePrior: arg };
+  const k = Number(arg);
+  if (!Number.isFinite(k)) throw new Error(`prior = ${arg}: expected 'population', 'powerLaw' or a number k`);
+  return { rangePrior: 'powerLaw', rangePriorExponent: k };
+}
+
+function casesOf(population: ReferencePopulation): ReferenceCase[] {
+  const file = join(tmpdir(), `nightjar-reference-cases-v${GENERATOR_VERSION}-${population}-${firstSeed}-${perPopulation}.json`);
+  if (existsSync(file)) return JSON.parse(readFileSync(file, 'utf8')) as ReferenceCase[];
+  const t0 = performance.now();
+  const cases = referenceCases(population, perPopulation, firstSeed);
+  console.log(`generated ${cases.length} ${population} cases in ${((performance.now() - t0) / 1000).toFixed(0)} s`);
+  writeFileSync(file, JSON.stringify(cases));
+  return cases;
+}
+
+const fmt = (x: number): string => (!Number.isFinite(x) ? String(x) : x >= 100 ? x.toFixed(0) : x >= 10 ? x.toFixed(1) : x.toFixed(2));
+const pct = (x: number): string => `${(100 * x).toFixed(1)} %`;
+
+const ranging = rangingOf(priorArg);
+const allScored: ScoredCase[] = [];
+for (const population of REFERENCE_POPULATIONS.filter((p) => !only || only.includes(p))) {
+  const cases = casesOf(population);
+  const scored = cases.map((c) => scoreCase(c, { members: 1000, seed: 1, ranging }));
+  allScored.push(...scored);
+  console.log(`\n### ${population} (${scored.length} cases, both sites pooled${priorArg ? `, prior ${priorArg}` : ''})`);
+  console.log('| horizon | inside 3σ | median error | p90 error | median linear | median 1σ major | major / error | V inside 3 magSigma |');
+  console.log('|---|---|---|---|---|---|---|---|');
+  for (const hours of REFERENCE_HORIZONS_H) {
+    const f = horizonFigures(scored, hours);
+    console.log(`| +${hours} h | ${pct(f.inside3Sigma)} | ${fmt(f.medianErrorArcsec)}" | ${fmt(f.p90ErrorArcsec)}" | ${fmt(f.medianLinearArcsec)}" | ${fmt(f.medianMajorArcsec)}" | ${f.majorOverError.toFixed(2)} | ${pct(f.magInside3Sigma)} |`);
+  }
+  const h24 = horizonFigures(scored, 24);
+  const worstInside = Math.min(...REFERENCE_HORIZONS_H.map((h) => horizonFigures(scored, h).inside3Sigma));
+  const worstRatio = Math.max(...REFERENCE_HORIZONS_H.map((h) => horizonFigures(scored, h).majorOverError));
+  const worstMag = Math.min(...REFERENCE_HORIZONS_H.map((h) => horizonFigures(scored, h).magInside3Sigma));
+  const range = rangeCoverage(scored);
+  const nominalOverLinear = h24.medianErrorArcsec / h24.medianLinearArcsec;
+  console.log(
+    `range inside 5-95 %: ${pct(range)}; +24 h nominal / linear ${nominalOverLinear.toFixed(2)}; ` +
+      `time per case (estimate + 12 rows) median ${median(scored.map((s) => s.milliseconds)).toFixed(0)} ms, max ${Math.max(...scored.map((s) => s.milliseconds)).toFixed(0)} ms; ` +
+      `effective sample size median ${median(scored.map((s) => s.effectiveSampleSize ?? Number.NaN)).toFixed(0)}, lowest ${Math.min(...scored.map((s) => s.effectiveSampleSize ?? Infinity)).toFixed(0)} (of 2000 proposals); ` +
+      `positions flagged as outliers ${scored.reduce((n, s) => n + s.outliers, 0)} in ${scored.filter((s) => s.outliers > 0).length} cases`,
+  );
+  const verdict = [
+    worstInside >= ESTIMATOR_BAR.inside3Sigma ? 'coverage met' : `coverage MISSED (lowest ${pct(worstInside)})`,
+    range >= ESTIMATOR_BAR.rangeCoverage ? 'range met' : 'range MISSED',
+    worstRatio <= ESTIMATOR_BAR.maxMajorOverError ? 'sharpness met' : `sharpness MISSED (worst ${worstRatio.toFixed(2)})`,
+    nominalOverLinear <= ESTIMATOR_BAR.maxNominalOverLinearAt24h ? 'nominal vs linear met' : 'nominal vs linear MISSED',
+    worstMag >= ESTIMATOR_BAR.magInside3Sigma ? 'magnitudes met' : `magnitudes MISSED (lowest ${pct(worstMag)})`,
+  ];
+  console.log(`bar for ${population}: ${verdict.join('; ')}`);
+  const misses = scored.flatMap((s) => s.horizons.filter((h) => h.sigmaDistance > 3).map((h) => `${s.id}@${h.site}+${h.hours}h ${h.sigmaDistance.toFixed(1)}σ`));
+  if (misses.length) console.log(`outside 3σ: ${misses.join(', ')}`);
+  const rangeMisses = scored.filter((s) => !(s.rangeAu.p5 <= s.trueRangeAu && s.trueRangeAu <= s.rangeAu.p95));
+  if (rangeMisses.length) console.log(`range outside 5-95 %: ${rangeMisses.map((s) => `${s.id} truth ${s.trueRangeAu.toFixed(4)} [${s.rangeAu.p5.toFixed(4)}, ${s.rangeAu.p95.toFixed(4)}]`).join('; ')}`);
+}

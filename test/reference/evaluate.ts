@@ -1,0 +1,214 @@
+/**
+ * Scores the short-arc estimator on reference cases. This is the one file of
+ * test/reference/ that imports the project (the estimator it scores); the
+ * truths come from cases.ts, which imports nothing from src/. The offsets,
+ * sigma distances and the linear extrapolation are computed here with this
+ * file's own formulas.
+ */
+import type { GeodeticLocation } from '../../src/config/schema.js';
+import { estimateObject, type ShortArcEstimate } from '../../src/orbit/estimation/estimate.js';
+import type { RangingOptions } from '../../src/orbit/estimation/ranging.js';
+import type { TrackletObservation } from '../../src/orbit/estimate-types.js';
+import { REFERENCE_FOLLOW_UP_SITE, REFERENCE_HORIZONS_H, REFERENCE_SURVEY_SITE, type ReferenceCase, type ReferencePopulation } from './cases.js';
+
+const RAD = Math.PI / 180;
+const ARCSEC = 206_264.806_247;
+
+/** Offset of `to` from `from` on the tangent plane of `from` (gnomonic), arcsec east and north. */
+export function tangentOffsetArcsec(fromRaDeg: number, fromDecDeg: number, toRaDeg: number, toDecDeg: number): [number, number] {
+  const a0 = fromRaDeg * RAD, d0 = fromDecDeg * RAD, a = toRaDeg * RAD, d = toDecDeg * RAD;
+  const cosc = Math.sin(d0) * Math.sin(d) + Math.cos(d0) * Math.cos(d) * Math.cos(a - a0);
+  const x = (Math.cos(d) * Math.sin(a - a0)) / cosc;
+  const y = (Math.cos(d0) * Math.sin(d) - Math.sin(d0) * Math.cos(d) * Math.cos(a - a0)) / cosc;
+  return [x * ARCSEC, y * ARCSEC];
+}
+
+/** Angular separation, arcsec (haversine form). */
+export function separationArcsec(ra1Deg: number, dec1Deg: number, ra2Deg: number, dec2Deg: number): number {
+  const s = Math.sin(((dec2Deg - dec1Deg) * RAD) / 2) ** 2 + Math.cos(dec1Deg * RAD) * Math.cos(dec2Deg * RAD) * Math.sin(((ra2Deg - ra1Deg) * RAD) / 2) ** 2;
+  return 2 * Math.asin(Math.min(1, Math.sqrt(s))) * ARCSEC;
+}
+
+/** Distance in sigma of an offset (east, north) from the centre of an ellipse (1-sigma axes, pa east of north of the major axis). */
+export function sigmaDistance(ellipse: { major: number; minor: number; pa: number }, east: number, north: number): number {
+  const pa = ellipse.pa * RAD;
+  const u = east * Math.sin(pa) + north * Math.cos(pa);
+  const v = east * Math.cos(pa) - north * Math.sin(pa);
+  return Math.hypot(u / Math.max(ellipse.major, 1e-9), v / Math.max(ellipse.minor, 1e-9));
+}
+
+/**
+ * Linear extrapolation of a tracklet: the weighted least-squares line through
+ * its positions on the gnomonic plane at the first position, in time,
+ * carried to `utcMs` (a straight line on that plane is a great circle).
+ */
+export function linearExtrapolation(c: ReferenceCase, utcMs: number): { raDeg: number; decDeg: number } {
+  const o0 = c.observations[0]!;
+  const pts = c.observations.map((o) => ({ t: (Date.parse(o.t) - Date.parse(o0.t)) / 3_600_000, xy: tangentOffsetArcsec(o0.raDeg, o0.decDeg, o.raDeg, o.decDeg), w: 1 / o.sigmaArcsec ** 2 }));
+  const sw = pts.reduce((s, p) => s + p.w, 0);
+  const tm = pts.reduce((s, p) => s + p.w * p.t, 0) / sw;
+  const stt = pts.reduce((s, p) => s + p.w * (p.t - tm) ** 2, 0);
+  const fit = (k: 0 | 1) => {
+    const m = pts.reduce((s, p) => s + p.w * p.xy[k], 0) / sw;
+    const slope = pts.reduce((s, p) => s + p.w * (p.t - tm) * (p.xy[k] - m), 0) / stt;
+    return m + slope * ((utcMs - Date.parse(o0.t)) / 3_600_000 - tm);
+  };
+  const x = fit(0) / ARCSEC, y = fit(1) / ARCSEC;
+  const a0 = o0.raDeg * RAD, d0 = o0.decDeg * RAD;
+  const rho = Math.hypot(x, y), c0 = Math.atan(rho);
+  const dec = rho === 0 ? d0 : Math.asin(Math.cos(c0) * Math.sin(d0) + (y * Math.sin(c0) * Math.cos(d0)) / rho);
+  const ra = a0 + Math.atan2(x * Math.sin(c0), rho * Math.cos(d0) * Math.cos(c0) - y * Math.sin(d0) * Math.sin(c0));
+  return { raDeg: ((ra / RAD) % 360 + 360) % 360, decDeg: dec / RAD };
+}
+
+export interface ScoredHorizon {
+  readonly site: 'followUp' | 'survey';
+  readonly hours: number;
+  readonly errorArcsec: number;
+  readonly linearErrorArcsec: number;
+  readonly sigmaDistance: number;
+  readonly majorArcsec: number;
+  /** |V predicted - V true| / magSigma; null when the estimate gives no magnitude. */
+  readonly magSigmas: number | null;
+  readonly magErrorMag: number | null;
+  readonly magSigma: number | null;
+}
+
+export interface ScoredCase {
+  readonly id: string;
+  readonly population: ReferencePopulation;
+  readonly description: string;
+  readonly horizons: readonly ScoredHorizon[];
+  /** The truth's range at the estimate's epoch and the estimate's 5-50-95 % range, au. */
+  readonly trueRangeAu: number;
+  readonly rangeAu: { p5: number; p50: number; p95: number };
+  readonly milliseconds: number;
+  /** The importance sampling's effective sample size (null for an orbit block) and the positions flagged as outliers. */
+  readonly effectiveSampleSize: number | null;
+  readonly outliers: number;
+}
+
+export interface EstimatorSettings {
+  readonly members?: number;
+  readonly seed?: number;
+  readonly ranging?: RangingOptions;
+}
+
+const asLocation = (s: { latDeg: number; lonDeg: number; heightM: number }): GeodeticLocation => ({ latDeg: s.latDeg, lonDeg: s.lonDeg, heightM: s.heightM });
+
+export function trackletOf(c: ReferenceCase): TrackletObservation[] {
+  return c.observations.map((o) => ({ t: o.t, raDeg: o.raDeg, decDeg: o.decDeg, sigmaArcsec: o.sigmaArcsec, mag: o.mag, band: o.band, observer: asLocation(o.site) }));
+}
+
+/** The truth's range at an epoch inside the tracklet, linear between the observation times. */
+function trueRangeAt(c: ReferenceCase, epochMs: number): number {
+  const t = c.observations.map((o) => Date.parse(o.t));
+  let k = 0;
+  while (k < t.length - 2 && t[k + 1]! < epochMs) k++;
+  const f = (epochMs - t[k]!) / (t[k + 1]! - t[k]!);
+  return c.observationRangesAu[k]! + f * (c.observationRangesAu[k + 1]! - c.observationRangesAu[k]!);
+}
+
+export function runEstimate(c: ReferenceCase, settings: EstimatorSettings = {}): ShortArcEstimate {
+  return estimateObject({
+    objectId: c.id,
+    observations: trackletOf(c),
+    now: new Date(c.lastObservationMs),
+    members: settings.members ?? 1000,
+    seed: settings.seed ?? 1,
+    ranging: settings.ranging,
+  });
+}
+
+/** Runs the estimator on one case and scores its ephemeris from both sites at every horizon. */
+export function scoreCase(c: ReferenceCase, settings: EstimatorSettings = {}): ScoredCase {
+  const t0 = performance.now();
+  const estimate = runEstimate(c, settings);
+  const sites = [REFERENCE_FOLLOW_UP_SITE, REFERENCE_SURVEY_SITE].map(asLocation);
+  const times = REFERENCE_HORIZONS_H.map((h) => new Date(c.lastObservationMs + h * 3_600_000));
+  const rows = estimate.ephemerisForSites(sites, times);
+  const milliseconds = performance.now() - t0;
+  const horizons = c.truth.map((truth): ScoredHorizon => {
+    const row = rows[truth.site === 'followUp' ? 0 : 1]![REFERENCE_HORIZONS_H.indexOf(truth.hours as (typeof REFERENCE_HORIZONS_H)[number])]!;
+    const [east, north] = tangentOffsetArcsec(row.ra, row.dec, truth.raDeg, truth.decDeg);
+    const linear = linearExtrapolation(c, truth.utcMs);
+    const magError = row.mag === null ? null : Math.abs(row.mag - truth.vMag);
+    return {
+      site: truth.site,
+      hours: truth.hours,
+      errorArcsec: separationArcsec(row.ra, row.dec, truth.raDeg, truth.decDeg),
+      linearErrorArcsec: separationArcsec(linear.raDeg, linear.decDeg, truth.raDeg, truth.decDeg),
+      sigmaDistance: row.unc ? sigmaDistance(row.unc, east, north) : Infinity,
+      majorArcsec: row.unc?.major ?? Infinity,
+      magSigmas: magError === null || row.magSigma === null ? null : magError / Math.max(row.magSigma, 1e-6),
+      magErrorMag: magError,
+      magSigma: row.magSigma,
+    };
+  });
+  const epochMs = estimate.attributable?.epochMs ?? c.meanEpochMs;
+  return {
+    id: c.id,
+    population: c.population,
+    description: c.description,
+    horizons,
+    trueRangeAu: trueRangeAt(c, epochMs),
+    rangeAu: estimate.summary.rangeAu,
+    milliseconds,
+    effectiveSampleSize: estimate.ranging?.effectiveSampleSize ?? null,
+    outliers: estimate.summary.residuals.filter((r) => r.outlier).length,
+  };
+}
+
+const quantile = (values: readonly number[], p: number): number => {
+  const s = [...values].sort((a, b) => a - b);
+  if (s.length === 0) return Number.NaN;
+  const x = p * (s.length - 1);
+  const i = Math.floor(x);
+  return s[i]! + (i + 1 < s.length ? (x - i) * (s[i + 1]! - s[i]!) : 0);
+};
+export const median = (values: readonly number[]): number => quantile(values, 0.5);
+
+/** The bar's figures for one population at one horizon (both sites pooled). */
+export interface HorizonFigures {
+  readonly hours: number;
+  readonly cases: number;
+  readonly inside3Sigma: number;
+  readonly medianErrorArcsec: number;
+  readonly p90ErrorArcsec: number;
+  readonly medianLinearArcsec: number;
+  readonly medianMajorArcsec: number;
+  readonly majorOverError: number;
+  readonly magInside3Sigma: number;
+}
+
+export function horizonFigures(scored: readonly ScoredCase[], hours: number): HorizonFigures {
+  const rows = scored.flatMap((s) => s.horizons.filter((h) => h.hours === hours));
+  const err = rows.map((r) => r.errorArcsec);
+  const major = rows.map((r) => r.majorArcsec);
+  const mags = rows.filter((r) => r.magSigmas !== null);
+  return {
+    hours,
+    cases: rows.length,
+    inside3Sigma: rows.filter((r) => r.sigmaDistance <= 3).length / rows.length,
+    medianErrorArcsec: median(err),
+    p90ErrorArcsec: quantile(err, 0.9),
+    medianLinearArcsec: median(rows.map((r) => r.linearErrorArcsec)),
+    medianMajorArcsec: median(major),
+    majorOverError: median(major) / median(err),
+    magInside3Sigma: mags.length === 0 ? Number.NaN : mags.filter((r) => r.magSigmas! <= 3).length / mags.length,
+  };
+}
+
+/** Fraction of cases whose true range lies inside the estimate's 5-95 % interval. */
+export function rangeCoverage(scored: readonly ScoredCase[]): number {
+  return scored.filter((s) => s.rangeAu.p5 <= s.trueRangeAu && s.trueRangeAu <= s.rangeAu.p95).length / scored.length;
+}
+
+/** The bar of the short-arc estimator, per population and horizon (docs/accuracy.md). */
+export const ESTIMATOR_BAR = {
+  inside3Sigma: 0.95,
+  rangeCoverage: 0.9,
+  maxMajorOverError: 3,
+  maxNominalOverLinearAt24h: 1 / 3,
+  magInside3Sigma: 0.95,
+} as const;
