@@ -1,5 +1,4 @@
 import { Body, Equator, Horizon, Observer, ObserverVector, RotateVector, Rotation_EQJ_EQD, Vector } from 'astronomy-engine';
-import type { Trajectory } from './integrator.js';
 import { referenceAstroTime, ttDaysOfUtc } from './reference-time.js';
 import { EARTH_BODY, LIGHT_AU_PER_DAY, bodyPositions } from './solar-system.js';
 
@@ -49,7 +48,7 @@ export function siteBarycentric(site: ReferenceSite, utcMs: number): [number, nu
  * direction from the observer's barycentric position at t. No aberration, no
  * light deflection (the astrometric place's convention).
  */
-export function placeOf(truth: Trajectory, site: ReferenceSite, utcMs: number): ReferencePlace {
+export function placeOf(truth: { stateAt(tt: number): ArrayLike<number> }, site: ReferenceSite, utcMs: number): ReferencePlace {
   const tt = ttDaysOfUtc(utcMs);
   const o = siteBarycentric(site, utcMs);
   let tau = norm(sub(truth.stateAt(tt), o)) / LIGHT_AU_PER_DAY;
