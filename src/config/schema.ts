@@ -264,7 +264,7 @@ export const serviceSchema = z
 const weight = () => finite().min(0).max(100).optional();
 
 /** The range priors a configuration or command may choose (docs/accuracy.md). */
-export const RANGE_PRIOR_CHOICES = ['auto', 'population', 'powerLaw'] as const;
+export const RANGE_PRIOR_CHOICES = ['auto', 'mixture', 'population', 'powerLaw'] as const;
 export type RangePriorChoice = (typeof RANGE_PRIOR_CHOICES)[number];
 
 export const planningSchema = z

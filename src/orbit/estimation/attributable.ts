@@ -83,15 +83,27 @@ function fitAxes(xi: readonly number[], eta: readonly number[], dt: readonly num
 
 const evaluate = (c: readonly number[], dt: number): number => c[0]! + c[1]! * dt + (c.length > 2 ? (c[2]! * dt * dt) / 2 : 0);
 
+/** How fitAttributable treats doubtful positions. */
+export interface AttributableOptions {
+  /**
+   * Run the leave-one-out outlier search (default true). The short-arc
+   * estimate turns it off: a close object's curving path is not a straight
+   * line or a parabola on the sky, so it judges positions by orbits instead.
+   */
+  readonly leaveOneOut?: boolean;
+  /** Positions (time order) to leave out from the start, flagged as outliers. */
+  readonly exclude?: readonly boolean[];
+}
+
 /** Fits the attributable; throws EstimationInputError when the times do not support a rate. */
-export function fitAttributable(observations: readonly PreparedObservation[]): Attributable {
+export function fitAttributable(observations: readonly PreparedObservation[], options: AttributableOptions = {}): Attributable {
   const n = observations.length;
-  const used = observations.map(() => true);
+  const used = observations.map((_, i) => !(options.exclude?.[i] ?? false));
   const w = observations.map((o) => 1 / (o.sigmaRad * o.sigmaRad));
   let centre: Vec3 = [0, 0, 0];
   for (const o of observations) for (let k = 0; k < 3; k++) centre[k] = centre[k]! + o.unit[k]!;
   let frame = tangentFrame(centre);
-  const maxFlags = Math.floor(n / 3);
+  const maxFlags = options.leaveOneOut === false ? 0 : Math.floor(n / 3);
 
   const solveWith = (mask: readonly boolean[]) => {
     const count = mask.filter(Boolean).length;

@@ -1,5 +1,5 @@
 import type { GeodeticLocation } from '../../config/schema.js';
-import { absoluteMagnitudeFromObserved, apparentMagnitudesHG, DEFAULT_BAND_OFFSETS, diameterRangeM } from '../../photometry/magnitudes.js';
+import { absoluteMagnitudeFromObserved, apparentMagnitudesHG, DEFAULT_BAND_OFFSETS, diameterRangeM, phaseTermHG } from '../../photometry/magnitudes.js';
 import { ARCSEC_PER_RAD, GM_SUN_AU3_PER_DAY2, KM_PER_AU, RAD_PER_DEG } from '../constants.js';
 import { stateFromPerihelionElements, type HeliocentricState, type PerihelionElements } from '../elements.js';
 import { astrometricPlace, DEFAULT_SLOPE_G, ensemblePlaces, observerGeometry, rowsFromPlaces, type EnsemblePlaces, type EphemerisRow, type UncertaintyEllipse } from '../ephemeris.js';
@@ -12,7 +12,7 @@ import { fitAttributable, type Attributable } from './attributable.js';
 import { EstimationInputError } from './errors.js';
 import { prepareObservations, type PreparedObservation } from './observations.js';
 import { createRandom, type RandomSource } from './random.js';
-import { drawVirtualOrbits, systematicRanging, type RangingOptions, type RangingResult } from './ranging.js';
+import { systematicRanging, type RangingOptions, type RangingResult } from './ranging.js';
 import { skySpread } from './sky-spread.js';
 import { project, tangentFrame, unitFromRaDec } from './tangent.js';
 
@@ -53,11 +53,14 @@ export interface ShortArcEstimate extends ObjectEstimate {
   /** Nominal state and the virtual orbits, heliocentric EQJ at epochTt (au, au/day). */
   readonly nominal: HeliocentricState;
   readonly virtualOrbits: readonly HeliocentricState[];
+  /** Topocentric range of each virtual orbit at the tracklet's epoch, au (from the survey's first site). */
+  readonly memberRangeAu: Float64Array;
   /** Absolute magnitude of the nominal and of each virtual orbit (null when unknown). */
   readonly nominalH: number | null;
   readonly memberH: Float64Array | null;
   readonly attributable: Attributable | null;
-  readonly ranging: { passes: number; evaluatedNodes: number; minChiSquare: number } | null;
+  /** Ranging diagnostics; effectiveSampleSize is that of the importance sampling inside the cells. */
+  readonly ranging: { passes: number; evaluatedNodes: number; minChiSquare: number; effectiveSampleSize: number } | null;
   ephemeris(location: GeodeticLocation, timesUtc: readonly Date[], options?: EphemerisOptions): EstimatedEphemerisRow[];
   ephemerisForSites(locations: readonly GeodeticLocation[], timesUtc: readonly Date[], options?: EphemerisOptions): EstimatedEphemerisRow[][];
 }
@@ -76,6 +79,40 @@ export const ALBEDO_RANGE = { min: 0.05, max: 0.25 } as const;
  * stated, not measured).
  */
 export const ORBIT_BLOCK_DEFAULT_SIGMA = { qRelative: 1e-3, e: 1e-3, angleDeg: 0.01, tpDays: 0.01 } as const;
+/**
+ * The magnitude budget beside the ensemble's own spread (docs/accuracy.md):
+ * - TRACKLET_SCATTER_PRIOR_MAG: the scatter expected of one survey magnitude of
+ *   a faint moving object (noise, trailing, rotation; common practice, 0.2-0.3
+ *   mag), pooled with the tracklet's own scatter with TRACKLET_SCATTER_PRIOR_DOF
+ *   degrees of freedom, since 3-6 values estimate a scatter poorly;
+ * - ROTATION_MEAN_MAG: how far the tracklet's mean can sit from the mean of
+ *   the light curve when the arc is shorter than the period (rms of a
+ *   0.4-0.5 mag peak-to-peak light curve; small near-Earth objects show 0.1-1
+ *   mag, from memory of published light-curve surveys);
+ * - BAND_CONVERSION_MAG: an individual object's colour against the mean
+ *   colours used to reduce R, g, r, ... to V (photometry's DEFAULT_BAND_OFFSETS;
+ *   S and C types differ by about 0.1 in V - R, from memory);
+ * - SLOPE_G_SIGMA: the spread of the H-G slope G about 0.15 for objects whose
+ *   G is not known (fitted G of asteroids spread over about -0.1 to 0.6, from
+ *   memory), taken through the change of the phase term between the tracklet's
+ *   phase angle and the row's;
+ * - ORBIT_BLOCK_H_SIGMA_MAG: the uncertainty of an H given with an orbit
+ *   block (a few nights' photometry; from memory of typical catalogue H).
+ */
+export const TRACKLET_SCATTER_PRIOR_MAG = 0.25;
+export const TRACKLET_SCATTER_PRIOR_DOF = 2;
+export const ROTATION_MEAN_MAG = 0.15;
+export const BAND_CONVERSION_MAG = 0.1;
+export const SLOPE_G_SIGMA = 0.15;
+export const ORBIT_BLOCK_H_SIGMA_MAG = 0.3;
+
+/** d(phase term)/dG at a phase angle, mag per unit G (central difference of photometry's H-G phase term). */
+function phaseTermSlope(phaseDeg: number, g: number): number {
+  const alpha = Math.min(Math.max(phaseDeg, 0), 179);
+  const step = 0.01;
+  return (phaseTermHG(g + step, alpha) - phaseTermHG(g - step, alpha)) / (2 * step);
+}
+
 /** Spacing of the close-approach search samples, days; the minimum between samples is found by linear relative motion. */
 const APPROACH_SAMPLE_DAYS = 0.05;
 /** Virtual orbits used for the close-approach percentiles (a prefix of the shuffled ensemble). */
@@ -168,6 +205,52 @@ function absoluteMagnitudes(states: readonly HeliocentricState[], observations: 
   return sums.map((s, j) => (counts[j]! > 0 ? s / counts[j]! : Number.NaN));
 }
 
+/**
+ * The part of the magnitude uncertainty that does not come from the orbit:
+ * the tracklet's H scatter (the nominal's individual H values, pooled with
+ * TRACKLET_SCATTER_PRIOR_MAG), the rotation term, the band conversion, and
+ * the phase angle at which the H was measured (for the slope term).
+ */
+interface MagnitudeBudget {
+  /** sqrt(mean-scatter^2 + rotation^2 + band^2), mag. */
+  readonly fixedMag: number;
+  /** Mean phase angle of the magnitudes that gave H, deg (0 for an orbit block's H). */
+  readonly referencePhaseDeg: number;
+  /** The spread of G taken for the slope term (0 when G is given). */
+  readonly slopeSigma: number;
+  readonly slopeG: number;
+}
+
+function trackletMagnitudeBudget(nominal: HeliocentricState, observations: readonly PreparedObservation[], mags: readonly MagnitudeObservation[], slopeG: number, slopeGiven: boolean): MagnitudeBudget | null {
+  if (mags.length === 0) return null;
+  const hs: number[] = [];
+  const phases: number[] = [];
+  const geometries = mags.map((m) => observerGeometry(observations[m.index]!.observer, observations[m.index]!.timeUtc));
+  streamEnsemble(
+    [nominal],
+    mags.map((m) => ttFromUtc(observations[m.index]!.timeUtc)),
+    (k, pos, vel) => {
+      const place = astrometricPlace({ x: pos[0]!, y: pos[1]!, z: pos[2]! }, { x: vel[0]!, y: vel[1]!, z: vel[2]! }, geometries[k]!);
+      if (place.phaseDeg > 179) return;
+      hs.push(absoluteMagnitudeFromObserved(mags[k]!.vMag, slopeG, place.rAu, place.deltaAu, place.phaseDeg));
+      phases.push(place.phaseDeg);
+    },
+    { stepFraction: 0.2, maxStepDays: 0.05 },
+  );
+  if (hs.length === 0) return null;
+  const n = hs.length;
+  const mean = hs.reduce((a, b) => a + b, 0) / n;
+  const sampleVariance = n > 1 ? hs.reduce((a, h) => a + (h - mean) ** 2, 0) / (n - 1) : 0;
+  const pooled = ((n - 1) * sampleVariance + TRACKLET_SCATTER_PRIOR_DOF * TRACKLET_SCATTER_PRIOR_MAG ** 2) / (n - 1 + TRACKLET_SCATTER_PRIOR_DOF);
+  const converted = mags.some((m) => (observations[m.index]!.band ?? 'V') !== 'V');
+  return {
+    fixedMag: Math.sqrt(pooled / n + ROTATION_MEAN_MAG ** 2 + (converted ? BAND_CONVERSION_MAG ** 2 : 0)),
+    referencePhaseDeg: phases.reduce((a, b) => a + b, 0) / phases.length,
+    slopeSigma: slopeGiven ? 0 : SLOPE_G_SIGMA,
+    slopeG,
+  };
+}
+
 /** Minimum geocentric distance (au) of each state over [startTt, startTt + days]: samples plus linear closest approach between them. */
 function minimumGeocentricDistances(states: readonly HeliocentricState[], startTt: number, days: number, perturbers: PerturberTable): Float64Array {
   const n = states.length;
@@ -228,6 +311,59 @@ function robustCentreIndex(logRange: Float64Array, rate: Float64Array): number {
     if (d < bestD) { bestD = d; bestIndex = j; }
   }
   return bestIndex;
+}
+
+/**
+ * Chi-square value exceeded with probability 0.001 for `dof` degrees of
+ * freedom, by the Wilson-Hilferty cube-root normal approximation (Wilson &
+ * Hilferty 1931, PNAS 17, 684): dof (1 - h + z sqrt(h))^3, h = 2 / (9 dof),
+ * z = 3.0902 (the normal's 0.999 point). Within 3 % of the exact values
+ * (10.83, 13.82, 16.27, 18.47 for 1-4 dof; Abramowitz & Stegun table 26.8).
+ */
+export function chiSquareAt999(dof: number): number {
+  const h = 2 / (9 * dof);
+  return dof * (1 - h + 3.0902 * Math.sqrt(h)) ** 3;
+}
+
+/**
+ * Systematic ranging with positions judged by orbits: when even the best
+ * node's chi-square exceeds its 0.1 % point (2n - 6 degrees of freedom: four
+ * angles, range and range-rate), the position with the largest normalised
+ * residual against that orbit is left out and the ranging repeated, worst
+ * first, at most a third of the positions and while 3 remain (the attributable's
+ * own leave-one-out test is not used: a close approacher's path curves by
+ * tens of arcseconds within an hour, which no low polynomial on the sky follows).
+ */
+function rangingWithOutliers(observations: readonly PreparedObservation[], first: Attributable, options: RangingOptions): { ranging: RangingResult; attributable: Attributable; flagged: number } {
+  let attributable = first;
+  let ranging = systematicRanging(observations, attributable, options);
+  const maxFlags = Math.floor(observations.length / 3);
+  let flagged = 0;
+  while (flagged < maxFlags) {
+    const usedCount = attributable.used.filter(Boolean).length;
+    const dof = 2 * usedCount - 6;
+    if (dof < 1 || usedCount <= 3 || ranging.minChiSquare <= chiSquareAt999(dof)) break;
+    const best = ranging.nodes.reduce((a, b) => (b.chiSquare < a.chiSquare ? b : a));
+    const rows = residualsOf(ranging.stateOf(best.params, best.rangeAu, best.rangeRateAuPerDay), observations, attributable.used);
+    let worst = -1;
+    let worstChi = -1;
+    observations.forEach((o, i) => {
+      if (!attributable.used[i]) return;
+      const row = rows[o.index]!;
+      const sigmaArcsec = o.sigmaRad * ARCSEC_PER_RAD;
+      const chi = (row.dRaArcsec ** 2 + row.dDecArcsec ** 2) / sigmaArcsec ** 2;
+      if (chi > worstChi) {
+        worstChi = chi;
+        worst = i;
+      }
+    });
+    if (worst < 0) break;
+    const exclude = attributable.used.map((u, i) => !u || i === worst);
+    attributable = fitAttributable(observations, { leaveOneOut: false, exclude });
+    ranging = systematicRanging(observations, attributable, options);
+    flagged++;
+  }
+  return { ranging, attributable, flagged };
 }
 
 function checkInput(input: EstimateInput): { members: number; seed: number } {
@@ -433,7 +569,8 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
   try {
     if (hasObservations) {
       observations = prepareObservations(input.observations);
-      attributable = fitAttributable(observations);
+      // Positions are judged against orbits (below), not against a straight line on the sky.
+      attributable = fitAttributable(observations, { leaveOneOut: false });
     }
   } catch (err) {
     // With an orbit block the tracklet only adds residuals and H: a degenerate one is noted, not fatal.
@@ -442,16 +579,14 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
     observations = [];
     attributable = null;
   }
-  const used = attributable ? attributable.used : [];
-  if (attributable && attributable.residuals.some((r) => r.outlier)) {
-    notes.push(`${attributable.residuals.filter((r) => r.outlier).length} observation(s) flagged as outliers and left out of the fit`);
-  }
+  let used = attributable ? attributable.used : [];
 
   let epochTt: number;
   let nominal: HeliocentricState;
   let states: HeliocentricState[];
   let rangeAu: Float64Array;
   let rangingInfo: ShortArcEstimate['ranging'] = null;
+  let effectiveSampleSize = 0;
   let method: EstimateSummary['method'];
   // An orbit block with a tracklet: weight the block's default spread by the fit to the tracklet,
   // narrowing it 10x while too few members fit; if none of the spreads fits, the tracklet decides
@@ -497,13 +632,20 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
     rangeAu = Float64Array.from(ensemblePlaces(states, viewpoint, [refTime]).deltaAu);
   } else {
     method = 'ranging';
-    const ranging: RangingResult = systematicRanging(observations, attributable!, input.ranging ?? {});
-    const drawn = drawVirtualOrbits(ranging, attributable!.covariance, members, random);
+    const judged = rangingWithOutliers(observations, attributable!, input.ranging ?? {});
+    const ranging: RangingResult = judged.ranging;
+    attributable = judged.attributable;
+    used = attributable.used;
+    if (judged.flagged > 0) notes.push(`${judged.flagged} observation(s) fit no orbit with the others and were left out as outliers (chi-square of the best orbit above its 0.1 % point)`);
+    const sampled = ranging.sample(attributable!.covariance, members, random);
+    const drawn = sampled.members;
     epochTt = ranging.epochTt;
     states = drawn.map((d) => d.state);
     rangeAu = Float64Array.from(drawn.map((d) => d.rangeAu));
     const centre = drawn[robustCentreIndex(rangeAu.map(Math.log), Float64Array.from(drawn.map((d) => d.rangeRateAuPerDay)))]!;
-    nominal = ranging.stateOf(ranging.nodes[centre.node]!.params, centre.rangeAu, centre.rangeRateAuPerDay);
+    nominal = ranging.stateOf(centre.fittedParams, centre.rangeAu, centre.rangeRateAuPerDay);
+    effectiveSampleSize = sampled.effectiveSampleSize;
+    notes.push(`virtual orbits sampled inside the ranging cells: ${sampled.proposals} proposals, effective sample size ${Math.round(sampled.effectiveSampleSize)}`);
     if (blockNominalFits && blockDrawn !== null) {
       // The block's place as the nominal, moved to the ranging epoch so it propagates with the cloud.
       const target = epochTt;
@@ -513,11 +655,13 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
       });
       if (moved !== null) nominal = moved;
     }
-    rangingInfo = { passes: ranging.passes, evaluatedNodes: ranging.evaluatedNodes, minChiSquare: ranging.minChiSquare };
+    rangingInfo = { passes: ranging.passes, evaluatedNodes: ranging.evaluatedNodes, minChiSquare: ranging.minChiSquare, effectiveSampleSize };
     notes.push(
-      ranging.prior === 'population'
-        ? 'range prior: population model (main belt, near-Earth objects and a floor for every bound orbit; docs/accuracy.md)'
-        : `range prior: rho^${ranging.priorExponent ?? ''} power law (less informative)`,
+      ranging.prior === 'mixture'
+        ? 'range prior: mixture of the population model and close encounters of any orbit (docs/accuracy.md)'
+        : ranging.prior === 'population'
+          ? 'range prior: population model alone (main belt, near-Earth objects and a floor for every bound orbit; docs/accuracy.md)'
+          : `range prior: rho^${ranging.priorExponent ?? ''} power law (less informative)`,
     );
     if (attributable!.degreesOfFreedom === 0) notes.push('the fit has no redundancy (as many parameters as measurements): the uncertainty rests on the stated sigmas alone');
   }
@@ -526,6 +670,7 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
   const slopeG = input.orbit?.G ?? DEFAULT_SLOPE_G;
   let nominalH: number | null = null;
   let memberH: Float64Array | null = null;
+  let magnitudeBudget: MagnitudeBudget | null = null;
   if (input.orbit?.H !== undefined) {
     nominalH = input.orbit.H;
     memberH = new Float64Array(members).fill(input.orbit.H);
@@ -536,6 +681,10 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
       nominalH = Number.isFinite(hs[0]!) ? hs[0]! : null;
       memberH = hs.subarray(1);
     }
+    magnitudeBudget = trackletMagnitudeBudget(nominal, observations, mags, slopeG, input.orbit?.G !== undefined);
+  }
+  if (input.orbit?.H !== undefined) {
+    magnitudeBudget = { fixedMag: Math.hypot(ORBIT_BLOCK_H_SIGMA_MAG, ROTATION_MEAN_MAG), referencePhaseDeg: 0, slopeSigma: input.orbit.G !== undefined ? 0 : SLOPE_G_SIGMA, slopeG };
   }
   const finiteH = memberH ? Array.from(memberH).filter(Number.isFinite) : [];
   const hMag = finiteH.length > 0 ? percentiles(finiteH) : null;
@@ -590,8 +739,13 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
         const finite = apparentMagnitudesHG(memberH, slopeG, places.rAu, places.deltaAu, places.phaseDeg, k * n + 1, n - 1, mags);
         if (finite > 1) {
           const sorted = mags.subarray(0, n - 1).sort();
-          // Robust sigma: half the 16-84 % range.
-          magSigma = (sorted[Math.round(0.84 * (finite - 1))]! - sorted[Math.round(0.16 * (finite - 1))]!) / 2;
+          // Robust sigma of the ensemble: half the 16-84 % range.
+          const ensemble = (sorted[Math.round(0.84 * (finite - 1))]! - sorted[Math.round(0.16 * (finite - 1))]!) / 2;
+          magSigma = ensemble;
+          if (magnitudeBudget) {
+            const slopeTerm = magnitudeBudget.slopeSigma * (phaseTermSlope(places.phaseDeg[k * n]!, magnitudeBudget.slopeG) - phaseTermSlope(magnitudeBudget.referencePhaseDeg, magnitudeBudget.slopeG));
+            magSigma = Math.sqrt(ensemble ** 2 + magnitudeBudget.fixedMag ** 2 + slopeTerm ** 2);
+          }
         }
       }
       return { unc: spread.sigma, magSigma, extent99: spread.extent99 };
@@ -646,6 +800,7 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
     memberPositions,
     nominal,
     virtualOrbits: states,
+    memberRangeAu: rangeAu,
     nominalH,
     memberH,
     attributable,

@@ -1,5 +1,5 @@
 import { Body, HelioState, MakeTime } from 'astronomy-engine';
-import { ARCSEC_PER_RAD, GM_EARTH_AU3_PER_DAY2, GM_MOON_AU3_PER_DAY2, GM_SUN_AU3_PER_DAY2, LIGHT_AU_PER_DAY, SECONDS_PER_DAY } from '../constants.js';
+import { ARCSEC_PER_RAD, KM_PER_AU, GM_EARTH_AU3_PER_DAY2, GM_MOON_AU3_PER_DAY2, GM_SUN_AU3_PER_DAY2, LIGHT_AU_PER_DAY, SECONDS_PER_DAY } from '../constants.js';
 import type { HeliocentricState } from '../elements.js';
 import { astrometricPlace, observerGeometry, type ObserverGeometry } from '../ephemeris.js';
 import { PerturberTable } from '../perturbers.js';
@@ -56,8 +56,13 @@ import { project, unitFromRaDec, unproject, type Vec3 } from './tangent.js';
  */
 export const DEFAULT_RANGE_PRIOR_EXPONENT = 0.5;
 
-/** The range priors ranging offers: a population model ('population') or rho^k ('powerLaw'). */
-export type RangePriorKind = 'population' | 'powerLaw';
+/**
+ * The range priors ranging offers: the default 'mixture' of the population
+ * model with a broad component (MIXTURE_BROAD_WEIGHT of each tracklet's prior
+ * mass: log-uniform distance, isotropic velocity relative to the Earth); the
+ * population model alone ('population'); or rho^k ('powerLaw').
+ */
+export type RangePriorKind = 'mixture' | 'population' | 'encounter' | 'powerLaw';
 
 /**
  * Prior used when the options name none (and give no exponent): chosen by
@@ -68,7 +73,17 @@ export type RangePriorKind = 'population' | 'powerLaw';
  * alone; measured, it put a generator close approacher at 0.013 au outside
  * 5 sigma at +1 h, where rho^0.5 keeps it inside (docs/accuracy.md).
  */
-export const DEFAULT_RANGE_PRIOR: RangePriorKind = 'population';
+export const DEFAULT_RANGE_PRIOR: RangePriorKind = 'mixture';
+
+/**
+ * Share of the prior mass that the default mixture gives its broad component
+ * (broadLogDensity: log-uniform distance, isotropic velocity relative to the
+ * Earth), each component normalised over the tracklet's own admissible
+ * region. Chosen on the reference generator's close-approach populations and
+ * then frozen; checked on fresh cases of all three populations
+ * (docs/accuracy.md).
+ */
+export const MIXTURE_ENCOUNTER_LOG_WEIGHT = -5;
 /** Fewest used positions for DEFAULT_RANGE_PRIOR to apply when the options name no prior. */
 export const POPULATION_PRIOR_MIN_POSITIONS = 3;
 
@@ -82,6 +97,8 @@ export interface RangingOptions {
   readonly rangePrior?: RangePriorKind;
   /** Exponent k of the power-law range prior rho^k; default DEFAULT_RANGE_PRIOR_EXPONENT (0.5). */
   readonly rangePriorExponent?: number;
+  /** ln of the encounter component's weight against the population model in the 'mixture' prior; default MIXTURE_ENCOUNTER_LOG_WEIGHT. */
+  readonly mixtureEncounterLogWeight?: number;
   readonly rangeNodes?: number;
   readonly rateNodes?: number;
   readonly passes?: number;
@@ -112,8 +129,15 @@ export interface RangingResult {
   /** The range prior used, and its exponent when it is the power law. */
   readonly prior: RangePriorKind;
   readonly priorExponent: number | null;
+  readonly mixtureEncounterLogWeight: number | null;
   /** Builds the heliocentric state (EQJ, au, au/day, at epochTt) of a node's parameters. */
   readonly stateOf: (params: readonly number[], rangeAu: number, rangeRateAuPerDay: number) => HeliocentricState;
+  /**
+   * Draws `count` virtual orbits continuously from the posterior (importance
+   * sampling inside the cells, sampleInsideCells), with the attributable's
+   * angle covariance; reports the proposals' effective sample size.
+   */
+  readonly sample: (covariance: readonly (readonly number[])[], count: number, random: RandomSource) => { members: VirtualOrbit[]; effectiveSampleSize: number; proposals: number };
 }
 
 /** A virtual orbit drawn from the ranging posterior. */
@@ -121,7 +145,8 @@ export interface VirtualOrbit {
   readonly state: HeliocentricState;
   readonly rangeAu: number;
   readonly rangeRateAuPerDay: number;
-  readonly node: number;
+  /** The angles fitted at this member's (range, range-rate), before the angle noise: (xi0, eta0, xiDot, etaDot), rad and rad/day. */
+  readonly fittedParams: readonly number[];
 }
 
 interface Context {
@@ -345,17 +370,139 @@ interface Box {
   rateHi: number;
 }
 
+/** ln(exp(a) + exp(b)). */
+function logAdd(a: number, b: number): number {
+  const top = Math.max(a, b);
+  if (!Number.isFinite(top)) return top;
+  return top + Math.log(Math.exp(a - top) + Math.exp(b - top));
+}
+
+/**
+ * The prior in the form ranging needs: ln of its mass in a grid cell, and ln
+ * of its density per d(ln rho) d(rhoDot) at a point (the node's fitted
+ * angles fix the state). For the mixture each component is normalised over
+ * the first pass's grid, which spans the whole admissible region.
+ */
+interface PriorModel {
+  readonly kind: RangePriorKind;
+  logCell(params: readonly number[], g: GridNode): number;
+  logDensity(params: readonly number[], rho: number, rate: number): number;
+}
+
+/**
+ * The mixture's second component: close encounters, whatever their orbit.
+ * Objects pass the Earth on straight lines (gravitational focusing left out)
+ * with closest distance b log-uniform between ENCOUNTER_MISS_AU.min and .max,
+ * speed relative to the Earth v with a density flat between
+ * ENCOUNTER_SPEED_KM_S.min and .max, directions isotropic, and the closest
+ * approach at most ENCOUNTER_WINDOW_DAYS before or after the observation,
+ * uniformly. With d^3r = v d^2b d(tau) at fixed velocity, the phase-space
+ * density is n = p(b) p(v) p(tau) / v, proportional to g(v) / (b^2 v^3)
+ * (p per d^2b = 1 / (2 pi b^2 ln(bmax/bmin)), p per d^3v = g(v) / (4 pi v^2));
+ * times the attributable volume rho^4 (population-prior.ts) and with
+ * b = rho c / v (c the transverse speed), the prior per d(ln rho) d(rhoDot) is
+ * rho^3 g(v) / (c^2 v), inside smooth windows on b and on the time to the
+ * closest approach |tau| = rho |rhoDot_g| / v^2 (rhoDot_g the radial speed
+ * relative to the Earth's centre). It needs no model of where such objects
+ * come from: a fast-moving tracklet may be near, a slow one near only if it
+ * is heading almost straight at the Earth, which the b window bounds.
+ * Ranges are broad choices (from memory of typical close-approach speeds and
+ * discovery leads), stated so they can be checked.
+ */
+export const ENCOUNTER_MISS_AU = { min: 5e-5, max: 0.3 } as const;
+export const ENCOUNTER_SPEED_KM_S = { min: 0.5, max: 40 } as const;
+export const ENCOUNTER_WINDOW_DAYS = 15;
+const KM_S_IN_AU_PER_DAY = SECONDS_PER_DAY / KM_PER_AU;
+/** Sub-points over a cell's range-rate for the encounter component's integral. */
+const ENCOUNTER_RATE_STEPS = 8;
+
+/** Soft window: about 1 inside [lo, hi], falling as the fourth power outside. */
+function softWindow(x: number, lo: number, hi: number): number {
+  return 1 / ((1 + (lo / x) ** 4) * (1 + (x / hi) ** 4));
+}
+
+/** Line-of-sight offset d and transverse speed c (au/day) of the velocity relative to the Earth's centre, for parameters and range: v^2 = (rhoDot + d)^2 + c^2. */
+function relativeVelocityParts(ctx: Context, params: readonly number[], rho: number): { d: number; c: number } {
+  const { u, uDot } = directionOf(ctx, params);
+  const w0: Vec3 = [ctx.reference.velocity.x - ctx.earth.v[0], ctx.reference.velocity.y - ctx.earth.v[1], ctx.reference.velocity.z - ctx.earth.v[2]];
+  const d = dot(w0, u);
+  const t: Vec3 = [w0[0] - d * u[0] + rho * uDot[0], w0[1] - d * u[1] + rho * uDot[1], w0[2] - d * u[2] + rho * uDot[2]];
+  return { d, c: Math.hypot(...t) };
+}
+
+/** The encounter component's density per d(ln rho) d(rhoDot) (unnormalised), from the parts of the relative velocity. */
+function encounterDensity(rho: number, rate: number, d: number, c: number): number {
+  const radial = rate + d;
+  const v2 = radial * radial + c * c;
+  const v = Math.sqrt(v2);
+  if (!(v > 0 && c > 0)) return 0;
+  const speedKmS = v / KM_S_IN_AU_PER_DAY;
+  const miss = (rho * c) / v;
+  const tau = (rho * Math.abs(radial)) / v2;
+  return (
+    ((rho * rho * rho) / (c * c * v * speedKmS)) *
+    softWindow(speedKmS, ENCOUNTER_SPEED_KM_S.min, ENCOUNTER_SPEED_KM_S.max) *
+    softWindow(miss, ENCOUNTER_MISS_AU.min, ENCOUNTER_MISS_AU.max) /
+    (1 + (tau / ENCOUNTER_WINDOW_DAYS) ** 4)
+  );
+}
+
+/** ln of the encounter component's density per d(ln rho) d(rhoDot) at a point (unnormalised). */
+function encounterLogDensity(ctx: Context, params: readonly number[], rho: number, rate: number): number {
+  const { d, c } = relativeVelocityParts(ctx, params, rho);
+  return Math.log(encounterDensity(rho, rate, d, c));
+}
+
+/** ln of the encounter component's integral over a node's cell (midpoint rule: PRIOR_CELL_POINTS in ln rho, ENCOUNTER_RATE_STEPS in rhoDot). */
+function encounterLogCell(ctx: Context, params: readonly number[], g: GridNode): number {
+  let total = 0;
+  for (let a = 0; a < PRIOR_CELL_POINTS; a++) {
+    const rho = g.rho * Math.exp(((a + 0.5) / PRIOR_CELL_POINTS - 0.5) * g.logWidth);
+    const { d, c } = relativeVelocityParts(ctx, params, rho);
+    for (let b = 0; b < ENCOUNTER_RATE_STEPS; b++) total += encounterDensity(rho, g.rate + ((b + 0.5) / ENCOUNTER_RATE_STEPS - 0.5) * g.rateWidth, d, c);
+  }
+  return Math.log(total / (PRIOR_CELL_POINTS * ENCOUNTER_RATE_STEPS)) + Math.log(g.logWidth * g.rateWidth);
+}
+
+function priorModel(ctx: Context, kind: RangePriorKind, k: number, encounterLogWeight: number): PriorModel {
+  const admissible = (rho: number, rate: number): boolean => {
+    const interval = admissibleRates(ctx, rho);
+    return interval !== null && rate > interval.lo && rate < interval.hi && !(rate > interval.earthLo && rate < interval.earthHi);
+  };
+  const logPopDensity = (params: readonly number[], rho: number, rate: number): number => populationLogPrior(stateOf(ctx, params, rho, rate), ctx.reference.position, rho, ctx.meanV) + Math.log(rho);
+  return {
+    kind,
+    logCell(params, g) {
+      if (kind === 'powerLaw') return (k + 1) * Math.log(g.rho) + Math.log(g.logWidth * g.rateWidth);
+      if (kind === 'population') return populationLogCell(ctx, params, g);
+      if (kind === 'encounter') return encounterLogCell(ctx, params, g);
+      return logAdd(populationLogCell(ctx, params, g), encounterLogWeight + encounterLogCell(ctx, params, g));
+    },
+    logDensity(params, rho, rate) {
+      if (!admissible(rho, rate)) return -Infinity;
+      if (kind === 'powerLaw') return (k + 1) * Math.log(rho);
+      if (kind === 'population') return logPopDensity(params, rho, rate);
+      if (kind === 'encounter') return encounterLogDensity(ctx, params, rho, rate);
+      return logAdd(logPopDensity(params, rho, rate), encounterLogWeight + encounterLogDensity(ctx, params, rho, rate));
+    },
+  };
+}
+
 /** Runs the ranging passes for a tracklet whose attributable is given. */
 export function systematicRanging(observations: readonly PreparedObservation[], attributable: Attributable, options: RangingOptions = {}): RangingResult {
   const ctx = makeContext(observations, attributable);
   const prior = rangePriorOf(options, ctx.observations.length);
   const k = options.rangePriorExponent ?? DEFAULT_RANGE_PRIOR_EXPONENT;
   if (!Number.isFinite(k)) throw new EstimationInputError('ranging.rangePriorExponent', k, 'expected a finite exponent k of the range prior rho^k');
+  const encounterLogWeight = options.mixtureEncounterLogWeight ?? MIXTURE_ENCOUNTER_LOG_WEIGHT;
+  if (!Number.isFinite(encounterLogWeight)) throw new EstimationInputError('ranging.mixtureEncounterLogWeight', encounterLogWeight, 'expected a finite natural logarithm of the encounter component\'s weight');
+  const model = priorModel(ctx, prior, k, encounterLogWeight);
   const rangeNodes = options.rangeNodes ?? 36;
   const rateNodes = options.rateNodes ?? 10;
   const maxPasses = options.passes ?? 5;
   let box: Box = { logLo: Math.log(RANGE_MIN_AU), logHi: Math.log(RANGE_MAX_AU), rateLo: -Infinity, rateHi: Infinity };
   let nodes: RangingNode[] = [];
+  let passMinOfNodes = 0;
   let evaluated = 0;
   let pass = 0;
   let minChi = Infinity;
@@ -392,11 +539,8 @@ export function systematicRanging(observations: readonly PreparedObservation[], 
       fitted = profiled.fitted;
     }
     const passMin = Math.min(...fitted.chiSquare);
-    // Log weight: likelihood x the prior's integral over the node's cell (density per d(rho) d(rhoDot), rho d(ln rho) d(rhoDot)).
-    const logWeights = grid.map((g, j) => {
-      const logCell = prior === 'population' ? populationLogCell(ctx, fitted.params[j]!, g) : (k + 1) * Math.log(g.rho) + Math.log(g.logWidth * g.rateWidth);
-      return -(fitted.chiSquare[j]! - passMin) / 2 + logCell;
-    });
+    // Log weight: likelihood x the prior's integral over the node's cell.
+    const logWeights = grid.map((g, j) => -(fitted.chiSquare[j]! - passMin) / 2 + model.logCell(fitted.params[j]!, g));
     const maxLog = Math.max(...logWeights.filter((w) => !Number.isNaN(w)));
     const candidate: RangingNode[] = grid.map((g, j) => ({
       rangeAu: g.rho,
@@ -416,6 +560,7 @@ export function systematicRanging(observations: readonly PreparedObservation[], 
     // A later pass replaces the earlier one only if it found fits at least as good.
     if (pass > 1 && passMin > minChi + 1) break;
     nodes = candidate;
+    passMinOfNodes = passMin;
     minChi = passMin;
     const effective = 1 / nodes.reduce((s, n) => s + n.weight * n.weight, 0);
     const next = concentratedBox(nodes);
@@ -424,16 +569,108 @@ export function systematicRanging(observations: readonly PreparedObservation[], 
     // Refined passes stay inside the documented range interval.
     box = { logLo: Math.max(next.logLo, Math.log(RANGE_MIN_AU)), logHi: Math.min(next.logHi, Math.log(RANGE_MAX_AU)), rateLo: -Infinity, rateHi: Infinity };
   }
+  const finalNodes = nodes;
+  const chiOffset = passMinOfNodes;
   return {
     epochTt: ctx.epochTt,
-    nodes,
+    nodes: finalNodes,
     passes: pass,
     minChiSquare: minChi,
     evaluatedNodes: evaluated,
     prior,
     priorExponent: prior === 'powerLaw' ? k : null,
+    mixtureEncounterLogWeight: prior === 'mixture' ? encounterLogWeight : null,
     stateOf: (params, rho, rate) => stateOf(ctx, params, rho, rate),
+    sample: (covariance, count, random) => sampleInsideCells(ctx, model, finalNodes, chiOffset, covariance, count, random),
   };
+}
+
+/** Proposals per virtual orbit in the importance sampling inside the cells. */
+const PROPOSALS_PER_MEMBER = 2;
+/** Gauss-Newton evaluations for a proposal's angles, started from its cell's fitted node (at most half a cell away). */
+const PROPOSAL_EVALUATIONS = 2;
+
+/**
+ * Virtual orbits sampled continuously from the ranging posterior by
+ * importance sampling inside the grid's cells (e.g. Robert & Casella 2004,
+ * Monte Carlo Statistical Methods, 2nd ed., ch. 3; in ranging, the
+ * continuous-sampling idea of Muinonen et al. 2006, CMDA 94, 305):
+ * proposals pick a cell with its posterior weight and a point uniform in the
+ * cell in (ln rho, rhoDot); the point's angles are fitted by Gauss-Newton
+ * from the cell's node, and its weight is target / proposal =
+ * exp(-chi^2/2) x prior density at the point / (the cell's node weight /
+ * the cell's area). `count` members are then drawn by systematic resampling
+ * of those weights (Kitagawa 1996, J. Comput. Graph. Stat. 5, 1), each
+ * with the attributable's Gaussian angle noise (its covariance, the angles'
+ * uncertainty at fixed range and range-rate) added to its fitted angles.
+ * The effective sample size (sum w)^2 / sum w^2 of the proposals is returned.
+ */
+function sampleInsideCells(
+  ctx: Context,
+  model: PriorModel,
+  nodes: readonly RangingNode[],
+  chiOffset: number,
+  covariance: readonly (readonly number[])[],
+  count: number,
+  random: RandomSource,
+): { members: VirtualOrbit[]; effectiveSampleSize: number; proposals: number } {
+  const proposalCount = PROPOSALS_PER_MEMBER * count;
+  const cells = systematicIndices(nodes.map((n) => n.weight), proposalCount, random);
+  const points = cells.map((j) => {
+    const n = nodes[j]!;
+    return {
+      rho: n.rangeAu * Math.exp((random.uniform() - 0.5) * n.logRangeWidth),
+      rate: n.rangeRateAuPerDay + (random.uniform() - 0.5) * n.rateWidth,
+    };
+  });
+  const fitted = fitNodes(ctx, points, PROPOSAL_EVALUATIONS + 1, { start: cells.map((j) => nodes[j]!.params) });
+  const logW = points.map((p, i) => {
+    const n = nodes[cells[i]!]!;
+    const chi = fitted.chiSquare[i]!;
+    if (!Number.isFinite(chi)) return -Infinity;
+    const logTarget = -(chi - chiOffset) / 2 + model.logDensity(fitted.params[i]!, p.rho, p.rate);
+    // The node's weight was exp(-(chi_node - offset)/2) x prior cell mass, normalised; its density over the cell is that / area.
+    const logProposal = Math.log(n.weight) - Math.log(n.logRangeWidth * n.rateWidth);
+    return logTarget - logProposal;
+  });
+  const top = Math.max(...logW);
+  if (!Number.isFinite(top)) throw new EstimationFailedError('no sampled orbit inside the ranging cells fits the tracklet');
+  const w = logW.map((l) => (Number.isFinite(l) ? Math.exp(l - top) : 0));
+  const sum = w.reduce((a, b) => a + b, 0);
+  const sum2 = w.reduce((a, b) => a + b * b, 0);
+  const chol = cholesky(covariance);
+  const chosen = systematicIndices(w, count, random);
+  const members = chosen.map((i): VirtualOrbit => {
+    const z = [random.normal(), random.normal(), random.normal(), random.normal()];
+    const base = fitted.params[i]!;
+    const params = base.map((p, a) => p + chol[a]!.reduce((s, l, b) => s + l * z[b]!, 0));
+    const { rho, rate } = points[i]!;
+    return { state: stateOf(ctx, params, rho, rate), rangeAu: rho, rangeRateAuPerDay: rate, fittedParams: base };
+  });
+  // Systematic resampling visits proposals in order; shuffle so any prefix is a fair sample.
+  for (let m = members.length - 1; m > 0; m--) {
+    const s = Math.floor(random.uniform() * (m + 1));
+    [members[m], members[s]] = [members[s]!, members[m]!];
+  }
+  return { members, effectiveSampleSize: (sum * sum) / sum2, proposals: proposalCount };
+}
+
+/** `count` indices drawn by systematic resampling of non-negative weights (one uniform offset, evenly spaced pointers). */
+function systematicIndices(weights: readonly number[], count: number, random: RandomSource): number[] {
+  const total = weights.reduce((a, b) => a + b, 0);
+  const out: number[] = [];
+  const step = total / count;
+  let pointer = random.uniform() * step;
+  let cumulative = 0;
+  for (let j = 0; j < weights.length && out.length < count; j++) {
+    cumulative += weights[j]!;
+    while (pointer < cumulative && out.length < count) {
+      out.push(j);
+      pointer += step;
+    }
+  }
+  while (out.length < count) out.push(weights.length - 1);
+  return out;
 }
 
 /** Sub-points per axis at which the population prior is averaged over a node's cell. */
@@ -465,7 +702,7 @@ function populationLogCell(ctx: Context, params: readonly number[], g: GridNode)
 function rangePriorOf(options: RangingOptions, usedPositions: number): RangePriorKind {
   const fallback: RangePriorKind = usedPositions >= POPULATION_PRIOR_MIN_POSITIONS ? DEFAULT_RANGE_PRIOR : 'powerLaw';
   const kind = options.rangePrior ?? (options.rangePriorExponent !== undefined ? 'powerLaw' : fallback);
-  if (kind !== 'population' && kind !== 'powerLaw') throw new EstimationInputError('ranging.rangePrior', kind, "expected 'population' or 'powerLaw'");
+  if (kind !== 'mixture' && kind !== 'population' && kind !== 'encounter' && kind !== 'powerLaw') throw new EstimationInputError('ranging.rangePrior', kind, "expected 'mixture', 'population' or 'powerLaw'");
   return kind;
 }
 
@@ -548,41 +785,4 @@ function concentratedBox(nodes: readonly RangingNode[]): Box {
     rateLo: q(rates, 0.0005) - rateWidth,
     rateHi: q(rates, 0.9995) + rateWidth,
   };
-}
-
-/**
- * Draws `count` virtual orbits from the ranging posterior: nodes by
- * systematic resampling of their weights (Kitagawa 1996, J. Comput. Graph.
- * Stat. 5, 1) at the node's range and range-rate, and the angular
- * parameters from the node's fit plus Gaussian noise with the attributable's
- * covariance.
- */
-export function drawVirtualOrbits(ranging: RangingResult, covariance: readonly (readonly number[])[], count: number, random: RandomSource): VirtualOrbit[] {
-  const chol = cholesky(covariance);
-  const nodes = ranging.nodes;
-  const out: VirtualOrbit[] = [];
-  const start = random.uniform() / count;
-  let cumulative = 0;
-  let j = 0;
-  for (let m = 0; m < count; m++) {
-    const target = start + m / count;
-    while (j < nodes.length - 1 && cumulative + nodes[j]!.weight < target) {
-      cumulative += nodes[j]!.weight;
-      j++;
-    }
-    const node = nodes[j]!;
-    // Members sit on their node's (range, range-rate): the node's angles are fitted there, and a tightly
-    // constrained arc does not tolerate moving within the cell at fixed angles.
-    const rho = node.rangeAu;
-    const rate = node.rangeRateAuPerDay;
-    const z = [random.normal(), random.normal(), random.normal(), random.normal()];
-    const params = node.params.map((p, a) => p + chol[a]!.reduce((s, l, b) => s + l * z[b]!, 0));
-    out.push({ state: ranging.stateOf(params, rho, rate), rangeAu: rho, rangeRateAuPerDay: rate, node: j });
-  }
-  // Systematic resampling visits nodes in grid order; shuffle so any prefix is a fair sample.
-  for (let m = out.length - 1; m > 0; m--) {
-    const s = Math.floor(random.uniform() * (m + 1));
-    [out[m], out[s]] = [out[s]!, out[m]!];
-  }
-  return out;
 }
