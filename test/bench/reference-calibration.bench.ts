@@ -1,7 +1,7 @@
 /**
  * The short-arc estimator against the independent reference generator (test/reference/).
  * Run: npx tsx test/bench/reference-calibration.bench.ts [cases per population] [first seed] [prior]
- *   defaults 60, 1, the estimator's default prior; prior: 'population', 'powerLaw' or a number k (rho^k).
+ *   defaults 60, 1, the estimator's default prior; prior: 'mixture', 'mixture:<broad weight>', 'population', 'powerLaw' or a number k (rho^k).
  * Cases are generated once and kept in $TMPDIR/nightjar-reference-cases-v<version>-<population>-<seed>-<count>.json
  * (generation takes 1-4 s a case); delete those files to regenerate.
  * Prints, per population and horizon (+1 ... +48 h after the last position, the follow-up and the
@@ -16,7 +16,7 @@ import type { RangingOptions } from '../../src/orbit/estimation/ranging.js';
 import { REFERENCE_HORIZONS_H, REFERENCE_POPULATIONS, referenceCases, type ReferenceCase, type ReferencePopulation } from '../reference/cases.js';
 import { ESTIMATOR_BAR, horizonFigures, median, rangeCoverage, scoreCase, type ScoredCase } from '../reference/evaluate.js';
 
-const GENERATOR_VERSION = 1;
+const GENERATOR_VERSION = 2;
 const perPopulation = Number(process.argv[2] ?? 60);
 const firstSeed = Number(process.argv[3] ?? 1);
 const priorArg = process.argv[4];
@@ -24,9 +24,10 @@ const only = process.env.POPULATIONS?.split(',') as ReferencePopulation[] | unde
 
 function rangingOf(arg: string | undefined): RangingOptions {
   if (arg === undefined) return {};
-  if (arg === 'population' || arg === 'powerLaw') return { rangePrior: arg };
+  if (arg === 'population' || arg === 'powerLaw' || arg === 'mixture' || arg === 'encounter') return { rangePrior: arg };
+  if (arg.startsWith('mixture:')) return { rangePrior: 'mixture', mixtureEncounterLogWeight: Number(arg.slice('mixture:'.length)) };
   const k = Number(arg);
-  if (!Number.isFinite(k)) throw new Error(`prior = ${arg}: expected 'population', 'powerLaw' or a number k`);
+  if (!Number.isFinite(k)) throw new Error(`prior = ${arg}: expected 'mixture', 'mixture:<weight>', 'population', 'powerLaw' or a number k`);
   return { rangePrior: 'powerLaw', rangePriorExponent: k };
 }
 
@@ -78,6 +79,9 @@ for (const population of REFERENCE_POPULATIONS.filter((p) => !only || only.inclu
   console.log(`bar for ${population}: ${verdict.join('; ')}`);
   const misses = scored.flatMap((s) => s.horizons.filter((h) => h.sigmaDistance > 3).map((h) => `${s.id}@${h.site}+${h.hours}h ${h.sigmaDistance.toFixed(1)}σ`));
   if (misses.length) console.log(`outside 3σ: ${misses.join(', ')}`);
+  const pit = [0, 0, 0, 0, 0];
+  for (const s of scored) pit[Math.min(4, Math.floor(s.rangeQuantile * 5))]!++;
+  console.log(`truth's quantile in the range posterior, by fifths (even when calibrated): ${pit.join(' / ')}`);
   const rangeMisses = scored.filter((s) => !(s.rangeAu.p5 <= s.trueRangeAu && s.trueRangeAu <= s.rangeAu.p95));
   if (rangeMisses.length) console.log(`range outside 5-95 %: ${rangeMisses.map((s) => `${s.id} truth ${s.trueRangeAu.toFixed(4)} [${s.rangeAu.p5.toFixed(4)}, ${s.rangeAu.p95.toFixed(4)}]`).join('; ')}`);
 }

@@ -81,7 +81,9 @@ export interface ReferenceCase {
 }
 
 const DAY_MS = 86_400_000;
-const YEAR_START_MS = Date.UTC(2027, 0, 1);
+/** Truths are drawn between 2026-01-01 and 2027-06-20, inside the project's leap-second table (valid to 2027-06-28). */
+const YEAR_START_MS = Date.UTC(2026, 0, 1);
+const DRAW_SPAN_DAYS = 535;
 const GM_EARTH_KM3_S2 = 398_600.4418;
 const KM_S_TO_AU_DAY = 86_400 / KM_PER_AU;
 
@@ -110,7 +112,7 @@ function conic(r: Vec3, v: Vec3): { a: number; e: number } {
 }
 
 function drawEncounter(random: ReferenceRandom, slow: boolean): Truth | null {
-  const caMs = YEAR_START_MS + random.between(0, 355) * DAY_MS;
+  const caMs = YEAR_START_MS + random.between(0, DRAW_SPAN_DAYS) * DAY_MS;
   const caTt = ttDaysOfUtc(caMs);
   const vInfKmS = slow ? random.between(1, 5) : random.between(3, 25);
   const missAu = 0.002 * Math.pow(50, random.uniform());
@@ -142,7 +144,7 @@ function drawEncounter(random: ReferenceRandom, slow: boolean): Truth | null {
 }
 
 function drawOrdinary(random: ReferenceRandom): Truth {
-  const epochMs = YEAR_START_MS + random.between(0, 355) * DAY_MS;
+  const epochMs = YEAR_START_MS + random.between(0, DRAW_SPAN_DAYS) * DAY_MS;
   const epochTt = ttDaysOfUtc(epochMs);
   const mainBelt = random.uniform() < 0.5;
   const aAu = mainBelt ? random.between(2.1, 3.3) : random.between(1.1, 2.6);

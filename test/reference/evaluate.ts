@@ -82,6 +82,8 @@ export interface ScoredCase {
   /** The truth's range at the estimate's epoch and the estimate's 5-50-95 % range, au. */
   readonly trueRangeAu: number;
   readonly rangeAu: { p5: number; p50: number; p95: number };
+  /** Fraction of the virtual orbits nearer than the truth at the epoch (uniform over 0..1 for a calibrated posterior). */
+  readonly rangeQuantile: number;
   readonly milliseconds: number;
   /** The importance sampling's effective sample size (null for an orbit block) and the positions flagged as outliers. */
   readonly effectiveSampleSize: number | null;
@@ -146,13 +148,15 @@ export function scoreCase(c: ReferenceCase, settings: EstimatorSettings = {}): S
     };
   });
   const epochMs = estimate.attributable?.epochMs ?? c.meanEpochMs;
+  const trueRange = trueRangeAt(c, epochMs);
   return {
     id: c.id,
     population: c.population,
     description: c.description,
     horizons,
-    trueRangeAu: trueRangeAt(c, epochMs),
+    trueRangeAu: trueRange,
     rangeAu: estimate.summary.rangeAu,
+    rangeQuantile: estimate.memberRangeAu.filter((r) => r < trueRange).length / estimate.memberRangeAu.length,
     milliseconds,
     effectiveSampleSize: estimate.ranging?.effectiveSampleSize ?? null,
     outliers: estimate.summary.residuals.filter((r) => r.outlier).length,

@@ -17,7 +17,8 @@ import {
   type PriorElements,
 } from '../../../src/orbit/estimation/index.js';
 import { createRandom } from '../../../src/orbit/estimation/random.js';
-import { generateCase } from '../../../src/orbit/estimation/synthetic.js';
+import { referenceCase } from '../../reference/cases.js';
+import { trackletOf } from '../../reference/evaluate.js';
 import { GM_SUN_AU3_PER_DAY2 } from '../../../src/orbit/constants.js';
 import { stateFromClassical } from '../../../src/orbit/elements.js';
 import { eccentricAnomalyFromMean, trueFromEccentricAnomaly } from '../../../src/orbit/kepler.js';
@@ -221,12 +222,13 @@ describe('population prior along a line of sight', () => {
 });
 
 describe('ranging with the population prior', () => {
-  // A main-belt generator case (a 2.54 au, e 0.02, truth at 2.58 au) with 6 positions.
-  const c = generateCase('ordinary', 6)!;
+  // A main-belt reference case (a 2.75 au, e 0.18, truth at 1.51 au) with 6 positions over 92 min.
+  const c = referenceCase('ordinary', 11)!;
+  const tracklet = trackletOf(c);
   const run = (ranging: { rangePrior: 'population' | 'powerLaw' }) =>
-    estimateObject({ objectId: c.id, observations: c.observations, now: new Date(c.lastObservationMs), members: 300, seed: 1, ranging }).summary.rangeAu;
+    estimateObject({ objectId: c.id, observations: tracklet, now: new Date(c.lastObservationMs), members: 300, seed: 1, ranging }).summary.rangeAu;
 
-  it('narrows the range of a slow main-belt mover compared with rho^0.5 and keeps the truth inside 5-95 % (generator truth)', () => {
+  it('narrows the range of a slow main-belt mover compared with rho^0.5 and keeps the truth inside 5-95 % (reference truth)', () => {
     const population = run({ rangePrior: 'population' });
     const powerLaw = run({ rangePrior: 'powerLaw' });
     expect(population.p95 / population.p5).toBeLessThan(0.5 * (powerLaw.p95 / powerLaw.p5));
@@ -235,7 +237,7 @@ describe('ranging with the population prior', () => {
   });
 
   it('falls back to rho^0.5 by default for a two-position tracklet (its range is not measured at all)', () => {
-    const two = [c.observations[0]!, c.observations[c.observations.length - 1]!];
+    const two = [tracklet[0]!, tracklet[tracklet.length - 1]!];
     const estimate = (ranging?: { rangePrior: 'powerLaw' }) =>
       estimateObject({ objectId: c.id, observations: two, now: new Date(c.lastObservationMs), members: 100, seed: 1, ranging }).summary.rangeAu;
     expect(estimate()).toEqual(estimate({ rangePrior: 'powerLaw' }));
