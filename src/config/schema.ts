@@ -264,7 +264,7 @@ export const serviceSchema = z
 const weight = () => finite().min(0).max(100).optional();
 
 /** The range priors a configuration or command may choose (docs/accuracy.md). */
-export const RANGE_PRIOR_CHOICES = ['auto', 'mixture', 'population', 'powerLaw'] as const;
+export const RANGE_PRIOR_CHOICES = ['auto', 'mixture', 'population', 'encounter', 'powerLaw'] as const;
 export type RangePriorChoice = (typeof RANGE_PRIOR_CHOICES)[number];
 
 export const planningSchema = z
@@ -274,9 +274,9 @@ export const planningSchema = z
     members: z.number().int().min(50).max(20_000).default(1000),
     /**
      * Range prior of the short-arc estimate (docs/accuracy.md): 'auto' = the
-     * population prior for three or more positions, rho^0.5 for two;
-     * 'population'; or 'powerLaw' (rho^0.5, less informative: wider regions,
-     * but no preference against unusual orbits such as Earth-like ones).
+     * default 'mixture' of the population model and close encounters of any
+     * orbit; 'population' alone (sharper for main-belt objects, but it talks
+     * close approachers away); 'encounter' alone; or 'powerLaw' (rho^0.5).
      */
     rangePrior: z.enum(RANGE_PRIOR_CHOICES).default('auto'),
     /** Score weights; missing ones take the documented defaults (docs/scoring.md). */

@@ -39,7 +39,7 @@ describe('configuration', () => {
     raw['planning'] = { ...(raw['planning'] as object), rangePrior: 'flat' };
     const issues = issuesOf(raw);
     expect(issues).toHaveLength(1);
-    expect(issues[0]).toMatch(/^planning\.rangePrior: .*"auto"\|"population"\|"powerLaw"/);
+    expect(issues[0]).toMatch(/^planning\.rangePrior: .*"auto"\|"mixture"\|"population"\|"encounter"\|"powerLaw"/);
   });
 
   it("refuses a V filter whose dark sky contradicts the site's own dark V sky, naming the filter's field", () => {

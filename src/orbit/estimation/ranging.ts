@@ -65,13 +65,11 @@ export const DEFAULT_RANGE_PRIOR_EXPONENT = 0.5;
 export type RangePriorKind = 'mixture' | 'population' | 'encounter' | 'powerLaw';
 
 /**
- * Prior used when the options name none (and give no exponent): chosen by
- * measurement, docs/accuracy.md. Exception: a tracklet of two used positions
- * gets 'powerLaw' by default. Its four angles are then fitted exactly and
- * (rho, rhoDot) are not measured at all, so the posterior is the prior, and
- * the population model (from published shapes, from memory) would decide
- * alone; measured, it put a generator close approacher at 0.013 au outside
- * 5 sigma at +1 h, where rho^0.5 keeps it inside (docs/accuracy.md).
+ * Prior used when the options name none (and give no exponent), for any
+ * number of positions: chosen by measurement on the reference generator
+ * (docs/accuracy.md). A two-position tracklet measures no range at all, so
+ * its posterior is this prior; the mixture keeps close encounters possible
+ * there too.
  */
 export const DEFAULT_RANGE_PRIOR: RangePriorKind = 'mixture';
 
@@ -84,8 +82,6 @@ export const DEFAULT_RANGE_PRIOR: RangePriorKind = 'mixture';
  * (docs/accuracy.md).
  */
 export const MIXTURE_ENCOUNTER_LOG_WEIGHT = -5;
-/** Fewest used positions for DEFAULT_RANGE_PRIOR to apply when the options name no prior. */
-export const POPULATION_PRIOR_MIN_POSITIONS = 3;
 
 /** Smallest range on the grid, au (45 000 km, about a ninth of the Moon's distance). */
 export const RANGE_MIN_AU = 3e-4;
@@ -93,7 +89,7 @@ export const RANGE_MIN_AU = 3e-4;
 export const RANGE_MAX_AU = 6;
 
 export interface RangingOptions {
-  /** Which range prior; default DEFAULT_RANGE_PRIOR (with POPULATION_PRIOR_MIN_POSITIONS used positions, else 'powerLaw'), or 'powerLaw' when only rangePriorExponent is given. */
+  /** Which range prior; default DEFAULT_RANGE_PRIOR, or 'powerLaw' when only rangePriorExponent is given. */
   readonly rangePrior?: RangePriorKind;
   /** Exponent k of the power-law range prior rho^k; default DEFAULT_RANGE_PRIOR_EXPONENT (0.5). */
   readonly rangePriorExponent?: number;
@@ -491,7 +487,7 @@ function priorModel(ctx: Context, kind: RangePriorKind, k: number, encounterLogW
 /** Runs the ranging passes for a tracklet whose attributable is given. */
 export function systematicRanging(observations: readonly PreparedObservation[], attributable: Attributable, options: RangingOptions = {}): RangingResult {
   const ctx = makeContext(observations, attributable);
-  const prior = rangePriorOf(options, ctx.observations.length);
+  const prior = rangePriorOf(options);
   const k = options.rangePriorExponent ?? DEFAULT_RANGE_PRIOR_EXPONENT;
   if (!Number.isFinite(k)) throw new EstimationInputError('ranging.rangePriorExponent', k, 'expected a finite exponent k of the range prior rho^k');
   const encounterLogWeight = options.mixtureEncounterLogWeight ?? MIXTURE_ENCOUNTER_LOG_WEIGHT;
@@ -699,10 +695,9 @@ function populationLogCell(ctx: Context, params: readonly number[], g: GridNode)
   return top + Math.log(mean) + Math.log(g.logWidth * g.rateWidth);
 }
 
-function rangePriorOf(options: RangingOptions, usedPositions: number): RangePriorKind {
-  const fallback: RangePriorKind = usedPositions >= POPULATION_PRIOR_MIN_POSITIONS ? DEFAULT_RANGE_PRIOR : 'powerLaw';
-  const kind = options.rangePrior ?? (options.rangePriorExponent !== undefined ? 'powerLaw' : fallback);
-  if (kind !== 'mixture' && kind !== 'population' && kind !== 'encounter' && kind !== 'powerLaw') throw new EstimationInputError('ranging.rangePrior', kind, "expected 'mixture', 'population' or 'powerLaw'");
+function rangePriorOf(options: RangingOptions): RangePriorKind {
+  const kind = options.rangePrior ?? (options.rangePriorExponent !== undefined ? 'powerLaw' : DEFAULT_RANGE_PRIOR);
+  if (kind !== 'mixture' && kind !== 'population' && kind !== 'encounter' && kind !== 'powerLaw') throw new EstimationInputError('ranging.rangePrior', kind, "expected 'mixture', 'population', 'encounter' or 'powerLaw'");
   return kind;
 }
 
