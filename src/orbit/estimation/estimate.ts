@@ -739,8 +739,11 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
         const finite = apparentMagnitudesHG(memberH, slopeG, places.rAu, places.deltaAu, places.phaseDeg, k * n + 1, n - 1, mags);
         if (finite > 1) {
           const sorted = mags.subarray(0, n - 1).sort();
-          // Robust sigma of the ensemble: half the 16-84 % range.
-          const ensemble = (sorted[Math.round(0.84 * (finite - 1))]! - sorted[Math.round(0.16 * (finite - 1))]!) / 2;
+          // Sigma of the ensemble: half the 16-84 % range, or the wider 1 % tail over 2.326 (the normal's 99 % point) when
+          // one side stretches, as a close object's distance does when it heads at the observer (magnitudes skew long before positions).
+          const at = (p: number): number => sorted[Math.round(p * (finite - 1))]!;
+          const median = at(0.5);
+          const ensemble = Math.max((at(0.84) - at(0.16)) / 2, Math.max(median - at(0.01), at(0.99) - median) / 2.326);
           magSigma = ensemble;
           if (magnitudeBudget) {
             const slopeTerm = magnitudeBudget.slopeSigma * (phaseTermSlope(places.phaseDeg[k * n]!, magnitudeBudget.slopeG) - phaseTermSlope(magnitudeBudget.referencePhaseDeg, magnitudeBudget.slopeG));
