@@ -22,7 +22,7 @@ import { UsageError } from './io.js';
  */
 export const HELP = `nightjar ephemeris --notice FILE (--site ID | --lat DEG --lon DEG --height M)
                    (--times ISO[,ISO...] | --start ISO --end ISO --step MINUTES)
-                   [--members N] [--seed S] [--range-prior auto|population|powerLaw] [--json] [--config FILE]
+                   [--members N] [--seed S] [--range-prior auto|mixture|population|encounter|powerLaw] [--json] [--config FILE]
 
 Prints where the object of a notice is, as seen from a site: astrometric ICRS
 RA/Dec (light-time corrected, no aberration), rates in arcsec/s (RA rate times
@@ -53,10 +53,11 @@ Options:
   --step MINUTES     grid spacing, minutes
   --members N        virtual orbits (default 1000)
   --seed S           seed of the virtual orbits' draws (default 1; same seed, same rows)
-  --range-prior P    range prior of a tracklet-only estimate: auto (default: the
-                     population prior for 3 or more positions, rho^0.5 for 2),
-                     population, or powerLaw (rho^0.5: wider regions, no
-                     preference against unusual orbits such as Earth-like ones)
+  --range-prior P    range prior of a tracklet-only estimate: auto (default, the
+                     mixture), mixture (the population model and close
+                     encounters of any orbit), population (sharper for
+                     main-belt objects, talks close approachers away),
+                     encounter, or powerLaw (rho^0.5)
   --json             print JSON {objectId, method, notes, rows} instead of text
   --config FILE      configuration file (default: NIGHTJAR_CONFIG, else the demo)
   -h, --help         show this help`;

@@ -2,8 +2,9 @@
  * How follow-up positions shrink the uncertainty of a newly found object.
  * Run: npx tsx test/bench/follow-up.bench.ts [cases per kind] [members]   (default 10, 1000)
  *
- * Cases come from the calibration generator (src/orbit/estimation/synthetic.ts: invented truths
- * integrated by its own RK4 with astronomy-engine's planets, observed from an invented survey site).
+ * Cases come from the reference generator (test/reference/: invented truths integrated by its own
+ * Bulirsch-Stoer over astronomy-engine's bodies, observed from an invented survey site): its close
+ * encounters ('encounter' and 'slow' populations) and its ordinary objects.
  * One hour after the discovery tracklet's last position, an invented follow-up site one hour of
  * longitude west of the survey site (so at about the same local time, in darkness) measures 1, 2 or
  * 3 positions 5 minutes apart with 0.3 arcsec Gaussian noise (the truth seen from there, light-time
@@ -18,22 +19,24 @@
  *     time over the virtual orbits, 0.135-99.865 % (the 3-sigma equivalent), median width and ratio,
  *     and the fraction of truths inside it.
  */
-import { Body, Equator, Horizon, Observer } from 'astronomy-engine';
 import type { GeodeticLocation } from '../../src/config/schema.js';
-import { astrometricPlace, ensemblePlaces, observerGeometry } from '../../src/orbit/ephemeris.js';
+import { ensemblePlaces } from '../../src/orbit/ephemeris.js';
 import type { TrackletObservation } from '../../src/orbit/estimate-types.js';
 import { seedForObject } from '../../src/orbit/estimate-types.js';
 import { estimateObject } from '../../src/orbit/estimation/index.js';
 import { createRandom } from '../../src/orbit/estimation/random.js';
 import { ellipseDistanceSquared, offsetArcsec } from '../../src/orbit/estimation/sky-spread.js';
-import { generateCases, integrateTruth, SURVEY_SITE, type CalibrationCase } from '../../src/orbit/estimation/synthetic.js';
-import { ttFromUtc } from '../../src/orbit/time.js';
+import { REFERENCE_SURVEY_SITE, referenceCases, referencePlacesFrom, type ReferenceCase } from '../reference/cases.js';
+import { altitudes, type ReferenceSite } from '../reference/observe.js';
+import { trackletOf } from '../reference/evaluate.js';
 import { quantile } from './quantile.js';
 
 const perKind = Number(process.argv[2] ?? 10);
 const members = Number(process.argv[3] ?? 1000);
-/** Invented follow-up site: one hour of longitude west of the generator's survey site. */
-const FOLLOW_SITE: GeodeticLocation = { latDeg: 20.5, lonDeg: SURVEY_SITE.lonDeg - 15, heightM: 1200 };
+/** Invented follow-up site: one hour of longitude west of the reference's survey site. */
+const FOLLOW_REFERENCE_SITE: ReferenceSite = { name: 'follow-up (invented, one hour west)', latDeg: 20.5, lonDeg: REFERENCE_SURVEY_SITE.lonDeg - 15, heightM: 1200 };
+const FOLLOW_SITE: GeodeticLocation = { latDeg: FOLLOW_REFERENCE_SITE.latDeg, lonDeg: FOLLOW_REFERENCE_SITE.lonDeg, heightM: FOLLOW_REFERENCE_SITE.heightM };
+const SURVEY_SITE: GeodeticLocation = { latDeg: REFERENCE_SURVEY_SITE.latDeg, lonDeg: REFERENCE_SURVEY_SITE.lonDeg, heightM: REFERENCE_SURVEY_SITE.heightM };
 const FOLLOW_AFTER_MIN = 60;
 const FOLLOW_SPACING_MIN = 5;
 const FOLLOW_SIGMA_ARCSEC = 0.3;
@@ -49,23 +52,18 @@ interface Measure {
   outliers: number;
 }
 
-function altitudes(site: GeodeticLocation, t: Date, raDeg: number, decDeg: number): { object: number; sun: number } {
-  const observer = new Observer(site.latDeg, site.lonDeg, site.heightM);
-  const sun = Equator(Body.Sun, t, observer, true, true);
-  return { object: Horizon(t, observer, raDeg / 15, decDeg).altitude, sun: Horizon(t, observer, sun.ra, sun.dec).altitude };
+type Case = ReferenceCase & { kind: 'close' | 'ordinary' };
+
+/** Truth seen from the follow-up site (degrees, light-time corrected), by the reference's own integration. */
+function truthFrom(c: Case, times: Date[]) {
+  return referencePlacesFrom(c.population, Number(c.id.split('-')[1]), FOLLOW_REFERENCE_SITE, times.map((t) => t.getTime()));
 }
 
-/** Truth seen from a site at a time (degrees, light-time corrected), by the generator's own integrator from its mean-epoch state. */
-function truthFrom(c: CalibrationCase, site: GeodeticLocation, times: Date[]) {
-  const states = integrateTruth(c.meanEpochState, times.map((t) => ttFromUtc(t)), c.kind === 'close' ? 0.001 : 0.004);
-  return states.map((s, k) => astrometricPlace({ x: s.x, y: s.y, z: s.z }, { x: s.vx, y: s.vy, z: s.vz }, observerGeometry(site, times[k]!)));
-}
-
-function measure(c: CalibrationCase, observations: TrackletObservation[], nowMs: number): Measure {
+function measure(c: Case, observations: TrackletObservation[], nowMs: number): Measure {
   const estimate = estimateObject({ objectId: c.id, observations, now: new Date(nowMs), members, seed: seedForObject(c.id) });
   const horizonTimes = HORIZONS_H.map((h) => new Date(c.lastObservationMs + h * 3_600_000));
   const rows = estimate.ephemeris(FOLLOW_SITE, horizonTimes);
-  const truths = truthFrom(c, FOLLOW_SITE, horizonTimes);
+  const truths = truthFrom(c, horizonTimes);
   const region3SigmaArcsec = rows.map((r) => 3 * (r.unc?.major ?? Number.NaN));
   const insideRegion = rows.map((r, k) => {
     const [east, north] = offsetArcsec(r.ra, r.dec, truths[k]!.raDeg, truths[k]!.decDeg);
@@ -80,15 +78,16 @@ function measure(c: CalibrationCase, observations: TrackletObservation[], nowMs:
 }
 
 const t0 = performance.now();
-const cases = [...generateCases('close', perKind, 1), ...generateCases('ordinary', perKind, 1)];
-const results: { c: CalibrationCase; byCount: Measure[] }[] = [];
+const close = (p: 'encounter' | 'slow', n: number) => referenceCases(p, n, 1).map((c): Case => ({ ...c, kind: 'close' }));
+const cases: Case[] = [...close('encounter', Math.ceil(perKind / 2)), ...close('slow', Math.floor(perKind / 2)), ...referenceCases('ordinary', perKind, 1).map((c): Case => ({ ...c, kind: 'ordinary' }))];
+const results: { c: Case; byCount: Measure[] }[] = [];
 let skipped = 0;
 for (const c of cases) {
   const followMs = [0, 1, 2].map((k) => c.lastObservationMs + (FOLLOW_AFTER_MIN + k * FOLLOW_SPACING_MIN) * 60_000);
-  const places = truthFrom(c, FOLLOW_SITE, followMs.map((ms) => new Date(ms)));
+  const places = truthFrom(c, followMs.map((ms) => new Date(ms)));
   const observable = places.every((p, k) => {
-    const a = altitudes(FOLLOW_SITE, new Date(followMs[k]!), p.raDeg, p.decDeg);
-    return a.object > 20 && a.sun < -12;
+    const a = altitudes(FOLLOW_REFERENCE_SITE, followMs[k]!, p.raDeg, p.decDeg);
+    return a.objectDeg > 20 && a.sunDeg < -12;
   });
   if (!observable) {
     skipped += 1;
@@ -100,7 +99,7 @@ for (const c of cases) {
     const ra = p.raDeg + (random.normal() * FOLLOW_SIGMA_ARCSEC) / 3600 / Math.cos((p.decDeg * Math.PI) / 180);
     return { t: new Date(followMs[k]!).toISOString(), raDeg: (ra + 360) % 360, decDeg: dec, sigmaArcsec: FOLLOW_SIGMA_ARCSEC, mag: null, band: null, observer: FOLLOW_SITE };
   });
-  const byCount = COUNTS.map((n) => measure(c, [...c.observations, ...follow.slice(0, n)], n === 0 ? c.lastObservationMs + FOLLOW_AFTER_MIN * 60_000 : followMs[n - 1]!));
+  const byCount = COUNTS.map((n) => measure(c, [...trackletOf(c), ...follow.slice(0, n)], n === 0 ? c.lastObservationMs + FOLLOW_AFTER_MIN * 60_000 : followMs[n - 1]!));
   results.push({ c, byCount });
 }
 

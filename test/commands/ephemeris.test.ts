@@ -148,7 +148,7 @@ describe('nightjar ephemeris', () => {
 
   it('names the range-prior option and its choices for an unknown prior', async () => {
     await expect(main(['--notice', trackletOnlyPath, '--site', 'lantern-ridge', '--times', '2026-11-30T06:00:00Z', '--range-prior', 'flat'], collectingIo())).rejects.toThrow(
-      /--range-prior: flat; expected one of auto, population, powerLaw/,
+      /--range-prior: flat; expected one of auto, mixture, population, encounter, powerLaw/,
     );
   });
 

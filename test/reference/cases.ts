@@ -178,6 +178,19 @@ function roughlyVisible(truth: Truth): boolean {
 }
 
 /**
+ * The truth behind a case seen from any site at any UTC instants (ms):
+ * its astrometric places, light-time corrected, by this folder's own
+ * integration (for benches that need more than the case's fixed horizons).
+ */
+export function referencePlacesFrom(population: ReferencePopulation, seed: number, site: ReferenceSite, utcMs: readonly number[]): ReferencePlace[] {
+  const random = referenceRandom(seed * 104_729 + REFERENCE_POPULATIONS.indexOf(population) * 7_919 + 17);
+  const truth = population === 'ordinary' ? drawOrdinary(random) : drawEncounter(random, population === 'slow');
+  if (truth === null) throw new RangeError(`${population}-${seed}: no truth for this seed`);
+  const trajectory = new Trajectory(truth.epochTt, truth.state);
+  return utcMs.map((ms) => placeOf(trajectory, site, ms));
+}
+
+/**
  * The truth behind a case, for diagnostics: its heliocentric EQJ state (au,
  * au/day) at each TT given (the reference's Sun subtracted).
  */
