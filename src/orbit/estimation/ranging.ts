@@ -409,12 +409,18 @@ export const ENCOUNTER_MISS_AU = { min: 5e-5, max: 0.3 } as const;
 export const ENCOUNTER_SPEED_KM_S = { min: 0.5, max: 40 } as const;
 export const ENCOUNTER_WINDOW_DAYS = 15;
 const KM_S_IN_AU_PER_DAY = SECONDS_PER_DAY / KM_PER_AU;
-/** Sub-points over a cell's range-rate for the encounter component's integral. */
-const ENCOUNTER_RATE_STEPS = 8;
+/**
+ * Sub-points over a cell's range-rate for the encounter component's integral.
+ * The cell integrals only steer the grid's refinement and the proposals; the
+ * virtual orbits are weighted by the density at their own points.
+ */
+const ENCOUNTER_RATE_STEPS = 4;
 
 /** Soft window: about 1 inside [lo, hi], falling as the fourth power outside. */
 function softWindow(x: number, lo: number, hi: number): number {
-  return 1 / ((1 + (lo / x) ** 4) * (1 + (x / hi) ** 4));
+  const a = lo / x, b = x / hi;
+  const a2 = a * a, b2 = b * b;
+  return 1 / ((1 + a2 * a2) * (1 + b2 * b2));
 }
 
 /** Line-of-sight offset d and transverse speed c (au/day) of the velocity relative to the Earth's centre, for parameters and range: v^2 = (rhoDot + d)^2 + c^2. */
