@@ -133,17 +133,18 @@ describe('nightjar ephemeris', () => {
     expect(text).toMatch(/unc 1-sigma/);
   });
 
-  it('estimates with the less informative rho^0.5 prior when asked, giving a different, wider region a day later', async () => {
-    const rowsWith = async (prior: string) => {
+  it('estimates with the prior asked for: the notes name it and the region a day later differs', async () => {
+    const answerWith = async (prior: string) => {
       const io = collectingIo();
       const args = ['--notice', trackletOnlyPath, '--site', 'lantern-ridge', '--times', '2026-12-01T05:00:00Z', '--members', '300', '--seed', '3', '--range-prior', prior, '--json'];
       expect(await main(args, io)).toBe(0);
-      return answerOf<{ unc: { major: number } }>(io).rows;
+      return answerOf<{ unc: { major: number } }>(io);
     };
-    const [population] = await rowsWith('population');
-    const [powerLaw] = await rowsWith('powerLaw');
-    // A prior flat-ish in range (rho^0.5) keeps more of the distances a short arc allows.
-    expect(powerLaw!.unc.major).toBeGreaterThan(population!.unc.major);
+    const mixture = await answerWith('mixture');
+    const powerLaw = await answerWith('powerLaw');
+    expect(mixture.notes.join(' ')).toMatch(/range prior: mixture of the population model and close encounters/);
+    expect(powerLaw.notes.join(' ')).toMatch(/range prior: rho\^0\.5 power law/);
+    expect(powerLaw.rows[0]!.unc.major).not.toBeCloseTo(mixture.rows[0]!.unc.major, 0);
   });
 
   it('names the range-prior option and its choices for an unknown prior', async () => {
