@@ -40,9 +40,17 @@ export interface AppOptions {
   estimateFor?: (objectId: string) => ObjectEstimate | null;
   /** Called when a route puts objects on the work queue (an outcome, a confirmed position); the service starts assessing. */
   onWorkQueued?: () => void;
+  /** Faults outside the API for /readyz to name (the service passes its worker pools' health). */
+  problems?: () => string[];
 }
 
 export const API_VERSION = '1.0.0';
+
+/** Media types a body may have; each is read as bytes (the routes decode them). */
+export const BODY_MEDIA_TYPES = ['application/json', 'application/ndjson', 'application/x-ndjson', 'text/plain'] as const;
+
+/** Liveness, readiness and metrics: outside the rate limit, so a busy client cannot get its own probes refused. */
+export const UNLIMITED_ROUTES: ReadonlySet<string> = new Set(['/healthz', '/readyz', '/metrics']);
 
 /** Builds the fastify app (routes, auth, error shape, OpenAPI) without listening; tests call `inject` on it. */
 export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
@@ -67,6 +75,7 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
     sourceNames: options.sourceNames ?? ['inbox', ...service.feeds.map((f) => `feed:${f.id}`)],
     onDemand: options.onDemand ?? onDemandFromEstimates(options.estimateFor ?? (() => null)),
     workQueued: options.onWorkQueued ?? (() => {}),
+    ...(options.problems ? { problems: options.problems } : {}),
   };
 
   // A page opened in a browser may carry its reader token as ?token=. It is taken out of the
@@ -91,13 +100,16 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
     return503OnClosing: true,
   });
 
-  // Keep bodies as text: notices are stored verbatim and parse errors become kept rejections.
-  app.addContentTypeParser(['application/json', 'application/x-ndjson'], { parseAs: 'string' }, (_req, body, done) => {
+  // Keep bodies as bytes: notices are stored verbatim, a payload that is not UTF-8 is refused by name, and parse errors become kept rejections.
+  app.removeContentTypeParser(['application/json', 'text/plain']);
+  app.addContentTypeParser([...BODY_MEDIA_TYPES], { parseAs: 'buffer' }, (_req, body, done) => {
     done(null, body);
   });
 
   const limiter = createRateLimiter(service.rateLimitPerMinute);
   app.addHook('onRequest', async (request, reply) => {
+    // Probes are never refused for a busy caller's sake.
+    if (UNLIMITED_ROUTES.has(request.routeOptions.url ?? '')) return;
     const auth = request.headers.authorization;
     const key = typeof auth === 'string' ? `t:${createHash('sha256').update(auth).digest('hex')}` : `ip:${request.ip}`;
     const wait = limiter.take(key);
@@ -171,6 +183,15 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
   metrics.registry.gauge('nightjar_work_items', 'Work queue items by state.', () =>
     Object.entries(store.work.counts()).map(([state, n]) => ({ labels: { state }, value: n })),
   );
+  metrics.registry.gauge('nightjar_source_rejected_fraction', 'Fraction of a source\'s notices refused: over="all" since the database was made, over="last_answer" in its last answer that held notices.', () =>
+    store.sources.all().flatMap((s) => [
+      ...(s.noticesSeen > 0 ? [{ labels: { source: s.source, over: 'all' }, value: s.noticesRejected / s.noticesSeen }] : []),
+      ...(s.lastPollNotices ? [{ labels: { source: s.source, over: 'last_answer' }, value: (s.lastPollRejected ?? 0) / s.lastPollNotices }] : []),
+    ]),
+  );
+  metrics.registry.gauge('nightjar_inbox_failing_files', 'Inbox files that failed to be read and wait for another attempt.', () => [
+    { labels: {}, value: store.sources.failingInboxFiles().length },
+  ]);
   metrics.registry.gauge('nightjar_source_consecutive_failures', 'Consecutive failures per polled source (backoff while > 0).', () =>
     store.sources.all().map((s) => ({ labels: { source: s.source }, value: s.consecutiveFailures })),
   );

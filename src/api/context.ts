@@ -21,4 +21,6 @@ export interface ApiContext {
   onDemand: OnDemandEstimates;
   /** Says that objects were put on the work queue, so assessment can start without waiting for its next tick. */
   workQueued: () => void;
+  /** Faults outside the API that /readyz names among its problems (e.g. a worker that cannot start). */
+  problems?: () => string[];
 }

@@ -55,31 +55,50 @@ export function defineRoute<P extends z.ZodType, Q extends z.ZodType, B extends 
   return spec as unknown as AnyRouteSpec;
 }
 
-/** Registers routes on the app with auth and validation. */
+function hasBody(request: FastifyRequest): boolean {
+  const length = request.headers['content-length'];
+  return request.headers['transfer-encoding'] !== undefined || (length !== undefined && length !== '0');
+}
+
+/** Registers routes on the app with auth (from the headers, before the body is read) and validation. */
 export function registerRoutes(
   app: FastifyInstance,
   routes: readonly AnyRouteSpec[],
   auth: { tokens: readonly TokenEntry[]; openReadsOnLoopback: boolean; pageTokenOf?: (request: FastifyRequest) => string | null },
 ): void {
+  const callers = new WeakMap<FastifyRequest, Caller | null>();
   for (const spec of routes) {
     app.route({
       method: spec.method,
       url: spec.url,
+      // Who is calling is settled from the headers alone, before any body is read: an unknown caller's body is never read.
+      onRequest: async (request, reply) => {
+        try {
+          callers.set(
+            request,
+            spec.role === null
+              ? null
+              : requireRole(request, auth.tokens, spec.role, {
+                  openOnLoopback: spec.method === 'GET' && spec.readsOpenOnLoopback === true && auth.openReadsOnLoopback,
+                  pageToken: auth.pageTokenOf ? auth.pageTokenOf(request) : null,
+                  acceptsPageToken: spec.method === 'GET' && spec.acceptsPageToken === true,
+                }),
+          );
+        } catch (err) {
+          // The unread body would otherwise be drained from the connection after the answer.
+          if (hasBody(request)) reply.header('connection', 'close');
+          throw err;
+        }
+      },
       handler: async (request, reply) => {
-        const caller =
-          spec.role === null
-            ? null
-            : requireRole(request, auth.tokens, spec.role, {
-                openOnLoopback: spec.method === 'GET' && spec.readsOpenOnLoopback === true && auth.openReadsOnLoopback,
-                pageToken: auth.pageTokenOf ? auth.pageTokenOf(request) : null,
-                acceptsPageToken: spec.method === 'GET' && spec.acceptsPageToken === true,
-              });
+        const caller = callers.get(request) ?? null;
         const params = validate(spec.params, request.params, 'params');
         const query = validate(spec.query, request.query, 'query');
         let body: unknown;
         if (spec.rawBody) body = request.body;
         else if (spec.body) {
           let parsed: unknown = request.body;
+          if (Buffer.isBuffer(parsed)) parsed = parsed.toString('utf8');
           if (typeof parsed === 'string') {
             try {
               parsed = parsed.trim() === '' ? {} : (JSON.parse(parsed) as unknown);
@@ -154,7 +173,9 @@ export function openApiDocument(routes: readonly AnyRouteSpec[], info: { title: 
     if (spec.body || spec.rawBody) {
       operation['requestBody'] = {
         required: true,
-        content: spec.body ? { 'application/json': { schema: jsonSchema(spec.body, 'input') } } : { 'application/json': { schema: {} }, 'application/x-ndjson': { schema: {} } },
+        content: spec.body
+          ? { 'application/json': { schema: jsonSchema(spec.body, 'input') } }
+          : { 'application/json': { schema: {} }, 'application/ndjson': { schema: {} }, 'application/x-ndjson': { schema: {} } },
       };
     }
     paths[path] = { ...(paths[path] ?? {}), [spec.method.toLowerCase()]: operation };

@@ -2,16 +2,21 @@ import type { FeedConfig } from '../config/schema.js';
 import type { SourceStore } from '../store/sources.js';
 import type { Intake } from './ingest.js';
 import { summarise } from './ingest.js';
+import { isEmptyPayload, looksLikeNdjson, MAX_PAYLOAD_BYTES } from './payload.js';
 
 /**
  * HTTP feed polling: a JSON array (or one notice) or NDJSON, fetched with
  * If-None-Match / If-Modified-Since, a timeout, and exponential backoff after
- * failures. Notices already stored are recognised by (sender, noticeId) and skipped.
+ * failures. The body is streamed and the read stops at FEED_MAX_BYTES. An
+ * answer holding notices none of which is valid counts as a failed poll (with
+ * backoff), so a feed that sends garbage shows as failing; an empty answer
+ * (nothing new) is a success. Notices already stored are recognised by
+ * (sender, noticeId) and skipped.
  */
 
 export const FEED_BACKOFF_BASE_S = 15;
-/** Largest feed body read, bytes. */
-export const FEED_MAX_BYTES = 32 * 1024 * 1024;
+/** Largest feed body read, bytes; the read stops there. */
+export const FEED_MAX_BYTES = MAX_PAYLOAD_BYTES;
 
 export type FeedPollOutcome =
   | { status: 'skipped'; reason: string; nextAttemptAt: string }
@@ -29,20 +34,39 @@ export function feedSourceName(feed: FeedConfig): string {
   return `feed:${feed.id}`;
 }
 
-async function readLimited(response: Response, maxBytes: number): Promise<string> {
-  const length = Number(response.headers.get('content-length') ?? '0');
-  if (length > maxBytes) throw new Error(`body of ${length} bytes exceeds ${maxBytes}`);
-  const text = await response.text();
-  if (text.length > maxBytes) throw new Error(`body exceeds ${maxBytes} bytes`);
-  return text;
+/** Thrown when a feed answer is larger than the cap; the read stopped there. */
+export class FeedTooLargeError extends Error {
+  override readonly name = 'FeedTooLargeError';
 }
 
-function looksLikeNdjson(contentType: string | null, body: string): boolean {
-  if (contentType?.includes('ndjson') || contentType?.includes('jsonlines')) return true;
-  const trimmed = body.trimStart();
-  if (trimmed.startsWith('[')) return false;
-  const lines = trimmed.split(/\r?\n/).filter((l) => l.trim() !== '');
-  return lines.length > 1;
+/** Reads the body as bytes, stopping (and cancelling the transfer) once it passes `maxBytes`. */
+export async function readCapped(response: Response, maxBytes: number): Promise<Uint8Array> {
+  const length = Number(response.headers.get('content-length') ?? '0');
+  if (length > maxBytes) {
+    await response.body?.cancel();
+    throw new FeedTooLargeError(`answer of ${length} bytes (content-length) exceeds the ${maxBytes}-byte limit; not read`);
+  }
+  if (!response.body) return new Uint8Array(0);
+  const reader = response.body.getReader();
+  const chunks: Uint8Array[] = [];
+  let total = 0;
+  for (;;) {
+    const { done, value } = await reader.read();
+    if (done) break;
+    total += value.byteLength;
+    if (total > maxBytes) {
+      await reader.cancel();
+      throw new FeedTooLargeError(`answer exceeds the ${maxBytes}-byte limit; the read stopped at ${total} bytes`);
+    }
+    chunks.push(value);
+  }
+  const out = new Uint8Array(total);
+  let at = 0;
+  for (const c of chunks) {
+    out.set(c, at);
+    at += c.byteLength;
+  }
+  return out;
 }
 
 export interface PollFeedDeps {
@@ -74,24 +98,36 @@ export async function pollFeed(feed: FeedConfig, deps: PollFeedDeps): Promise<Fe
       await response.body?.cancel();
       throw new Error(`HTTP ${response.status} ${response.statusText}`);
     }
-    const body = await readLimited(response, FEED_MAX_BYTES);
-    const results = looksLikeNdjson(response.headers.get('content-type'), body)
-      ? deps.intake.ingestNdjson(body, source)
-      : deps.intake.ingestJson(body, source);
+    const bytes = await readCapped(response, FEED_MAX_BYTES);
+    const validators = { etag: response.headers.get('etag'), lastModified: response.headers.get('last-modified') };
+    // Nothing new: an empty body or an empty array is not a refusal.
+    const text = new TextDecoder('utf-8').decode(bytes);
+    if (isEmptyPayload(text)) {
+      deps.sources.recordSuccess(source, deps.now(), validators);
+      return { status: 'fetched', accepted: 0, duplicate: 0, rejected: 0 };
+    }
+    // The bytes go to intake, which refuses an encoding other than UTF-8 by name.
+    const results = looksLikeNdjson(response.headers.get('content-type'), text)
+      ? deps.intake.ingestNdjson(bytes, source)
+      : deps.intake.ingestJson(bytes, source);
     const counts = summarise(results);
-    deps.sources.recordSuccess(source, deps.now(), {
-      etag: response.headers.get('etag'),
-      lastModified: response.headers.get('last-modified'),
-      noticesSeen: results.length,
-    });
+    if (counts.rejected > 0 && counts.accepted + counts.duplicate === 0) {
+      const first = results.find((r) => r.status === 'rejected');
+      const reason = first?.status === 'rejected' && first.reasons[0] ? ` (first: ${first.reasons[0].path}: ${first.reasons[0].message})` : '';
+      return fail(`no valid notice in the answer: ${counts.rejected} refused${reason}`, { noticesSeen: results.length, noticesRejected: counts.rejected });
+    }
+    deps.sources.recordSuccess(source, deps.now(), { ...validators, noticesSeen: results.length, noticesRejected: counts.rejected });
     return { status: 'fetched', ...counts };
   } catch (err) {
-    const e = err as Error;
-    const message = e.name === 'TimeoutError' ? `timed out after ${feed.timeoutMs} ms` : e.message;
+    const e = err instanceof Error ? err : new Error(String(err));
+    return fail(e.name === 'TimeoutError' ? `timed out after ${feed.timeoutMs} ms` : e.message, null);
+  }
+
+  function fail(message: string, counts: { noticesSeen: number; noticesRejected: number } | null): FeedPollOutcome {
     const failures = (state?.consecutiveFailures ?? 0) + 1;
     const at = deps.now();
     const next = new Date(at.getTime() + backoffSeconds(failures, feed.maxBackoffS) * 1000);
-    deps.sources.recordFailure(source, at, message, next);
+    deps.sources.recordFailure(source, at, message, next, counts);
     return { status: 'failed', error: message, consecutiveFailures: failures, nextAttemptAt: next.toISOString() };
   }
 }

@@ -1,5 +1,7 @@
 import { z } from 'zod';
 import { toValidationIssues, type ValidationIssue } from '../config/issues.js';
+import { DESIGNATION_RULE, identifier, isWellFormedText, NOTICE_ID_RULE, SENDER_RULE } from './identifiers.js';
+import { mergedTrackletIssues, sameTimeConflicts, type RulePosition } from './tracklet-rules.js';
 
 /**
  * Notice format v1 (DESIGN.md): the schema, its ranges and the checks that
@@ -7,7 +9,12 @@ import { toValidationIssues, type ValidationIssue } from '../config/issues.js';
  */
 
 export const NOTICE_FORMAT = 'nightjar.notice.v1';
-export const MAX_OBSERVATIONS = 2000;
+/**
+ * Positions in one notice: an intake limit on what one assessment is given
+ * (README "Intake limits" gives the reasons; the object-wide limits are in
+ * tracklet-rules.ts).
+ */
+export const MAX_OBSERVATIONS = 100;
 export const MIN_OBSERVATIONS = 2;
 export const MIN_ARC_MINUTES = 10;
 /** Notices with times before this are refused: no survey astrometry of interest is older. */
@@ -21,6 +28,7 @@ const text = (max: number) =>
     .string()
     .min(1)
     .max(max)
+    .refine(isWellFormedText, 'must be well-formed Unicode (no lone surrogates)')
     .refine((s) => !CONTROL_CHARS.test(s), 'must not contain control characters')
     .refine((s) => s.length === 0 || s.trim().length > 0, 'must not be blank');
 
@@ -69,13 +77,22 @@ export const noticeOrbitSchema = z
   })
   .strict();
 
+/** Names another sender's designation as the same object: this notice's designation then joins that object. */
+export const noticeLinkSchema = z
+  .object({
+    sender: identifier(SENDER_RULE),
+    objectId: identifier(DESIGNATION_RULE),
+  })
+  .strict();
+
 const noticeShape = z
   .object({
     format: z.literal(NOTICE_FORMAT, { message: `expected "${NOTICE_FORMAT}"` }),
-    noticeId: text(128),
-    objectId: text(64),
+    noticeId: identifier(NOTICE_ID_RULE),
+    objectId: identifier(DESIGNATION_RULE),
     issuedAt: isoInstant(),
-    sender: text(200),
+    sender: identifier(SENDER_RULE),
+    linkedTo: noticeLinkSchema.optional(),
     observer: noticeObserverSchema,
     observations: z.array(observationSchema).max(MAX_OBSERVATIONS).optional(),
     orbit: noticeOrbitSchema.optional(),
@@ -149,6 +166,9 @@ function crossFieldIssues(notice: Notice, options: ParseNoticeOptions): Validati
       });
     }
   }
+  const positions = rulePositions(notice);
+  issues.push(...mergedTrackletIssues([], positions, 'the notice'));
+  issues.push(...sameTimeConflicts([], positions, (k) => `observations[${k}]`));
   if (options.checkAge) {
     const latest = options.now.getTime() + (options.futureToleranceMin ?? 5) * 60_000;
     const earliest = Date.parse(EARLIEST_TIME);
@@ -180,6 +200,23 @@ export function noticeIdentity(raw: unknown): { sender: string | null; noticeId:
     return typeof value === 'string' ? value.slice(0, 200) : null;
   };
   return { sender: get('sender'), noticeId: get('noticeId'), objectId: get('objectId') };
+}
+
+/** A notice's positions as the tracklet rules see them, each labelled by its index. */
+export function rulePositions(notice: Notice): RulePosition[] {
+  return (notice.observations ?? []).map((o, k) => {
+    const observer = observerOf(notice, o);
+    return {
+      t: o.t,
+      raDeg: o.ra,
+      decDeg: o.dec,
+      sigmaArcsec: o.sigma,
+      obsLatDeg: observer.lat,
+      obsLonDeg: observer.lon,
+      obsHeightM: observer.height,
+      label: `observations[${k}]`,
+    };
+  });
 }
 
 /** The observer of one observation: its own override, else the notice's. */

@@ -64,7 +64,12 @@ export function createAssessmentRunner(deps: RunnerDeps) {
 
   async function assessOne(objectId: string): Promise<void> {
     const object = store.objects.getObject(objectId);
-    if (!object || object.state === 'retracted') return handleRetracted(objectId);
+    if (!object) {
+      store.work.fail(objectId, `no object ${objectId} in the store`, clock(), 1);
+      deps.log?.warn({ objectId }, 'work item for an unknown object: failed');
+      return;
+    }
+    if (object.state === 'retracted') return handleRetracted(objectId);
     const started = clock();
     const t0 = performance.now();
     let output: AssessOutput;
@@ -153,9 +158,7 @@ export function createAssessmentRunner(deps: RunnerDeps) {
     },
     /** Puts every active object back on the work queue (time moves; windows and scores change). */
     enqueueActive(): number {
-      const ids = store.objects.activeIds();
-      store.work.enqueueIdle(ids, clock());
-      return ids.length;
+      return store.work.enqueueAllActive(clock());
     },
   };
 }

@@ -27,10 +27,32 @@ export function intakeJobs(deps: IntakeJobDeps): JobSpec[] {
       schedule: inbox.schedule,
       run: () => {
         const now = clock();
-        const outcomes = processInbox(intake, inbox.path, now, inbox.settleMs);
+        let outcomes;
+        try {
+          outcomes = processInbox(intake, inbox.path, now, inbox.settleMs, store.sources);
+        } catch (err) {
+          // The folder itself cannot be read: shown in /readyz, tried again at the next scan.
+          const error = `inbox ${inbox.path}: ${err instanceof Error ? err.message : String(err)}`;
+          store.sources.recordFailure('inbox', now, error, null);
+          log.warn({ inbox: inbox.path, error }, 'inbox scan failed');
+          return;
+        }
         const all = outcomes.flatMap((o) => o.results);
-        store.sources.recordSuccess('inbox', now, { noticesSeen: all.length });
-        for (const o of outcomes) log.info({ file: o.file, movedTo: o.movedTo, ...summarise(o.results) }, 'inbox file read');
+        const counts = summarise(all);
+        const failed = outcomes.filter((o) => o.failure);
+        if (failed.length > 0) {
+          const first = failed[0]!;
+          store.sources.recordFailure('inbox', now, `${failed.length} file(s) failed, e.g. ${first.file}: ${first.failure!.error}`, null, {
+            noticesSeen: all.length,
+            noticesRejected: counts.rejected,
+          });
+        } else store.sources.recordSuccess('inbox', now, { noticesSeen: all.length, noticesRejected: counts.rejected });
+        for (const o of outcomes) {
+          if (o.failure) {
+            deps.metrics?.inboxFileFailures.inc();
+            log.warn({ file: o.file, movedTo: o.movedTo, attempts: o.failure.attempts, error: o.failure.error }, o.movedTo ? 'inbox file failed again: moved to rejected/' : 'inbox file failed: tried again at the next scan');
+          } else log.info({ file: o.file, movedTo: o.movedTo, ...summarise(o.results) }, 'inbox file read');
+        }
       },
     },
   ];

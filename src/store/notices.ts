@@ -1,4 +1,5 @@
 import type { Db } from './database.js';
+import type { StoredObservation } from './objects.js';
 
 /** An observation row ready to store (degrees, arcsec, metres; ISO UTC time). */
 export interface ObservationInput {
@@ -15,11 +16,22 @@ export interface ObservationInput {
   heldReason?: string | null;
 }
 
+/** Another sender's designation named as the same object (an explicit link). */
+export interface NameLink {
+  sender: string;
+  designation: string;
+}
+
 /** A validated notice, flattened for storage. */
 export interface NoticeInput {
   sender: string;
   noticeId: string;
+  /** The sender's designation; with `sender` it names the object. */
   objectId: string;
+  /** The notice names another sender's designation as the same object: its own name then joins that object. */
+  link?: NameLink | null;
+  /** Merge into this object row whatever the names say (the service's own notices, e.g. astrometry reported with an outcome). */
+  intoObject?: string | null;
   source: string;
   receivedAt: string;
   issuedAt: string;
@@ -31,8 +43,16 @@ export interface NoticeInput {
 }
 
 export type RecordNoticeResult =
-  | { status: 'accepted'; noticeRow: number; observationsAdded: number; objectState: ObjectState; queued: boolean; revived: boolean }
-  | { status: 'duplicate'; noticeRow: number; sameContent: boolean };
+  | { status: 'accepted'; noticeRow: number; objectId: string; observationsAdded: number; objectState: ObjectState; queued: boolean; revived: boolean }
+  | { status: 'duplicate'; noticeRow: number; objectId: string; sameContent: boolean }
+  | { status: 'refused'; issues: { path: string; message: string }[] };
+
+/**
+ * Checks a notice against the object it would merge into before anything is
+ * written: `stored` is the object's tracklet so far (empty for a new object).
+ * Returns the reasons to refuse it; none to go on.
+ */
+export type MergeVetting = (stored: readonly StoredObservation[], objectId: string, isNew: boolean) => { path: string; message: string }[];
 
 export type ObjectState = 'active' | 'retracted' | 'retired';
 
@@ -93,16 +113,23 @@ export function createNoticeStore(db: Db) {
     VALUES (@sender, @noticeId, @objectId, @source, @receivedAt, @issuedAt, @raw, @kind, 'received')`);
   const markMerged = db.prepare(`UPDATE notices SET state = 'merged', observations_added = ? WHERE id = ?`);
   const getObject = db.prepare(`SELECT state, retracted_at AS retractedAt FROM objects WHERE id = ?`);
-  const insertObject = db.prepare(`INSERT INTO objects (id, state, first_notice_at, last_notice_at, retraction_reason, retracted_at, orbit)
-    VALUES (?, ?, ?, ?, ?, ?, ?)`);
+  const objectExists = db.prepare(`SELECT 1 FROM objects WHERE id = ?`);
+  const insertObject = db.prepare(`INSERT INTO objects (id, sender, designation, state, first_notice_at, last_notice_at, retraction_reason, retracted_at, orbit)
+    VALUES (@id, @sender, @designation, @state, @at, @at, @reason, @retractedAt, @orbit)`);
+  const nameOf = db.prepare(`SELECT object_id AS objectId FROM object_names WHERE sender = ? AND designation = ?`);
+  const insertName = db.prepare(`INSERT INTO object_names (sender, designation, object_id, named_at, link) VALUES (?, ?, ?, ?, ?)`);
   const touchObject = db.prepare(`UPDATE objects SET last_notice_at = ?, orbit = COALESCE(?, orbit) WHERE id = ?`);
   const retractObject = db.prepare(`UPDATE objects SET state = 'retracted', retraction_reason = ?, retracted_at = ?, last_notice_at = ? WHERE id = ?`);
   const reviveObject = db.prepare(`UPDATE objects SET state = 'active', retraction_reason = NULL, retracted_at = NULL, retired_reason = NULL WHERE id = ?`);
+  const observationsOf = db.prepare(`SELECT id, notice_row AS noticeRow, t, ra_deg AS raDeg, dec_deg AS decDeg,
+    sigma_arcsec AS sigmaArcsec, mag, band, obs_lat_deg AS obsLatDeg, obs_lon_deg AS obsLonDeg, obs_height_m AS obsHeightM
+    FROM observations WHERE object_id = ? ORDER BY t, id`);
   const insertObservation = db.prepare(`INSERT OR IGNORE INTO observations
     (object_id, notice_row, t, ra_deg, dec_deg, sigma_arcsec, mag, band, obs_lat_deg, obs_lon_deg, obs_height_m, held_reason)
     VALUES (@objectId, @noticeRow, @t, @raDeg, @decDeg, @sigmaArcsec, @mag, @band, @obsLatDeg, @obsLonDeg, @obsHeightM, @heldReason)`);
-  const senderKnows = db.prepare(`SELECT 1 AS known FROM notices n JOIN objects o ON o.id = n.object_id
-    WHERE n.sender = ? AND n.object_id = ? AND n.kind = 'observations'
+  const senderKnows = db.prepare(`SELECT 1 AS known FROM object_names nm JOIN objects o ON o.id = nm.object_id
+    WHERE nm.sender = ? AND nm.designation = ?
+      AND EXISTS (SELECT 1 FROM notices n WHERE n.sender = nm.sender AND n.object_id = o.id AND n.kind = 'observations')
       AND (o.orbit IS NOT NULL OR EXISTS (SELECT 1 FROM observations b WHERE b.object_id = o.id)) LIMIT 1`);
   const enqueue = db.prepare(`INSERT INTO work (object_id, state, attempts, enqueued_at, updated_at) VALUES (?, 'waiting', 0, ?, ?)
     ON CONFLICT (object_id) DO UPDATE SET state = 'waiting', attempts = CASE WHEN work.state = 'running' THEN work.attempts ELSE 0 END,
@@ -110,53 +137,119 @@ export function createNoticeStore(db: Db) {
   const insertRejection = db.prepare(`INSERT INTO rejections (source, received_at, sender, notice_id, raw, reasons)
     VALUES (?, ?, ?, ?, ?, ?)`);
 
-  const record = db.transaction((input: NoticeInput): RecordNoticeResult => {
+  /** A free object id for a new sender's designation: the designation itself, else the designation with ~2, ~3, ... */
+  function freeObjectId(designation: string): string {
+    if (!objectExists.get(designation)) return designation;
+    for (let k = 2; ; k++) {
+      const candidate = `${designation}~${k}`;
+      if (!objectExists.get(candidate)) return candidate;
+    }
+  }
+
+  type Resolved =
+    | { ok: true; objectId: string; isNew: boolean; newName: { link: NameLink | null } | null }
+    | { ok: false; issues: { path: string; message: string }[] };
+
+  /** Which object a notice's sender and designation (and link) lead to; nothing is written. */
+  function resolve(input: NoticeInput): Resolved {
+    if (input.intoObject) {
+      if (!objectExists.get(input.intoObject)) return { ok: false, issues: [{ path: 'objectId', message: `no object ${input.intoObject}` }] };
+      return { ok: true, objectId: input.intoObject, isNew: false, newName: null };
+    }
+    const own = nameOf.get(input.sender, input.objectId) as { objectId: string } | undefined;
+    const link = input.link ?? null;
+    if (link) {
+      const target = nameOf.get(link.sender, link.designation) as { objectId: string } | undefined;
+      if (!target)
+        return { ok: false, issues: [{ path: 'linkedTo', message: `no object is known as "${link.designation}" from sender "${link.sender}"; a link names an object already received` }] };
+      if (own && own.objectId !== target.objectId)
+        return {
+          ok: false,
+          issues: [
+            {
+              path: 'linkedTo',
+              message: `"${input.objectId}" from sender "${input.sender}" already names object ${own.objectId}, not ${target.objectId}; a link joins a designation not yet used to a known object`,
+            },
+          ],
+        };
+      return { ok: true, objectId: target.objectId, isNew: false, newName: own ? null : { link } };
+    }
+    if (own) return { ok: true, objectId: own.objectId, isNew: false, newName: null };
+    return { ok: true, objectId: freeObjectId(input.objectId), isNew: true, newName: { link: null } };
+  }
+
+  const record = db.transaction((input: NoticeInput, vet: MergeVetting | undefined): RecordNoticeResult => {
     const existing = findByKey.get(input.sender, input.noticeId) as NoticeRow | undefined;
-    if (existing) return { status: 'duplicate', noticeRow: existing.id, sameContent: existing.raw === input.raw };
-    const noticeRow = Number(insertNotice.run(input).lastInsertRowid);
-    const object = getObject.get(input.objectId) as { state: ObjectState; retractedAt: string | null } | undefined;
-    let revived = false;
-    let objectState: ObjectState;
-    if (input.kind === 'retraction') {
-      if (object) retractObject.run(input.retractionReason, input.issuedAt, input.receivedAt, input.objectId);
-      else insertObject.run(input.objectId, 'retracted', input.receivedAt, input.receivedAt, input.retractionReason, input.issuedAt, input.orbitJson);
+    if (existing) return { status: 'duplicate', noticeRow: existing.id, objectId: existing.objectId, sameContent: existing.raw === input.raw };
+    const resolved = resolve(input);
+    if (!resolved.ok) return { status: 'refused', issues: resolved.issues };
+    const objectId = resolved.objectId;
+    if (vet) {
+      const issues = vet(resolved.isNew ? [] : (observationsOf.all(objectId) as StoredObservation[]), objectId, resolved.isNew);
+      if (issues.length > 0) return { status: 'refused', issues };
+    }
+    const noticeRow = Number(insertNotice.run({ ...input, objectId }).lastInsertRowid);
+    const object = getObject.get(objectId) as { state: ObjectState; retractedAt: string | null } | undefined;
+    const retraction = input.kind === 'retraction';
+    if (!object) {
+      insertObject.run({
+        id: objectId,
+        sender: input.sender,
+        designation: input.objectId,
+        state: retraction ? 'retracted' : 'active',
+        at: input.receivedAt,
+        reason: retraction ? input.retractionReason : null,
+        retractedAt: retraction ? input.issuedAt : null,
+        orbit: input.orbitJson,
+      });
+    }
+    if (resolved.newName) {
+      const link = resolved.newName.link;
+      insertName.run(input.sender, input.objectId, objectId, input.receivedAt, link ? JSON.stringify(link) : null);
+    }
+    if (retraction) {
+      if (object) retractObject.run(input.retractionReason, input.issuedAt, input.receivedAt, objectId);
       // The object stays on the work queue so the assessment runner withdraws its queued requests and announces it.
-      enqueue.run(input.objectId, input.receivedAt, input.receivedAt);
+      enqueue.run(objectId, input.receivedAt, input.receivedAt);
       markMerged.run(0, noticeRow);
       // Nothing is queued for observation: the work item only withdraws the object's requests.
-      return { status: 'accepted', noticeRow, observationsAdded: 0, objectState: 'retracted', queued: false, revived: false };
+      return { status: 'accepted', noticeRow, objectId, observationsAdded: 0, objectState: 'retracted', queued: false, revived: false };
     }
-    if (!object) {
-      insertObject.run(input.objectId, 'active', input.receivedAt, input.receivedAt, null, null, input.orbitJson);
-      objectState = 'active';
-    } else {
-      touchObject.run(input.receivedAt, input.orbitJson, input.objectId);
+    let revived = false;
+    let objectState: ObjectState = 'active';
+    if (object) {
+      touchObject.run(input.receivedAt, input.orbitJson, objectId);
       objectState = object.state;
       // A notice issued after the retraction brings the object back; an older one arriving late does not.
       if (object.state === 'retracted' && object.retractedAt !== null && input.issuedAt > object.retractedAt) {
-        reviveObject.run(input.objectId);
+        reviveObject.run(objectId);
         objectState = 'active';
         revived = true;
       } else if (object.state === 'retired') {
-        reviveObject.run(input.objectId);
+        reviveObject.run(objectId);
         objectState = 'active';
         revived = true;
       }
     }
     let added = 0;
     for (const obs of input.observations) {
-      added += insertObservation.run({ ...obs, heldReason: obs.heldReason ?? null, objectId: input.objectId, noticeRow }).changes;
+      added += insertObservation.run({ ...obs, heldReason: obs.heldReason ?? null, objectId, noticeRow }).changes;
     }
     markMerged.run(added, noticeRow);
     const queued = objectState === 'active' && (added > 0 || input.orbitJson !== null || revived || !object);
-    if (queued) enqueue.run(input.objectId, input.receivedAt, input.receivedAt);
-    return { status: 'accepted', noticeRow, observationsAdded: added, objectState, queued, revived };
+    if (queued) enqueue.run(objectId, input.receivedAt, input.receivedAt);
+    return { status: 'accepted', noticeRow, objectId, observationsAdded: added, objectState, queued, revived };
   });
 
   return {
-    /** Stores a validated notice and merges it into its object, all in one transaction; idempotent on (sender, noticeId). */
-    recordNotice(input: NoticeInput): RecordNoticeResult {
-      return record.immediate(input);
+    /**
+     * Stores a validated notice and merges it into its object (the sender's
+     * designation, or the object a link names), all in one transaction;
+     * idempotent on (sender, noticeId). `vet` may refuse it against the
+     * object's stored tracklet; a refused notice writes nothing.
+     */
+    recordNotice(input: NoticeInput, vet?: MergeVetting): RecordNoticeResult {
+      return record.immediate(input, vet);
     },
     /** Keeps a rejected payload with every reason. */
     recordRejection(input: RejectionInput): number {
@@ -165,9 +258,9 @@ export function createNoticeStore(db: Db) {
           .lastInsertRowid,
       );
     },
-    /** True when this sender has already sent observations of this object and the service holds positions or an orbit for it. */
-    senderKnowsObject(sender: string, objectId: string): boolean {
-      return senderKnows.get(sender, objectId) !== undefined;
+    /** True when this sender's designation names an object it has sent observations of, and the service holds positions or an orbit for it. */
+    senderKnowsObject(sender: string, designation: string): boolean {
+      return senderKnows.get(sender, designation) !== undefined;
     },
     findNotice(sender: string, noticeId: string): NoticeRow | null {
       return (findByKey.get(sender, noticeId) as NoticeRow | undefined) ?? null;

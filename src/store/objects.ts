@@ -1,8 +1,23 @@
 import type { Db } from './database.js';
 import type { ObjectState, ObservationInput } from './notices.js';
 
+/** Why an object's last assessment or on-demand estimate failed (null after a success). */
+export interface ObjectFailure {
+  /** timeout: ran over its time limit; crashed: its worker thread stopped; error: it failed. */
+  kind: 'timeout' | 'crashed' | 'error';
+  stage: 'assessment' | 'estimate';
+  message: string;
+  at: string;
+  /** The tracklet and orbit block it was computed from (see dataKey): a timeout is not retried on the same data. */
+  dataKey: string;
+}
+
 export interface ObjectRow {
+  /** The object's one id (requests, work, assessments and the API use it): its first sender's designation, with ~N when another object had it. */
   id: string;
+  /** The sender and designation that named it first. */
+  sender: string;
+  designation: string;
   state: ObjectState;
   firstNoticeAt: string;
   lastNoticeAt: string;
@@ -10,6 +25,15 @@ export interface ObjectRow {
   retractedAt: string | null;
   orbit: string | null;
   retiredReason: string | null;
+  failure: ObjectFailure | null;
+}
+
+/** Another sender's designation that leads to the same object (by an explicit link). */
+export interface ObjectName {
+  sender: string;
+  designation: string;
+  namedAt: string;
+  link: { sender: string; designation: string } | null;
 }
 
 /** One observation of a tracklet with its observer, in the estimator's shape. */
@@ -36,8 +60,15 @@ export type ConfirmResult =
   | { status: 'not_found' }
   | { status: 'not_held'; observation: StoredObservation };
 
-const OBJECT_COLUMNS = `id, state, first_notice_at AS firstNoticeAt, last_notice_at AS lastNoticeAt,
-  retraction_reason AS retractionReason, retracted_at AS retractedAt, orbit, retired_reason AS retiredReason`;
+const OBJECT_COLUMNS = `id, sender, designation, state, first_notice_at AS firstNoticeAt, last_notice_at AS lastNoticeAt,
+  retraction_reason AS retractionReason, retracted_at AS retractedAt, orbit, retired_reason AS retiredReason, failure`;
+
+type RawObjectRow = Omit<ObjectRow, 'failure'> & { failure: string | null };
+
+function objectRow(raw: RawObjectRow | undefined): ObjectRow | null {
+  if (!raw) return null;
+  return { ...raw, failure: raw.failure ? (JSON.parse(raw.failure) as ObjectFailure) : null };
+}
 
 /** Objects and their merged, deduplicated tracklets. */
 export function createObjectStore(db: Db) {
@@ -51,7 +82,39 @@ export function createObjectStore(db: Db) {
   const observationById = db.prepare(`SELECT ${OBSERVATION_COLUMNS} FROM observations WHERE object_id = ? AND id = ?`);
   return {
     getObject(id: string): ObjectRow | null {
-      return (byId.get(id) as ObjectRow | undefined) ?? null;
+      return objectRow(byId.get(id) as RawObjectRow | undefined);
+    },
+    /** The object a sender's designation leads to (its own name or a linked one), or null. */
+    objectIdFor(sender: string, designation: string): string | null {
+      const row = db.prepare(`SELECT object_id AS objectId FROM object_names WHERE sender = ? AND designation = ?`).get(sender, designation) as
+        | { objectId: string }
+        | undefined;
+      return row?.objectId ?? null;
+    },
+    /** Every sender's designation that leads to the object, oldest first. */
+    names(objectId: string): ObjectName[] {
+      const rows = db
+        .prepare(`SELECT sender, designation, named_at AS namedAt, link FROM object_names WHERE object_id = ? ORDER BY named_at, rowid`)
+        .all(objectId) as (Omit<ObjectName, 'link'> & { link: string | null })[];
+      return rows.map((r) => ({ ...r, link: r.link ? (JSON.parse(r.link) as ObjectName['link']) : null }));
+    },
+    /** Records why the object's assessment or estimate failed (shown with the object; a timeout is not retried on the same data). */
+    recordFailure(objectId: string, failure: ObjectFailure): void {
+      db.prepare(`UPDATE objects SET failure = ? WHERE id = ?`).run(JSON.stringify(failure), objectId);
+    },
+    /** Clears the failure after a successful assessment. */
+    clearFailure(objectId: string): void {
+      db.prepare(`UPDATE objects SET failure = NULL WHERE id = ? AND failure IS NOT NULL`).run(objectId);
+    },
+    /**
+     * What an object's estimate is computed from, as a short key: the number of
+     * positions, the last one's time and the orbit block. It changes whenever a
+     * notice adds positions or an orbit block.
+     */
+    dataKey(objectId: string): string {
+      const row = db.prepare(`SELECT count(*) AS n, max(t) AS last FROM observations WHERE object_id = ?`).get(objectId) as { n: number; last: string | null };
+      const orbit = (db.prepare(`SELECT orbit FROM objects WHERE id = ?`).get(objectId) as { orbit: string | null } | undefined)?.orbit ?? null;
+      return `${row.n}|${row.last ?? ''}|${orbit ?? ''}`;
     },
     /** Ordered by id; `afterId` is the cursor. */
     listObjects(options: { afterId?: string; limit: number; state?: ObjectState }): ObjectRow[] {
@@ -59,17 +122,15 @@ export function createObjectStore(db: Db) {
       const args: string[] = [];
       if (options.afterId !== undefined) (where.push('id > ?'), args.push(options.afterId));
       if (options.state !== undefined) (where.push('state = ?'), args.push(options.state));
-      return db
-        .prepare(`SELECT ${OBJECT_COLUMNS} FROM objects ${where.length ? `WHERE ${where.join(' AND ')}` : ''} ORDER BY id LIMIT ?`)
-        .all(...args, options.limit) as ObjectRow[];
+      return (
+        db
+          .prepare(`SELECT ${OBJECT_COLUMNS} FROM objects ${where.length ? `WHERE ${where.join(' AND ')}` : ''} ORDER BY id LIMIT ?`)
+          .all(...args, options.limit) as RawObjectRow[]
+      ).map((r) => objectRow(r)!);
     },
     /** An active object with no future window anywhere is retired; a new notice brings it back. */
     retire(objectId: string, reason: string): boolean {
       return db.prepare(`UPDATE objects SET state = 'retired', retired_reason = ? WHERE id = ? AND state = 'active'`).run(reason, objectId).changes === 1;
-    },
-    /** Active objects, for the periodic replan. */
-    activeIds(): string[] {
-      return (db.prepare(`SELECT id FROM objects WHERE state = 'active' ORDER BY id`).all() as { id: string }[]).map((r) => r.id);
     },
     /**
      * The tracklet in time order as the orbit estimator takes it (degrees, arcsec, metres): every
@@ -88,7 +149,7 @@ export function createObjectStore(db: Db) {
     },
     /** The object's orbit block (from the latest notice that had one), parsed. */
     orbitBlock(objectId: string): Record<string, unknown> | null {
-      const row = byId.get(objectId) as ObjectRow | undefined;
+      const row = byId.get(objectId) as RawObjectRow | undefined;
       return row?.orbit ? (JSON.parse(row.orbit) as Record<string, unknown>) : null;
     },
     /** Every stored position of the object in time order, held ones included. */

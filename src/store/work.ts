@@ -43,6 +43,19 @@ export function createWorkStore(db: Db) {
         updated_at = excluded.updated_at WHERE work.state IN ('done', 'failed')`);
       for (const id of objectIds) stmt.run(id, now.toISOString(), now.toISOString());
     }),
+    /**
+     * Puts every active object back on the queue unless it is already waiting or
+     * running (the periodic replan), in SQL alone, so no id takes a round trip
+     * through the API's strings. Returns how many active objects there are.
+     */
+    enqueueAllActive(now: Date): number {
+      const at = now.toISOString();
+      db.prepare(`INSERT INTO work (object_id, state, attempts, enqueued_at, updated_at)
+        SELECT id, 'waiting', 0, @at, @at FROM objects WHERE state = 'active' ORDER BY id
+        ON CONFLICT (object_id) DO UPDATE SET state = 'waiting', attempts = 0, last_error = NULL, enqueued_at = excluded.enqueued_at,
+        updated_at = excluded.updated_at WHERE work.state IN ('done', 'failed')`).run({ at });
+      return (db.prepare(`SELECT count(*) AS n FROM objects WHERE state = 'active'`).get() as { n: number }).n;
+    },
     /** After a crash, items left `running` are waiting again. */
     requeueRunning(now: Date): number {
       return db.prepare(`UPDATE work SET state = 'waiting', updated_at = ? WHERE state = 'running'`).run(now.toISOString()).changes;

@@ -106,7 +106,8 @@ export function createServiceMetrics() {
     registry,
     noticesReceived: registry.counter('nightjar_notices_received_total', 'Notices received, by source kind and result.'),
     leaseConflicts: registry.counter('nightjar_lease_conflicts_total', 'Lease attempts refused because another holder has the request.'),
-    pollFailures: registry.counter('nightjar_feed_poll_failures_total', 'Failed feed polls, by feed.'),
+    pollFailures: registry.counter('nightjar_feed_poll_failures_total', 'Failed feed polls (no answer, a bad answer, or no valid notice in it), by feed.'),
+    inboxFileFailures: registry.counter('nightjar_inbox_file_failures_total', 'Failed attempts at reading an inbox file.'),
     assessmentSeconds: registry.histogram('nightjar_assessment_seconds', 'Time to assess one object (orbit, planning, store), seconds.', [
       0.05, 0.1, 0.25, 0.5, 1, 2, 5, 10, 30,
     ]),

@@ -74,7 +74,7 @@ describe('feed faults', () => {
     hang.get('/feed', async () => new Promise(() => {}));
     const hangUrl = `${await hang.listen({ host: '127.0.0.1', port: 0 })}/feed`;
     closers.push(() => hang.close());
-    const second = await serviceWithFeed(hangUrl);
+    const second = await serviceWithFeed(hangUrl, 300);
     await second.poll.run();
     expect(second.store.sources.get('feed:survey')?.lastError).toBe('timed out after 300 ms');
   });

@@ -248,7 +248,7 @@ describe('queue and leases', () => {
     expect(res.statusCode).toBe(200);
     expect(res.json().notice).toMatchObject({ status: 'accepted', observationsAdded: 2 });
     expect(res.json().positions.map((p: { t: string; held: boolean }) => [p.t, p.held])).toEqual([[at(20), false], [at(25), false]]);
-    const notice = store.notices.findNotice('site:lantern-ridge', `outcome-${ids[0]}`);
+    const notice = store.notices.findNotice('site:lantern-ridge', `outcome-${ids[0]}-astrometry`);
     expect(notice?.objectId).toBe('ZX27A01');
     expect(store.objects.observations('ZX27A01')[0]).toMatchObject({ obsLatDeg: 34.21, obsLonDeg: -107.62, obsHeightM: 2310 });
     expect(store.work.get('ZX27A01')?.state).toBe('waiting');
@@ -380,9 +380,9 @@ describe('service documents', () => {
     const built = await buildTestApp({ clock, config });
     app = built.app;
     const codes: number[] = [];
-    for (let k = 0; k < 7; k++) codes.push((await app.inject({ url: '/healthz', headers: auth(DEMO_TOKENS.reader) })).statusCode);
+    for (let k = 0; k < 7; k++) codes.push((await app.inject({ url: '/v1/objects', headers: auth(DEMO_TOKENS.reader) })).statusCode);
     expect(codes).toEqual([200, 200, 200, 200, 200, 429, 429]);
-    const other = await app.inject({ url: '/healthz', headers: auth(DEMO_TOKENS.scheduler) });
+    const other = await app.inject({ url: '/v1/objects', headers: auth(DEMO_TOKENS.scheduler) });
     expect(other.statusCode).toBe(200);
   });
 });

@@ -3,6 +3,7 @@ import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { createIntake } from '../../src/intake/ingest.js';
 import { processInbox } from '../../src/intake/inbox.js';
+import { MAX_OBSERVATIONS } from '../../src/intake/notice.js';
 import { buildTestApp, DEMO_TOKENS, demoConfig, exampleNotice, fixedClock, memoryStore, tempDir } from '../helpers.js';
 
 const CORPUS = join(import.meta.dirname, '..', 'fixtures', 'bad-notices');
@@ -36,7 +37,7 @@ describe('the bad-notice corpus', () => {
       copyFileSync(join(CORPUS, f), join(inbox, f));
       utimesSync(join(inbox, f), new Date('2027-03-04T05:00:00Z'), new Date('2027-03-04T05:00:00Z'));
     }
-    const outcomes = processInbox(intake, inbox, new Date(NOW), 3000);
+    const outcomes = processInbox(intake, inbox, new Date(NOW), 3000, store.sources);
     expect(outcomes).toHaveLength(files.length);
     for (const o of outcomes) {
       expect(o.movedTo, o.file).toMatch(/^rejected\//);
@@ -86,10 +87,10 @@ describe('the bad-notice corpus', () => {
     const one = (exampleNotice()['observations'] as unknown[])[0];
     writeFileSync(join(inbox, 'flood.json'), JSON.stringify(exampleNotice({ observations: Array.from({ length: 100_000 }, () => one) })));
     utimesSync(join(inbox, 'flood.json'), new Date('2027-03-04T05:00:00Z'), new Date('2027-03-04T05:00:00Z'));
-    const [outcome] = processInbox(intake, inbox, new Date(NOW), 3000);
+    const [outcome] = processInbox(intake, inbox, new Date(NOW), 3000, store.sources);
     expect(outcome?.movedTo).toMatch(/^rejected\//);
     const reasons = outcome!.results.flatMap((r) => (r.status === 'rejected' ? r.reasons : []));
-    expect(reasons).toContainEqual({ path: 'observations', message: 'expected at most 2000 items' });
+    expect(reasons).toContainEqual({ path: 'observations', message: `expected at most ${MAX_OBSERVATIONS} items` });
   });
 
   it('answers 100 000 observations over POST with 413 under the default body limit', async () => {

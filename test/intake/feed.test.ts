@@ -81,10 +81,10 @@ describe('feed polling', () => {
     expect(await pollFeed(feed(url, { timeoutMs: 200 }), deps)).toMatchObject({ status: 'failed', error: 'timed out after 200 ms' });
   });
 
-  it('keeps garbage from a feed as a rejection', async () => {
+  it('keeps garbage from a feed as a rejection and counts the poll as failed', async () => {
     const url = await serveFeed(async (_req, reply) => reply.type('application/json').send('<html>oops'));
     const { store, deps } = setup();
-    expect(await pollFeed(feed(url), deps)).toMatchObject({ status: 'fetched', rejected: 1 });
+    expect(await pollFeed(feed(url), deps)).toMatchObject({ status: 'failed', consecutiveFailures: 1 });
     expect(store.notices.counts().rejections).toBe(1);
   });
 

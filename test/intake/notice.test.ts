@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { parseNotice } from '../../src/intake/notice.js';
+import { DESIGNATION_RULE, SENDER_RULE } from '../../src/intake/identifiers.js';
+import { MAX_OBSERVATIONS, parseNotice } from '../../src/intake/notice.js';
 import { exampleNotice } from '../helpers.js';
 
 const NOW = new Date('2027-03-04T06:00:00Z');
@@ -47,9 +48,9 @@ describe('notice v1', () => {
     ['observer longitude', { observer: { lat: 0, lon: 181, height: 0 } }, 'observer.lon: expected a number <= 180'],
     ['observer height', { observer: { lat: 0, lon: 0, height: 20000 } }, 'observer.height: expected a number <= 10000'],
     ['format', { format: 'nightjar.notice.v0' }, 'format: expected "nightjar.notice.v1"'],
-    ['an empty sender', { sender: '' }, 'sender: must not be empty'],
-    ['a very long objectId', { objectId: 'X'.repeat(65) }, 'objectId: expected a string of at most 64 characters'],
-    ['a control character', { sender: 'bad\u0007sender' }, 'sender: must not contain control characters'],
+    ['an empty sender', { sender: '' }, `sender: is empty; expected ${SENDER_RULE.rule}`],
+    ['a very long objectId', { objectId: 'X'.repeat(65) }, `objectId: has 65 characters; expected ${DESIGNATION_RULE.rule}`],
+    ['a control character', { sender: 'bad\u0007sender' }, `sender: contains U+0007 at position 3, which is not allowed; expected ${SENDER_RULE.rule}`],
     ['an unknown field', { extra: 1 }, '(root): unknown field(s): extra'],
   ])('rejects a bad %s, naming the field', (_label, patch, expected) => {
     expect(reasons(exampleNotice(patch))).toEqual([expected]);
@@ -125,8 +126,8 @@ describe('notice v1', () => {
   it('rejects too many observations', () => {
     const n = exampleNotice();
     const one = (n['observations'] as unknown[])[0];
-    n['observations'] = Array.from({ length: 2001 }, () => one);
-    expect(reasons(n)[0]).toBe('observations: expected at most 2000 items');
+    n['observations'] = Array.from({ length: MAX_OBSERVATIONS + 1 }, () => one);
+    expect(reasons(n)[0]).toBe(`observations: expected at most ${MAX_OBSERVATIONS} items`);
   });
 
   it('rejects NaN and Infinity smuggled in as numbers', () => {

@@ -1,5 +1,6 @@
 import { z } from 'zod';
 import { summarise } from '../../intake/ingest.js';
+import { looksLikeNdjson } from '../../intake/payload.js';
 import type { ApiContext } from '../context.js';
 import { ApiError } from '../errors.js';
 import { defineRoute, type AnyRouteSpec } from '../route-spec.js';
@@ -60,7 +61,7 @@ export function noticeRoutes(ctx: ApiContext): AnyRouteSpec[] {
       method: 'POST',
       url: '/v1/notices',
       tag: 'notices',
-      summary: 'Submit discovery notices (one, an array, or NDJSON)',
+      summary: 'Submit discovery notices (one, an array, or NDJSON as application/ndjson)',
       description:
         'Each notice is validated (format nightjar.notice.v1) and stored, or kept as a rejection with every reason. The same sender and noticeId is stored once. 202 when at least one notice was accepted or was a duplicate, 422 when every notice was rejected.',
       role: 'feeder',
@@ -70,13 +71,16 @@ export function noticeRoutes(ctx: ApiContext): AnyRouteSpec[] {
         401: { description: 'no or unknown token', schema: errorSchema },
         403: { description: 'token without the feeder role', schema: errorSchema },
         413: { description: 'body over the size limit', schema: errorSchema },
+        415: { description: 'a media type other than application/json, application/ndjson, application/x-ndjson or text/plain', schema: errorSchema },
         422: { description: 'every notice rejected; the reasons are in results', schema: intakeAnswer },
       },
       handler: async ({ request, reply, caller }) => {
-        const text = typeof request.body === 'string' ? request.body : '';
+        const body = Buffer.isBuffer(request.body) ? request.body : Buffer.from(typeof request.body === 'string' ? request.body : '');
         const source = `http:${caller?.name ?? 'unknown'}`;
         const contentType = String(request.headers['content-type'] ?? '');
-        const results = contentType.includes('ndjson') ? intake.ingestNdjson(text, source) : intake.ingestJson(text, source);
+        // NDJSON by its media type; text/plain by its shape.
+        const ndjson = contentType.includes('ndjson') || (contentType.startsWith('text/plain') && looksLikeNdjson(null, body.toString('utf8')));
+        const results = ndjson ? intake.ingestNdjson(body, source) : intake.ingestJson(body, source);
         const counts = summarise(results);
         return reply.status(counts.rejected === results.length ? 422 : 202).send({ ...counts, results });
       },

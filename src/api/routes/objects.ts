@@ -5,14 +5,27 @@ import { ApiError } from '../errors.js';
 import { defineRoute, type AnyRouteSpec } from '../route-spec.js';
 import { errorSchema, idParams, isoTime, limitParam, pageOf, requestView, toRequestView } from '../schemas.js';
 
+const failureView = z
+  .object({
+    kind: z.enum(['timeout', 'crashed', 'error']).describe('timeout: ran over its time limit; crashed: its worker thread stopped; error: it failed'),
+    stage: z.enum(['assessment', 'estimate']).describe('the assessment, or an on-demand estimate (ephemeris, pictures)'),
+    message: z.string(),
+    at: z.string(),
+  })
+  .nullable()
+  .describe('why the last assessment or on-demand estimate failed; null after a success. A timeout is not retried until new data arrive.');
+
 const objectSummary = z.object({
-  id: z.string(),
+  id: z.string().describe('the object id used everywhere: its first sender\'s designation, with ~2, ~3... when another sender\'s object had it'),
+  sender: z.string().describe('the sender whose designation named it first'),
+  designation: z.string(),
   state: z.enum(['active', 'retracted', 'retired']),
   firstNoticeAt: z.string(),
   lastNoticeAt: z.string(),
   retractionReason: z.string().nullable(),
   observations: z.number().int(),
   latestAssessment: z.object({ id: z.number().int(), createdAt: z.string() }).nullable(),
+  failure: failureView,
 });
 
 const observationView = z.object({
@@ -50,6 +63,9 @@ function toObservationView(x: StoredObservationRow) {
 }
 
 const objectDetail = objectSummary.extend({
+  names: z
+    .array(z.object({ sender: z.string(), designation: z.string(), namedAt: z.string(), link: z.object({ sender: z.string(), designation: z.string() }).nullable() }))
+    .describe('every sender\'s designation that leads to this object: its own, and those joined by a notice naming it in linkedTo'),
   orbit: z.unknown().nullable().describe('the orbit block of the latest notice that carried one'),
   tracklet: z.array(observationView),
   assessment: z.unknown().nullable().describe('latest assessment summary: orbit estimate, residuals, windows and score factors per site, reasons'),
@@ -99,12 +115,15 @@ export function objectRoutes(ctx: ApiContext): AnyRouteSpec[] {
     const latest = store.requests.latestAssessment(id);
     return {
       id: o.id,
+      sender: o.sender,
+      designation: o.designation,
       state: o.state,
       firstNoticeAt: o.firstNoticeAt,
       lastNoticeAt: o.lastNoticeAt,
       retractionReason: o.retractionReason,
       observations: store.objects.observations(id).length,
       latestAssessment: latest ? { id: latest.id, createdAt: latest.createdAt } : null,
+      failure: o.failure ? { kind: o.failure.kind, stage: o.failure.stage, message: o.failure.message, at: o.failure.at } : null,
     };
   };
   return [
@@ -220,6 +239,7 @@ export function objectRoutes(ctx: ApiContext): AnyRouteSpec[] {
         const work = store.work.get(o.id);
         return {
           ...summarise(o.id),
+          names: store.objects.names(o.id),
           orbit: o.orbit ? (JSON.parse(o.orbit) as unknown) : null,
           tracklet: store.objects.observations(o.id).map(toObservationView),
           assessment: store.requests.latestAssessment(o.id)?.summary ?? null,

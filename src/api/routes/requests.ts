@@ -323,16 +323,20 @@ export function requestRoutes(ctx: ApiContext): AnyRouteSpec[] {
         let notice: unknown = null;
         const location = { lat: site.location.latDeg, lon: site.location.lonDeg > 180 ? site.location.lonDeg - 360 : site.location.lonDeg, height: site.location.heightM };
         if (positions.length > 0) {
+          // The notice names the object by its designation; it is merged into the request's object whatever other senders call it.
           const value = {
             format: NOTICE_FORMAT,
-            noticeId: `outcome-${r.request.id}`,
-            objectId: r.request.objectId,
+            noticeId: `outcome-${r.request.id}-astrometry`,
+            objectId: store.objects.getObject(r.request.objectId)?.designation ?? r.request.objectId,
             issuedAt: now.toISOString(),
             sender: `site:${r.request.siteId}`,
             observer: location,
             observations: positions,
           };
-          notice = ctx.intake.ingestFollowUp(value, JSON.stringify(value), `outcome:${r.request.id}`, { heldReasons: checked.verdicts.map((v) => v.heldReason) });
+          notice = ctx.intake.ingestFollowUp(value, JSON.stringify(value), `outcome:${r.request.id}`, {
+            objectId: r.request.objectId,
+            heldReasons: checked.verdicts.map((v) => v.heldReason),
+          });
         }
         // Replan the object now: its tracklet is longer and what is left to do has changed.
         store.work.enqueueIdle([r.request.objectId], now);

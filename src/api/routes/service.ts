@@ -11,15 +11,33 @@ const sourceView = z.object({
   consecutiveFailures: z.number().int(),
   nextAttemptAt: z.string().nullable().describe('set while backing off after failures'),
   lastError: z.string().nullable(),
+  noticesSeen: z.number().int().describe('notices read from this source since the database was made'),
+  noticesRejected: z.number().int(),
+  rejectedFraction: z.number().nullable().describe('noticesRejected / noticesSeen; null before any notice'),
+  lastAnswer: z
+    .object({ notices: z.number().int(), rejected: z.number().int(), rejectedFraction: z.number() })
+    .nullable()
+    .describe('the last answer (or inbox scan) that held notices'),
 });
+
+const failingFile = z.object({ file: z.string(), attempts: z.number().int(), lastError: z.string().nullable(), at: z.string() });
 
 const readiness = z.object({
   status: z.enum(['ready', 'not ready']),
   database: z.object({ writable: z.boolean() }),
   migrations: z.object({ ok: z.boolean(), detail: z.string() }),
   sources: z.array(sourceView),
+  inbox: z.object({ failingFiles: z.array(failingFile).describe('files that failed to be read and wait for another attempt (after two they move to rejected/)') }),
   work: z.record(z.string(), z.number()),
+  problems: z.array(z.string()).describe('what needs a look although the service can answer: failing sources and files, refused feeds, worker faults'),
 });
+
+/** A feed whose last answer was refused in at least this fraction is named among the problems. */
+const REJECTED_FRACTION_PROBLEM = 0.5;
+
+function fraction(part: number, whole: number | null): number | null {
+  return whole !== null && whole > 0 ? part / whole : null;
+}
 
 export function serviceRoutes(ctx: ApiContext): AnyRouteSpec[] {
   const { store, clock } = ctx;
@@ -37,7 +55,7 @@ export function serviceRoutes(ctx: ApiContext): AnyRouteSpec[] {
       method: 'GET',
       url: '/readyz',
       tag: 'service',
-      summary: 'Database writable, migrations applied, last poll per source',
+      summary: 'Database writable, migrations applied, last poll and refused fraction per source, failing inbox files, problems',
       role: null,
       responses: { 200: { description: 'ready', schema: readiness }, 503: { description: 'not ready', schema: readiness } },
       handler: async ({ reply }) => {
@@ -46,6 +64,9 @@ export function serviceRoutes(ctx: ApiContext): AnyRouteSpec[] {
         const states = store.sources.all();
         const sources = ctx.sourceNames.map((name) => {
           const s = states.find((x) => x.source === name);
+          const seen = s?.noticesSeen ?? 0;
+          const rejected = s?.noticesRejected ?? 0;
+          const last = s && s.lastPollNotices !== null && s.lastPollNotices > 0 ? { notices: s.lastPollNotices, rejected: s.lastPollRejected ?? 0 } : null;
           return {
             source: name,
             lastAttemptAt: s?.lastAttemptAt ?? null,
@@ -53,10 +74,25 @@ export function serviceRoutes(ctx: ApiContext): AnyRouteSpec[] {
             consecutiveFailures: s?.consecutiveFailures ?? 0,
             nextAttemptAt: s?.nextAttemptAt ?? null,
             lastError: s?.lastError ?? null,
+            noticesSeen: seen,
+            noticesRejected: rejected,
+            rejectedFraction: fraction(rejected, seen),
+            lastAnswer: last ? { ...last, rejectedFraction: last.rejected / last.notices } : null,
           };
         });
+        const failingFiles = store.sources.failingInboxFiles().map((f) => ({ file: f.file, attempts: f.attempts, lastError: f.lastError, at: f.updatedAt }));
+        const problems = [
+          ...sources.filter((s) => s.consecutiveFailures > 0).map((s) => `${s.source}: ${s.consecutiveFailures} failure(s) in a row, last: ${s.lastError ?? 'unknown'}`),
+          ...sources
+            .filter((s) => s.lastAnswer !== null && s.lastAnswer.rejectedFraction >= REJECTED_FRACTION_PROBLEM)
+            .map((s) => `${s.source}: ${s.lastAnswer!.rejected} of ${s.lastAnswer!.notices} notices in its last answer were refused`),
+          ...failingFiles.map((f) => `inbox file ${f.file} failed ${f.attempts} time(s): ${f.lastError ?? 'unknown'}`),
+          ...(ctx.problems ? ctx.problems() : []),
+        ];
         const ready = writable && migrations.ok;
-        return reply.status(ready ? 200 : 503).send({ status: ready ? 'ready' : 'not ready', database: { writable }, migrations, sources, work: store.work.counts() });
+        return reply
+          .status(ready ? 200 : 503)
+          .send({ status: ready ? 'ready' : 'not ready', database: { writable }, migrations, sources, inbox: { failingFiles }, work: store.work.counts(), problems });
       },
     }),
     defineRoute({
