@@ -14,8 +14,8 @@ import { webhookJobs } from './jobs/webhooks.js';
 import { createServiceMetrics } from './telemetry/metrics.js';
 import { createJobRunner, type JobRunner } from './jobs/scheduler.js';
 import { openStore, type Store } from './store/index.js';
-import { withRefusals } from './api/on-demand.js';
-import { createOnDemandEstimates, isEstimatorRefusal } from './jobs/on-demand-estimates.js';
+import { withFailures } from './api/on-demand.js';
+import { classifyOnDemandFailure, createOnDemandEstimates } from './jobs/on-demand-estimates.js';
 
 export interface RunningService {
   app: FastifyInstance;
@@ -25,7 +25,13 @@ export interface RunningService {
   logger: Logger;
   /** The address it listens on, e.g. http://127.0.0.1:8470 */
   url: string;
-  /** Graceful stop: no new cron runs, wait for running ones, close HTTP, close the database. */
+  /**
+   * Graceful stop, over within `service.workLimits.stopDeadlineS` whatever the
+   * workers do: no new work; running assessments get half the deadline to
+   * finish, then their workers are stopped (their objects wait for the next
+   * start); HTTP closes (connections still open at the deadline are cut); the
+   * database closes.
+   */
   stop(): Promise<void>;
 }
 
@@ -39,6 +45,8 @@ export interface StartOptions {
   schedule?: boolean;
   /** Worker threads for assessments (default from config, else cores - 1). */
   workers?: number;
+  /** Other worker entries (tests): the assessment's and the on-demand estimate's. */
+  workerScripts?: { assessment?: URL; estimate?: URL };
 }
 
 /** Starts the service: migrate, seed the demo inbox, listen, schedule jobs, then read the inbox once. */
@@ -73,9 +81,24 @@ export async function startService(options: StartOptions): Promise<RunningServic
   });
   // Routes that queue work start the assessment job at once (bound once the jobs exist).
   let startAssessing: () => void = () => {};
-  const workerEstimates = createOnDemandEstimates({ store, members: config.planning.members, clock, rangePrior: config.planning.rangePrior });
+  const limits = config.service.workLimits;
+  const workerEstimates = createOnDemandEstimates({
+    store,
+    members: config.planning.members,
+    clock,
+    rangePrior: config.planning.rangePrior,
+    timeLimitMs: limits.estimateS * 1000,
+    waitMs: limits.estimateWaitMs,
+    heapMb: limits.workerHeapMb,
+    ...(options.workerScripts?.estimate ? { workerScript: options.workerScripts.estimate } : {}),
+  });
+  let assessment: AssessmentService | null = null;
   const app = await buildApp({
-    onDemand: withRefusals(workerEstimates, isEstimatorRefusal),
+    onDemand: withFailures(workerEstimates, classifyOnDemandFailure),
+    problems: () => {
+      const start = assessment?.pool.health().startFailure ?? null;
+      return [...(start ? [`the assessment worker cannot start: ${start}`] : []), ...[workerEstimates.problem()].filter((p): p is string => p !== null)];
+    },
     config,
     store,
     clock,
@@ -88,11 +111,20 @@ export async function startService(options: StartOptions): Promise<RunningServic
   });
   const jobLog = logger.child({ part: 'jobs' });
   const log = { info: (o: object, m: string) => jobLog.info(o, m), warn: (o: object, m: string) => jobLog.warn(o, m) };
-  const assessment = createAssessmentService({ config, store, clock, metrics, log, ...(options.workers !== undefined ? { workers: options.workers } : {}) });
+  const assessmentService = createAssessmentService({
+    config,
+    store,
+    clock,
+    metrics,
+    log,
+    ...(options.workers !== undefined ? { workers: options.workers } : {}),
+    ...(options.workerScripts?.assessment ? { workerScript: options.workerScripts.assessment } : {}),
+  });
+  assessment = assessmentService;
   const jobs = createJobRunner(
     [
       ...intakeJobs({ config, store, intake, clock, log, metrics }),
-      ...assessment.jobs,
+      ...assessmentService.jobs,
       ...requestJobs({ config, store, clock, log }),
       ...webhookJobs({ config, store, clock, metrics, log }),
       ...demoJobs({ config, clock, log }),
@@ -110,7 +142,7 @@ export async function startService(options: StartOptions): Promise<RunningServic
   try {
     address = await app.listen({ host: config.service.host, port: config.service.port });
   } catch (err) {
-    await assessment.close();
+    await assessmentService.close();
     await workerEstimates.close();
     store.db.close();
     throw err;
@@ -125,18 +157,32 @@ export async function startService(options: StartOptions): Promise<RunningServic
     app,
     store,
     jobs,
-    assessment,
+    assessment: assessmentService,
     logger,
     url: address,
     stop() {
       stopping ??= (async () => {
-        assessment.halt();
-        await jobs.stop();
-        await assessment.close();
-        await app.close();
-        await workerEstimates.close();
+        const deadlineMs = limits.stopDeadlineS * 1000;
+        const end = Date.now() + deadlineMs;
+        const left = () => Math.max(0, end - Date.now());
+        const late: string[] = [];
+        const within = async (what: string, work: Promise<unknown>, ms: number): Promise<void> => {
+          let timer: NodeJS.Timeout | undefined;
+          const timeout = new Promise<'late'>((r) => (timer = setTimeout(() => r('late'), ms)));
+          const outcome = await Promise.race([work.then(() => 'done' as const, () => 'done' as const), timeout]);
+          clearTimeout(timer);
+          if (outcome === 'late') late.push(what);
+        };
+        assessmentService.halt();
+        // Running assessments may finish within half the deadline; then their workers are stopped and the jobs waiting on them return.
+        const workers = Promise.all([assessmentService.close(deadlineMs / 2), workerEstimates.close(0)]);
+        await within('scheduled jobs', jobs.stop(), left() * 0.8);
+        await within('worker threads', workers, left() * 0.5);
+        const httpClosed = app.close();
+        await within('HTTP connections', httpClosed, left() * 0.5);
+        if (late.includes('HTTP connections')) app.server.closeAllConnections();
         store.db.close();
-        logger.info('nightjar stopped');
+        logger.info({ deadlineS: limits.stopDeadlineS, cutShort: late }, 'nightjar stopped');
       })();
       return stopping;
     },

@@ -1,5 +1,5 @@
 import type { ObjectEstimate } from '../orbit/estimate-types.js';
-import { onDemandFromEstimates, type OnDemandEstimates } from './on-demand.js';
+import { EstimateBusyError, onDemandFromEstimates, type OnDemandEstimates } from './on-demand.js';
 import { createHash } from 'node:crypto';
 import type { IncomingMessage } from 'node:http';
 import Fastify, { type FastifyBaseLogger, type FastifyInstance } from 'fastify';
@@ -122,6 +122,10 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
   app.setErrorHandler((err, request, reply) => {
     if (err instanceof ApiError) {
       return reply.status(err.statusCode).send(errorBody(err.code, err.message, err.details));
+    }
+    if (err instanceof EstimateBusyError) {
+      reply.header('retry-after', String(err.retryAfterS));
+      return reply.status(503).send(errorBody('estimate_busy', err.message, { retryAfterS: err.retryAfterS }));
     }
     const e = err as { statusCode?: number; code?: string; message: string };
     const status = typeof e.statusCode === 'number' && e.statusCode >= 400 ? e.statusCode : 500;

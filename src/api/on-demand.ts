@@ -9,7 +9,7 @@ import type { ObjectEstimate } from '../orbit/estimate-types.js';
  * service runs it in a worker thread; tests may answer from estimates in hand).
  */
 export interface OnDemandEstimates {
-  /** Rows for `location` at `timesUtc`, with the estimate's method; null when the object has nothing to estimate from. Rejects with EstimateRefusedError. */
+  /** Rows for `location` at `timesUtc`, with the estimate's method; null when the object has nothing to estimate from. Rejects with EstimateRefusedError or EstimateBusyError. */
   ephemeris(objectId: string, location: GeodeticLocation, timesUtc: readonly Date[]): Promise<{ method: string; rows: EphemerisRow[] } | null>;
   /** The nominal row at `timeUtc` and at most `maxMembers` virtual-orbit positions (null when the estimate has no ensemble). */
   skyView(
@@ -28,13 +28,29 @@ export class EstimateRefusedError extends Error {
   }
 }
 
-/** The same answers from another source (a worker thread), its errors for which `isRefusal` holds turned into EstimateRefusedError. */
-export function withRefusals(source: OnDemandEstimates, isRefusal: (err: unknown) => boolean): OnDemandEstimates {
+/** No estimate can be made now (its worker is busy past a short wait, or cannot start); ask again after `retryAfterS`. */
+export class EstimateBusyError extends Error {
+  constructor(
+    message: string,
+    readonly retryAfterS: number,
+  ) {
+    super(message);
+    this.name = 'EstimateBusyError';
+  }
+}
+
+/** How another source's error should be answered: refused (422), busy (503 with retry-after), or null (a fault: 500). */
+export type FailureClass = { kind: 'refused'; message: string } | { kind: 'busy'; message: string; retryAfterS: number } | null;
+
+/** The same answers from another source (a worker thread), its errors turned into EstimateRefusedError or EstimateBusyError by `classify`. */
+export function withFailures(source: OnDemandEstimates, classify: (err: unknown) => FailureClass): OnDemandEstimates {
   const mapped = async <T>(p: Promise<T>): Promise<T> => {
     try {
       return await p;
     } catch (err) {
-      if (isRefusal(err)) throw new EstimateRefusedError(err instanceof Error ? err.message : String(err));
+      const c = classify(err);
+      if (c?.kind === 'refused') throw new EstimateRefusedError(c.message);
+      if (c?.kind === 'busy') throw new EstimateBusyError(c.message, c.retryAfterS);
       throw err;
     }
   };

@@ -256,6 +256,24 @@ export const serviceSchema = z
     rateLimitPerMinute: z.number().int().min(1).max(1_000_000).default(1200),
     /** Worker threads for assessments; default: cores - 1, at least 1. */
     workers: z.number().int().min(1).max(64).optional(),
+    /** Bounds on the work one object can cause (README "Bounded work"). */
+    workLimits: z
+      .object({
+        /** Time limit of one assessment (orbit estimate and plans for every site), seconds. */
+        assessmentS: z.number().min(1).max(3600).default(60),
+        /** Time limit of one on-demand estimate (ephemeris endpoint, pictures), seconds. */
+        estimateS: z.number().min(1).max(600).default(20),
+        /** Longest wait of an on-demand request for the estimate worker before 503 with retry-after, ms. */
+        estimateWaitMs: z.number().int().min(0).max(60_000).default(2000),
+        /** Heap limit of each worker thread (V8 old generation), MB. */
+        workerHeapMb: z.number().int().min(128).max(16_384).default(1024),
+        /** An assessment running longer than this no longer holds back the queue: another worker takes the next object, seconds. */
+        slowAssessmentS: z.number().min(1).max(3600).default(5),
+        /** A stop ends within this many seconds whatever the workers are doing. */
+        stopDeadlineS: z.number().min(1).max(300).default(10),
+      })
+      .strict()
+      .prefault({}),
     /** Clock skew allowed for notice times in the future, minutes. */
     futureToleranceMin: finite().min(0).max(1440).default(5),
   })

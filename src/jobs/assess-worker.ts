@@ -1,14 +1,16 @@
 /**
  * Worker-thread entry: runs one assessment (orbit estimate and plan) per task,
- * off the API thread. Input and output are plain data.
+ * off the API thread. Input and output are plain data; a refusal or a failure
+ * comes back as a typed value (WorkerReply).
  */
 import type { Site } from '../config/schema.js';
 import type { NoticeOrbitBlock } from '../orbit/estimation/index.js';
 import { assessObject, type RangePriorChoice } from '../planning/assess.js';
 import type { ScoreWeights } from '../planning/score.js';
 import type { AssessInput, AssessOutput } from './assessment-runner.js';
+import { isNumericRefusal } from '../planning/refusals.js';
 import { storedRequest } from './stored-request.js';
-import { serveWorkerTasks } from './worker-pool.js';
+import { workerTask } from './worker-task.js';
 
 export interface AssessTask {
   input: AssessInput;
@@ -39,5 +41,5 @@ export function runAssessTask(task: AssessTask): AssessOutput {
   };
 }
 
-const { isMainThread } = await import('node:worker_threads');
-if (!isMainThread) void serveWorkerTasks(runAssessTask);
+/** The entry the assessment pool runs. */
+export default workerTask(runAssessTask, isNumericRefusal);

@@ -6,7 +6,7 @@ import type { ServiceMetrics } from '../telemetry/metrics.js';
 import type { AssessTask } from './assess-worker.js';
 import { createAssessmentRunner, type AssessmentRunner, type AssessOutput } from './assessment-runner.js';
 import type { JobSpec } from './scheduler.js';
-import { createWorkerPool, type WorkerPool } from './worker-pool.js';
+import { createTaskPool, type TaskPool } from './task-pool.js';
 
 /** The worker script beside this module (TypeScript under tsx and vitest, JavaScript when built). */
 export function assessWorkerUrl(): URL {
@@ -20,14 +20,20 @@ export function defaultWorkerCount(config: Config): number {
 
 export interface AssessmentService {
   runner: AssessmentRunner;
-  pool: WorkerPool<AssessTask, AssessOutput>;
+  pool: TaskPool<AssessTask, AssessOutput>;
   jobs: JobSpec[];
   /** Take no new work; what is running finishes. */
   halt(): void;
-  close(): Promise<void>;
+  /** Waits up to `graceMs` for running assessments, then stops the workers (their objects wait for the next start). */
+  close(graceMs?: number): Promise<void>;
 }
 
-/** The worker pool, the runner that feeds it from the work table, and the drain and replan jobs. */
+/**
+ * The worker pool, the runner that feeds it from the work table, and the drain
+ * and replan jobs. Each assessment runs under `workLimits.assessmentS` in a
+ * worker with `workLimits.workerHeapMb` of heap; one running longer than
+ * `workLimits.slowAssessmentS` lets the next object start beside it.
+ */
 export function createAssessmentService(deps: {
   config: Config;
   store: Store;
@@ -35,16 +41,29 @@ export function createAssessmentService(deps: {
   metrics?: ServiceMetrics;
   log?: { info: (o: object, m: string) => void; warn: (o: object, m: string) => void };
   workers?: number;
+  /** Another worker entry (tests): its default export answers an AssessTask with a WorkerReply. */
+  workerScript?: URL;
 }): AssessmentService {
   const { config } = deps;
+  const limits = config.service.workLimits;
   const size = deps.workers ?? defaultWorkerCount(config);
-  const pool = createWorkerPool<AssessTask, AssessOutput>(assessWorkerUrl(), size);
+  const pool = createTaskPool<AssessTask, AssessOutput>({
+    name: 'assessment',
+    script: deps.workerScript ?? assessWorkerUrl(),
+    threads: size,
+    // Room beside assessments that turned slow (see the runner's slowAfterMs).
+    maxConcurrent: 2 * size,
+    taskTimeoutMs: limits.assessmentS * 1000,
+    heapMb: limits.workerHeapMb,
+    onStartFailure: (message) => deps.log?.warn({ error: message }, 'the assessment worker cannot start; objects wait'),
+  });
   const weights = weightsFromConfig(config.planning.weights);
   const runner = createAssessmentRunner({
     config,
     store: deps.store,
     clock: deps.clock,
     concurrency: size,
+    slowAfterMs: limits.slowAssessmentS * 1000,
     ...(deps.metrics ? { metrics: deps.metrics } : {}),
     ...(deps.log ? { log: deps.log } : {}),
     assessor: (input) =>
@@ -67,6 +86,6 @@ export function createAssessmentService(deps: {
     pool,
     jobs,
     halt: () => runner.halt(),
-    close: () => pool.close(),
+    close: (graceMs = 0) => pool.close(graceMs),
   };
 }

@@ -4,6 +4,7 @@ import type { Store } from '../store/index.js';
 import type { NewRequest } from '../store/requests.js';
 import type { ServiceMetrics } from '../telemetry/metrics.js';
 import { announce } from './webhooks.js';
+import type { TaskFailure, TaskResult } from './worker-task.js';
 
 /** What an assessment needs, as plain data (it crosses into a worker thread). */
 export interface AssessInput {
@@ -22,7 +23,22 @@ export interface AssessOutput {
   retireReason: string | null;
 }
 
-export type Assessor = (input: AssessInput) => Promise<AssessOutput>;
+/** Assesses one object; never rejects: a failure comes back as a typed value (timeout, crash, refusal, ...). */
+export type Assessor = (input: AssessInput) => Promise<TaskResult<AssessOutput>>;
+
+/** An assessor answered on the calling thread (tests, tools): what `assess` throws becomes an `error` failure. */
+export function assessInThread(assess: (input: AssessInput) => AssessOutput | Promise<AssessOutput>): Assessor {
+  return async (input) => {
+    try {
+      return { ok: true, value: await assess(input) };
+    } catch (err) {
+      return { ok: false, failure: { kind: 'error', message: err instanceof Error ? err.message : String(err) } };
+    }
+  };
+}
+
+/** Attempts at one object before its work item stays failed (the work queue's rule). */
+export const MAX_ATTEMPTS = 3;
 
 export interface RunnerDeps {
   config: Config;
@@ -31,6 +47,12 @@ export interface RunnerDeps {
   assessor: Assessor;
   /** Objects assessed at once (the worker pool size). */
   concurrency: number;
+  /**
+   * An assessment running longer than this, ms, no longer holds back the queue:
+   * the next object starts beside it (up to twice `concurrency` at once), so one
+   * pathological object never delays the others by more than this. Default: never.
+   */
+  slowAfterMs?: number;
   metrics?: ServiceMetrics;
   log?: { info: (o: object, m: string) => void; warn: (o: object, m: string) => void };
 }
@@ -62,25 +84,56 @@ export function createAssessmentRunner(deps: RunnerDeps) {
     deps.log?.info({ objectId, reason }, 'retracted object: queued requests withdrawn');
   }
 
-  async function assessOne(objectId: string): Promise<void> {
+  /** Records a failed assessment on the work item (retried by the queue's rules) and on the object. */
+  function recordFailure(objectId: string, failure: TaskFailure, dataKey: string): void {
+    const now = clock();
+    if (failure.kind === 'busy' || failure.kind === 'unavailable') {
+      // Not the object's fault: it waits for the workers, and the attempt does not count.
+      store.work.release(objectId, failure.message, now);
+      deps.log?.warn({ objectId, error: failure.message }, 'assessment not started: the object waits');
+      return;
+    }
+    store.db.transaction(() => {
+      // A timeout repeats on the same data: it is not retried until new data arrive. Other failures follow the queue's rule.
+      store.work.fail(objectId, failure.message, now, failure.kind === 'timeout' ? 1 : MAX_ATTEMPTS);
+      if (failure.kind === 'timeout' || failure.kind === 'crashed' || failure.kind === 'error' || failure.kind === 'refused')
+        store.objects.recordFailure(objectId, {
+          kind: failure.kind,
+          stage: 'assessment',
+          message: failure.message,
+          at: now.toISOString(),
+          dataKey,
+        });
+    })();
+    deps.metrics?.assessmentFailures.inc({ kind: failure.kind });
+    deps.log?.warn({ objectId, kind: failure.kind, error: failure.message }, 'assessment failed');
+  }
+
+  async function assessOne(objectId: string): Promise<'done' | 'waits'> {
     const object = store.objects.getObject(objectId);
     if (!object) {
       store.work.fail(objectId, `no object ${objectId} in the store`, clock(), 1);
       deps.log?.warn({ objectId }, 'work item for an unknown object: failed');
-      return;
+      return 'done';
     }
-    if (object.state === 'retracted') return handleRetracted(objectId);
+    if (object.state === 'retracted') {
+      handleRetracted(objectId);
+      return 'done';
+    }
+    const dataKey = store.objects.dataKey(objectId);
+    if (object.failure?.kind === 'timeout' && object.failure.dataKey === dataKey) {
+      // The same data ran over the limit before: not tried again until a notice brings new data.
+      store.work.fail(objectId, `not assessed again: ${object.failure.message} on the same data at ${object.failure.at}`, clock(), 1);
+      return 'done';
+    }
     const started = clock();
     const t0 = performance.now();
-    let output: AssessOutput;
-    try {
-      output = await deps.assessor(assessInputFor(store, objectId, started));
-    } catch (err) {
-      const message = err instanceof Error ? err.message : String(err);
-      store.work.fail(objectId, message, clock());
-      deps.log?.warn({ objectId, error: message }, 'assessment failed');
-      return;
+    const result = await deps.assessor(assessInputFor(store, objectId, started));
+    if (!result.ok) {
+      recordFailure(objectId, result.failure, dataKey);
+      return result.failure.kind === 'busy' || result.failure.kind === 'unavailable' ? 'waits' : 'done';
     }
+    const output = result.value;
     const seconds = (performance.now() - t0) / 1000;
     deps.metrics?.assessmentSeconds.observe(seconds);
     const now = clock();
@@ -108,10 +161,14 @@ export function createAssessmentRunner(deps: RunnerDeps) {
       if (result.superseded.length > 0 || rescheduled.length > 0)
         announce(store, hooks, now, { event: 'object.replanned', objectId, assessmentId: result.assessmentId, queued, rescheduled, superseded: result.superseded });
       if (output.retireReason !== null && result.created.length === 0) store.objects.retire(objectId, output.retireReason);
+      store.objects.clearFailure(objectId);
       store.work.finish(objectId, now);
       return result;
     })();
-    if (saved === null) return handleRetracted(objectId);
+    if (saved === null) {
+      handleRetracted(objectId);
+      return 'done';
+    }
     deps.log?.info(
       {
         objectId,
@@ -123,6 +180,7 @@ export function createAssessmentRunner(deps: RunnerDeps) {
       },
       'object assessed',
     );
+    return 'done';
   }
 
   let draining: Promise<number> | null = null;
@@ -130,21 +188,40 @@ export function createAssessmentRunner(deps: RunnerDeps) {
 
   return {
     assessOne,
-    /** Assesses waiting objects until none is left; at most `concurrency` at once. Returns how many were handled. */
+    /**
+     * Assesses waiting objects until none is left; `concurrency` at once, and
+     * beside those that have run longer than `slowAfterMs` up to as many more.
+     * Stops early when the workers cannot take work (the objects wait). Returns
+     * how many were handled.
+     */
     drain(): Promise<number> {
       draining ??= (async () => {
         let handled = 0;
-        const inFlight = new Set<Promise<void>>();
+        let workersDown = false;
+        const inFlight = new Map<Promise<void>, number>();
+        const limit = Math.max(1, deps.concurrency);
+        const slowAfterMs = deps.slowAfterMs ?? Number.POSITIVE_INFINITY;
+        const holding = (nowMs: number) => [...inFlight.values()].filter((startMs) => nowMs - startMs < slowAfterMs).length;
         for (;;) {
-          while (!halted && inFlight.size < Math.max(1, deps.concurrency)) {
+          while (!halted && !workersDown && holding(performance.now()) < limit && inFlight.size < 2 * limit) {
             const item = store.work.claimNext(clock());
             if (!item) break;
-            const p: Promise<void> = assessOne(item.objectId).finally(() => inFlight.delete(p));
-            inFlight.add(p);
+            const p: Promise<void> = assessOne(item.objectId)
+              .then((outcome) => {
+                if (outcome === 'waits') workersDown = true;
+              })
+              .finally(() => inFlight.delete(p));
+            inFlight.set(p, performance.now());
             handled += 1;
           }
           if (inFlight.size === 0) break;
-          await Promise.race(inFlight);
+          // Wake when one finishes, or when the oldest of those holding a place turns slow.
+          const nowMs = performance.now();
+          const nextSlow = Math.min(...[...inFlight.values()].map((startMs) => startMs + slowAfterMs).filter((t) => t > nowMs));
+          const timers: NodeJS.Timeout[] = [];
+          const wake = Number.isFinite(nextSlow) ? [new Promise<void>((r) => timers.push(setTimeout(r, nextSlow - nowMs + 1)))] : [];
+          await Promise.race([...inFlight.keys(), ...wake]);
+          for (const t of timers) clearTimeout(t);
         }
         return handled;
       })().finally(() => {

@@ -8,8 +8,9 @@ import type { EphemerisRow } from '../orbit/ephemeris.js';
 import { estimateObject, type NoticeOrbitBlock } from '../orbit/estimation/index.js';
 import { seedForObject, type ObjectEstimate } from '../orbit/estimate-types.js';
 import { rangingFor, type RangePriorChoice } from '../planning/assess.js';
+import { isNumericRefusal } from '../planning/refusals.js';
 import type { AssessInput } from './assessment-runner.js';
-import { serveWorkerTasks } from './worker-pool.js';
+import { workerTask } from './worker-task.js';
 
 export interface EstimateTask {
   input: AssessInput;
@@ -62,5 +63,5 @@ export function createEstimateTaskHandler(): (task: EstimateTask) => EstimateAns
   };
 }
 
-const { isMainThread } = await import('node:worker_threads');
-if (!isMainThread) void serveWorkerTasks(createEstimateTaskHandler());
+/** The entry the on-demand pool runs: one handler per worker thread, with its own kept estimates. */
+export default workerTask(createEstimateTaskHandler(), isNumericRefusal);

@@ -4,14 +4,40 @@ import type { RangePriorChoice } from '../planning/assess.js';
 import type { Store } from '../store/index.js';
 import { assessInputFor } from './assessment-runner.js';
 import type { EstimateAnswer, EstimateTask } from './estimate-worker.js';
-import { createWorkerPool, WorkerTaskError, type WorkerPool } from './worker-pool.js';
+import { createTaskPool, type TaskPool } from './task-pool.js';
+import type { TaskFailure } from './worker-task.js';
 
-/** The typed errors by which the numeric modules refuse input (their names, as they cross the thread boundary). */
-const REFUSAL_NAMES = new Set(['EstimationInputError', 'EstimationFailedError', 'OrbitInputError', 'OrbitConvergenceError', 'PhotometryInputError', 'SkyInputError']);
+/** An on-demand estimate that gave no answer, with why (a typed failure from its worker pool). */
+export class OnDemandFailure extends Error {
+  override readonly name = 'OnDemandFailure';
+  constructor(readonly failure: TaskFailure) {
+    super(failure.message);
+  }
+}
 
-/** True when an on-demand estimate failed because the estimator refused the data (not a fault of the service). */
-export function isEstimatorRefusal(err: unknown): boolean {
-  return err instanceof WorkerTaskError && REFUSAL_NAMES.has(err.remoteName);
+/** Seconds a caller is told to wait when the estimate worker cannot start. */
+const UNAVAILABLE_RETRY_S = 30;
+
+/**
+ * How the API should answer an on-demand failure: `refused` (the object cannot
+ * be estimated: refused data, over the time limit, or a worker stopped by it),
+ * `busy` (ask again later), or null for a fault of the service.
+ */
+export function classifyOnDemandFailure(err: unknown): { kind: 'refused'; message: string } | { kind: 'busy'; message: string; retryAfterS: number } | null {
+  if (!(err instanceof OnDemandFailure)) return null;
+  const f = err.failure;
+  switch (f.kind) {
+    case 'refused':
+    case 'timeout':
+    case 'crashed':
+      return { kind: 'refused', message: f.message };
+    case 'busy':
+      return { kind: 'busy', message: f.message, retryAfterS: f.retryAfterS };
+    case 'unavailable':
+      return { kind: 'busy', message: f.message, retryAfterS: UNAVAILABLE_RETRY_S };
+    case 'error':
+      return null;
+  }
 }
 
 /** The worker script beside this module (TypeScript under tsx and vitest, JavaScript when built). */
@@ -24,25 +50,58 @@ function estimateWorkerUrl(): URL {
  * On-demand estimates in a worker thread of their own (started at the first
  * question), so an ephemeris or a sky picture never holds the API thread and
  * does not wait behind a burst of assessments. The tracklet is read here; the
- * worker keeps the estimates it computed while the data are unchanged. The
- * estimator's refusals reject with the pool's WorkerTaskError (its message says why).
+ * worker keeps the estimates it computed while the data are unchanged. Each
+ * estimate runs under `timeLimitMs`; a question waits at most `waitMs` for the
+ * worker, else it is answered busy. A timeout or a crash is recorded on the
+ * object, and the same data are then refused at once. Failures reject with
+ * OnDemandFailure.
  */
 export interface WorkerEstimates {
   ephemeris(objectId: string, location: GeodeticLocation, timesUtc: readonly Date[]): Promise<{ method: string; rows: EphemerisRow[] } | null>;
   skyView(objectId: string, location: GeodeticLocation, timeUtc: Date, maxMembers: number): Promise<{ row: EphemerisRow | null; members: { raDeg: number; decDeg: number }[] | null } | null>;
-  close(): Promise<void>;
+  /** Why the worker cannot start, while it cannot (for /readyz). */
+  problem(): string | null;
+  close(graceMs?: number): Promise<void>;
 }
 
-export function createOnDemandEstimates(deps: { store: Store; members: number; clock: () => Date; rangePrior?: RangePriorChoice }): WorkerEstimates {
-  let pool: WorkerPool<EstimateTask, EstimateAnswer> | null = null;
+export function createOnDemandEstimates(deps: {
+  store: Store;
+  members: number;
+  clock: () => Date;
+  rangePrior?: RangePriorChoice;
+  timeLimitMs: number;
+  waitMs: number;
+  heapMb: number;
+  /** Another worker entry (tests). */
+  workerScript?: URL;
+}): WorkerEstimates {
+  let pool: TaskPool<EstimateTask, EstimateAnswer> | null = null;
+  let closed = false;
   const ask = async (objectId: string, question: EstimateTask['ask']): Promise<EstimateAnswer | null> => {
     const object = deps.store.objects.getObject(objectId);
     if (!object) return null;
     const input = assessInputFor(deps.store, objectId, deps.clock());
     if (input.observations.length === 0 && !input.orbit) return null;
-    const dataKey = `${input.observations.length}|${input.observations.at(-1)?.t ?? ''}|${object.orbit ?? ''}`;
-    pool ??= createWorkerPool<EstimateTask, EstimateAnswer>(estimateWorkerUrl(), 1);
-    return pool.run({ input, dataKey, members: deps.members, rangePrior: deps.rangePrior ?? 'auto', ask: question });
+    const dataKey = deps.store.objects.dataKey(objectId);
+    if (object.failure && (object.failure.kind === 'timeout' || object.failure.kind === 'crashed') && object.failure.dataKey === dataKey) {
+      throw new OnDemandFailure({ kind: 'refused', message: `not estimated again from the same data: ${object.failure.message} (${object.failure.stage}, ${object.failure.at})` });
+    }
+    if (closed) throw new OnDemandFailure({ kind: 'unavailable', message: 'the on-demand estimate worker is stopping' });
+    pool ??= createTaskPool<EstimateTask, EstimateAnswer>({
+      name: 'on-demand estimate',
+      script: deps.workerScript ?? estimateWorkerUrl(),
+      threads: 1,
+      taskTimeoutMs: deps.timeLimitMs,
+      waitMs: deps.waitMs,
+      heapMb: deps.heapMb,
+    });
+    const result = await pool.run({ input, dataKey, members: deps.members, rangePrior: deps.rangePrior ?? 'auto', ask: question });
+    if (result.ok) return result.value;
+    const f = result.failure;
+    if (f.kind === 'timeout' || f.kind === 'crashed') {
+      deps.store.objects.recordFailure(objectId, { kind: f.kind, stage: 'estimate', message: f.message, at: deps.clock().toISOString(), dataKey });
+    }
+    throw new OnDemandFailure(f);
   };
   return {
     async ephemeris(objectId, location, timesUtc) {
@@ -53,8 +112,13 @@ export function createOnDemandEstimates(deps: { store: Store; members: number; c
       const a = await ask(objectId, { kind: 'sky', location, tIso: timeUtc.toISOString(), maxMembers });
       return a && a.kind === 'sky' ? { row: a.row, members: a.members } : null;
     },
-    async close() {
-      await pool?.close();
+    problem() {
+      const failure = pool?.health().startFailure ?? null;
+      return failure ? `the on-demand estimate worker cannot start: ${failure}` : null;
+    },
+    async close(graceMs = 0) {
+      closed = true;
+      await pool?.close(graceMs);
       pool = null;
     },
   };

@@ -3,8 +3,8 @@ import type { ObjectState, ObservationInput } from './notices.js';
 
 /** Why an object's last assessment or on-demand estimate failed (null after a success). */
 export interface ObjectFailure {
-  /** timeout: ran over its time limit; crashed: its worker thread stopped; error: it failed. */
-  kind: 'timeout' | 'crashed' | 'error';
+  /** timeout: ran over its time limit; crashed: its worker thread stopped; refused: the numeric modules refused the data; error: it failed otherwise. */
+  kind: 'timeout' | 'crashed' | 'refused' | 'error';
   stage: 'assessment' | 'estimate';
   message: string;
   at: string;

@@ -36,6 +36,12 @@ export function createWorkStore(db: Db) {
          WHERE object_id = ? AND state = 'running'`,
       ).run(maxAttempts, error.slice(0, 2000), now.toISOString(), objectId);
     },
+    /** A running item goes back to waiting without counting the attempt (the workers could not take it), with why. */
+    release(objectId: string, reason: string, now: Date): void {
+      db.prepare(
+        `UPDATE work SET state = 'waiting', attempts = MAX(0, attempts - 1), last_error = ?, updated_at = ? WHERE object_id = ? AND state = 'running'`,
+      ).run(reason.slice(0, 2000), now.toISOString(), objectId);
+    },
     /** Puts objects back on the queue unless they are already waiting or running (the periodic replan). */
     enqueueIdle: db.transaction((objectIds: readonly string[], now: Date): void => {
       const stmt = db.prepare(`INSERT INTO work (object_id, state, attempts, enqueued_at, updated_at) VALUES (?, 'waiting', 0, ?, ?)

@@ -111,6 +111,7 @@ export function createServiceMetrics() {
     assessmentSeconds: registry.histogram('nightjar_assessment_seconds', 'Time to assess one object (orbit, planning, store), seconds.', [
       0.05, 0.1, 0.25, 0.5, 1, 2, 5, 10, 30,
     ]),
+    assessmentFailures: registry.counter('nightjar_assessment_failures_total', 'Failed assessments by kind: timeout, crashed, error, refused.'),
     webhookFailures: registry.counter('nightjar_webhook_failures_total', 'Webhook delivery attempts that failed, by hook.'),
   };
 }

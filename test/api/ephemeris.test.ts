@@ -1,12 +1,11 @@
 import { afterEach, describe, expect, it } from 'vitest';
 import type { FastifyInstance } from 'fastify';
 import { buildApp } from '../../src/api/app.js';
-import { withRefusals } from '../../src/api/on-demand.js';
+import { withFailures } from '../../src/api/on-demand.js';
 import { elementsFromNoticeOrbit } from '../../src/commands/ephemeris.js';
 import { MIGRATIONS_DIR } from '../../src/config/load.js';
 import { createIntake } from '../../src/intake/ingest.js';
-import { createOnDemandEstimates, isEstimatorRefusal, type WorkerEstimates } from '../../src/jobs/on-demand-estimates.js';
-import { WorkerTaskError } from '../../src/jobs/worker-pool.js';
+import { classifyOnDemandFailure, createOnDemandEstimates, OnDemandFailure, type WorkerEstimates } from '../../src/jobs/on-demand-estimates.js';
 import type { NoticeOrbit } from '../../src/intake/notice.js';
 import { ephemerisFromElements } from '../../src/orbit/ephemeris.js';
 import { simulateNight } from '../../src/planning/simulate.js';
@@ -25,8 +24,8 @@ afterEach(async () => {
 /** The app with the service's own on-demand path: estimates run in a worker thread. */
 async function startApp(store: ReturnType<typeof memoryStore>, members: number): Promise<void> {
   const clock = () => NOW;
-  estimates = createOnDemandEstimates({ store, members, clock });
-  app = await buildApp({ config: demoConfig(), store, clock, migrationsDir: MIGRATIONS_DIR, onDemand: withRefusals(estimates, isEstimatorRefusal) });
+  estimates = createOnDemandEstimates({ store, members, clock, timeLimitMs: 60_000, waitMs: 30_000, heapMb: 1024 });
+  app = await buildApp({ config: demoConfig(), store, clock, migrationsDir: MIGRATIONS_DIR, onDemand: withFailures(estimates, classifyOnDemandFailure) });
 }
 
 async function setup(withOrbit: boolean) {
@@ -97,10 +96,13 @@ describe('GET /v1/objects/{id}/ephemeris', () => {
     expect(res.json().error.message).toMatch(/cannot be estimated/);
   });
 
-  it('counts only the numeric modules\' typed refusals as 422, not a fault inside the worker', () => {
-    expect(isEstimatorRefusal(new WorkerTaskError('observations = 3: no motion', 'EstimationInputError'))).toBe(true);
-    expect(isEstimatorRefusal(new WorkerTaskError('x is undefined', 'TypeError'))).toBe(false);
-    expect(isEstimatorRefusal(new Error('worker pool closed'))).toBe(false);
+  it('counts refusals, time-outs and crashes as 422 and a busy worker as 503, but not a fault inside the worker', () => {
+    expect(classifyOnDemandFailure(new OnDemandFailure({ kind: 'refused', message: 'observations = 3: no motion' }))).toEqual({ kind: 'refused', message: 'observations = 3: no motion' });
+    expect(classifyOnDemandFailure(new OnDemandFailure({ kind: 'timeout', message: 'over 20 s', limitMs: 20_000 }))?.kind).toBe('refused');
+    expect(classifyOnDemandFailure(new OnDemandFailure({ kind: 'crashed', message: 'out of memory' }))?.kind).toBe('refused');
+    expect(classifyOnDemandFailure(new OnDemandFailure({ kind: 'busy', message: 'busy', retryAfterS: 2 }))).toEqual({ kind: 'busy', message: 'busy', retryAfterS: 2 });
+    expect(classifyOnDemandFailure(new OnDemandFailure({ kind: 'error', message: 'x is undefined' }))).toBeNull();
+    expect(classifyOnDemandFailure(new Error('x is undefined'))).toBeNull();
   });
 
   it('names an unknown site and refuses a table that is too long', async () => {

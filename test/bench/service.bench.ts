@@ -113,7 +113,7 @@ async function burstAndThroughput(): Promise<void> {
       await new Promise((r) => setTimeout(r, 500));
     }
     const drainS = (performance.now() - t0) / 1000;
-    console.log(`2. burst of ${BURST_N} notices into the inbox: all assessed in ${drainS.toFixed(1)} s (${service.assessment.pool.size} worker thread(s); ${(drainS / BURST_N * 1000).toFixed(0)} ms per notice)`);
+    console.log(`2. burst of ${BURST_N} notices into the inbox: all assessed in ${drainS.toFixed(1)} s (${service.assessment.pool.health().threads} worker thread(s); ${(drainS / BURST_N * 1000).toFixed(0)} ms per notice)`);
     console.log(`   GET /v1/queue during the drain (4 connections, 10 s): p50 ${during.latency.p50} ms, p99 ${during.latency.p99} ms, ${during.requests.average.toFixed(0)} req/s, errors ${during.errors}, non-2xx ${during.non2xx}`);
 
     // Throughput against a bare route returning the same bytes, in the same run.

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { main as plan } from '../../src/commands/plan.js';
-import { createAssessmentRunner } from '../../src/jobs/assessment-runner.js';
+import { assessInThread, createAssessmentRunner } from '../../src/jobs/assessment-runner.js';
 import { runAssessTask } from '../../src/jobs/assess-worker.js';
 import { createIntake } from '../../src/intake/ingest.js';
 import { writeFileSync } from 'node:fs';
@@ -28,7 +28,7 @@ describe('nightjar plan and the service', () => {
       store,
       clock: () => now,
       concurrency: 1,
-      assessor: async (input) => runAssessTask({ input, sites: config.sites, horizonH: 36, members: 300, weights: {} }),
+      assessor: assessInThread((input) => runAssessTask({ input, sites: config.sites, horizonH: 36, members: 300, weights: {} })),
     });
     await runner.drain();
     const stored = store.requests

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { createAssessmentRunner, type AssessInput, type AssessOutput } from '../../src/jobs/assessment-runner.js';
+import { assessInThread, createAssessmentRunner, type AssessInput, type AssessOutput } from '../../src/jobs/assessment-runner.js';
 import { createIntake } from '../../src/intake/ingest.js';
 import { demoConfig, exampleNotice, memoryStore } from '../helpers.js';
 
@@ -13,7 +13,7 @@ function setup(assessor: (input: AssessInput) => Promise<AssessOutput>, withHook
     if (withHook) (raw['service'] as Record<string, unknown>)['webhooks'] = [{ id: 'desk', url: 'http://127.0.0.1:1/x', secret: 'sixteen-chars-or-more', minScore: 50 }];
   });
   const intake = createIntake({ notices: store.notices, clock, futureToleranceMin: 5 });
-  const runner = createAssessmentRunner({ config, store, clock, assessor, concurrency: 2 });
+  const runner = createAssessmentRunner({ config, store, clock, assessor: assessInThread(assessor), concurrency: 2 });
   return { store, intake, runner, now };
 }
 

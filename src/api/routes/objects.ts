@@ -7,7 +7,9 @@ import { errorSchema, idParams, isoTime, limitParam, pageOf, requestView, toRequ
 
 const failureView = z
   .object({
-    kind: z.enum(['timeout', 'crashed', 'error']).describe('timeout: ran over its time limit; crashed: its worker thread stopped; error: it failed'),
+    kind: z
+      .enum(['timeout', 'crashed', 'refused', 'error'])
+      .describe('timeout: ran over its time limit; crashed: its worker thread stopped; refused: the estimator refused the data; error: it failed otherwise'),
     stage: z.enum(['assessment', 'estimate']).describe('the assessment, or an on-demand estimate (ephemeris, pictures)'),
     message: z.string(),
     at: z.string(),
