@@ -4,6 +4,7 @@ import { join } from 'node:path';
 import { buildApp } from '../src/api/app.js';
 import { DEFAULT_CONFIG_PATH, MIGRATIONS_DIR, parseConfig } from '../src/config/load.js';
 import type { Config } from '../src/config/schema.js';
+import { createIntake } from '../src/intake/ingest.js';
 import { openStore, type Store } from '../src/store/index.js';
 
 /** A fixed clock for tests. */
@@ -37,6 +38,15 @@ export const DEMO_TOKENS = {
 
 export function memoryStore(clock: () => Date = () => new Date()): Store {
   return openStore(':memory:', MIGRATIONS_DIR, clock);
+}
+
+/** Intake over a fresh in-memory store at a fixed time; `send` ingests one notice as JSON and gives its result. */
+export function memoryIntake(iso: string) {
+  const clock = fixedClock(iso);
+  const store = memoryStore(clock);
+  const intake = createIntake({ notices: store.notices, clock, futureToleranceMin: 5 });
+  const send = (n: Record<string, unknown>) => intake.ingestJson(JSON.stringify(n), 'test')[0]!;
+  return { store, intake, clock, send };
 }
 
 /** The app on a fresh in-memory database; close it in teardown. */

@@ -1,6 +1,7 @@
 import { readFileSync } from 'node:fs';
 import { resolve } from 'node:path';
 import { observerOf, parseNotice, type Notice } from '../intake/notice.js';
+import { decodePayload, depthExceededAt, MAX_JSON_DEPTH } from '../intake/payload.js';
 import type { TrackletObservation } from '../orbit/estimate-types.js';
 import { UsageError } from './io.js';
 
@@ -11,15 +12,20 @@ import { UsageError } from './io.js';
  */
 export function readNoticeFile(path: string, cwd: string): { ok: true; notice: Notice } | { ok: false; message: string } {
   const full = resolve(cwd, path);
-  let text: string;
+  let bytes: Buffer;
   try {
-    text = readFileSync(full, 'utf8');
+    bytes = readFileSync(full);
   } catch (err) {
     throw new UsageError(`--notice: cannot read ${full}: ${(err as Error).message}`);
   }
+  // Read as intake reads it: UTF-8, with the same depth limit.
+  const decoded = decodePayload(bytes);
+  if (!decoded.ok) return { ok: false, message: `${full}: ${decoded.issue.message}` };
+  const text = decoded.text.replace(/^\uFEFF/, '');
+  if (depthExceededAt(text) >= 0) return { ok: false, message: `${full}: JSON nests deeper than ${MAX_JSON_DEPTH} levels; a notice needs 4` };
   let raw: unknown;
   try {
-    raw = JSON.parse(text.replace(/^\uFEFF/, ''));
+    raw = JSON.parse(text);
   } catch (err) {
     return { ok: false, message: `${full} is not valid JSON: ${(err as Error).message}` };
   }

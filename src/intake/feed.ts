@@ -74,6 +74,8 @@ export interface PollFeedDeps {
   sources: SourceStore;
   now: () => Date;
   fetchFn?: typeof fetch;
+  /** Largest answer read, bytes (default FEED_MAX_BYTES). */
+  maxBytes?: number;
 }
 
 /** Polls one feed once, honouring its backoff. Never throws: failures are recorded and returned. */
@@ -98,7 +100,7 @@ export async function pollFeed(feed: FeedConfig, deps: PollFeedDeps): Promise<Fe
       await response.body?.cancel();
       throw new Error(`HTTP ${response.status} ${response.statusText}`);
     }
-    const bytes = await readCapped(response, FEED_MAX_BYTES);
+    const bytes = await readCapped(response, deps.maxBytes ?? FEED_MAX_BYTES);
     const validators = { etag: response.headers.get('etag'), lastModified: response.headers.get('last-modified') };
     // Nothing new: an empty body or an empty array is not a refusal.
     const text = new TextDecoder('utf-8').decode(bytes);

@@ -1,6 +1,6 @@
 import type { ValidationIssue } from '../config/issues.js';
 import type { MergeVetting, NoticeInput, NoticeStore } from '../store/notices.js';
-import { noticeIdentity, observerOf, parseNotice, rulePositions, type Notice } from './notice.js';
+import { flatObservations, noticeIdentity, parseNotice, rulePositions, type Notice } from './notice.js';
 import { decodePayload, keptRaw, splitJsonPayload, splitNdjsonPayload, type PayloadItem } from './payload.js';
 import { mergedTrackletIssues, sameTimeConflicts, type RulePosition } from './tracklet-rules.js';
 
@@ -49,20 +49,7 @@ export function toNoticeInput(notice: Notice, raw: string, source: string, recei
     kind: retraction ? 'retraction' : 'observations',
     retractionReason: retraction ? (notice.reason ?? null) : null,
     orbitJson: notice.orbit ? JSON.stringify(notice.orbit) : null,
-    observations: (notice.observations ?? []).map((o) => {
-      const observer = observerOf(notice, o);
-      return {
-        t: new Date(o.t).toISOString(),
-        raDeg: o.ra,
-        decDeg: o.dec,
-        sigmaArcsec: o.sigma,
-        mag: o.mag ?? null,
-        band: o.mag !== undefined ? (o.band ?? 'V') : (o.band ?? null),
-        obsLatDeg: observer.lat,
-        obsLonDeg: observer.lon,
-        obsHeightM: observer.height,
-      };
-    }),
+    observations: flatObservations(notice),
   };
 }
 

@@ -202,21 +202,40 @@ export function noticeIdentity(raw: unknown): { sender: string | null; noticeId:
   return { sender: get('sender'), noticeId: get('noticeId'), objectId: get('objectId') };
 }
 
-/** A notice's positions as the tracklet rules see them, each labelled by its index. */
-export function rulePositions(notice: Notice): RulePosition[] {
-  return (notice.observations ?? []).map((o, k) => {
+/** One position of a notice flattened with its observer (degrees, arcsec, metres; ISO UTC time), as the store keeps it. */
+export interface FlatObservation {
+  t: string;
+  raDeg: number;
+  decDeg: number;
+  sigmaArcsec: number;
+  mag: number | null;
+  band: string | null;
+  obsLatDeg: number;
+  obsLonDeg: number;
+  obsHeightM: number;
+}
+
+/** The notice's positions, each with its own observer; a magnitude without a band is V. */
+export function flatObservations(notice: Notice): FlatObservation[] {
+  return (notice.observations ?? []).map((o) => {
     const observer = observerOf(notice, o);
     return {
-      t: o.t,
+      t: new Date(o.t).toISOString(),
       raDeg: o.ra,
       decDeg: o.dec,
       sigmaArcsec: o.sigma,
+      mag: o.mag ?? null,
+      band: o.mag !== undefined ? (o.band ?? 'V') : (o.band ?? null),
       obsLatDeg: observer.lat,
       obsLonDeg: observer.lon,
       obsHeightM: observer.height,
-      label: `observations[${k}]`,
     };
   });
+}
+
+/** A notice's positions as the tracklet rules see them, each labelled by its index. */
+export function rulePositions(notice: Notice): RulePosition[] {
+  return flatObservations(notice).map((o, k) => ({ ...o, label: `observations[${k}]` }));
 }
 
 /** The observer of one observation: its own override, else the notice's. */

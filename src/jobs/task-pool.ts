@@ -1,13 +1,14 @@
 import { fileURLToPath } from 'node:url';
 import { Piscina } from 'piscina';
-import type { TaskResult, WorkerReply } from './worker-task.js';
+import { TASK_STARTED, type TaskEnvelope, type TaskResult, type WorkerReply } from './worker-task.js';
 
 export type { TaskFailure, TaskResult, WorkerReply } from './worker-task.js';
 
 /**
  * Worker-thread pools for CPU-heavy work (assessments, on-demand estimates),
  * on piscina. What this adds around it:
- * - every task has a time limit; one that runs over is failed as `timeout` and
+ * - every task has a time limit, counted from when its worker starts it (not
+ *   while a new worker loads); one that runs over is failed as `timeout` and
  *   its worker is stopped and replaced;
  * - each worker has a heap limit; a worker that stops (out of memory, exit)
  *   fails its task as `crashed` and is replaced;
@@ -58,6 +59,8 @@ export interface TaskPool<I, O> {
 }
 
 const DEFAULT_RETRY_START_MS = 30_000;
+/** Longest a task may wait for its worker to load before its time limit starts counting anyway, ms. */
+const START_ALLOWANCE_MS = 30_000;
 
 type AbortReason = { why: 'timeout' } | { why: 'start'; message: string } | { why: 'closed' };
 
@@ -87,6 +90,9 @@ export function createTaskPool<I, O>(options: TaskPoolOptions): TaskPool<I, O> {
   let closed = false;
   let startFailure: { message: string; atMs: number } | null = null;
   let pool: Piscina | null = null;
+  let nextTaskId = 1;
+  /** Tasks handed to piscina whose worker has not yet said it started them: what to do when it does. */
+  const starting = new Map<number, () => void>();
 
   function makePool(): Piscina {
     const p = new Piscina({
@@ -95,6 +101,11 @@ export function createTaskPool<I, O>(options: TaskPoolOptions): TaskPool<I, O> {
       maxThreads: capacity,
       idleTimeout: 60_000,
       resourceLimits: { maxOldGenerationSizeMb: options.heapMb },
+    });
+    p.on('message', (message: unknown) => {
+      if (typeof message !== 'object' || message === null || !(TASK_STARTED in message)) return;
+      const id = (message as Record<string, unknown>)[TASK_STARTED];
+      if (typeof id === 'number') starting.get(id)?.();
     });
     // An error with no task to fail: a worker failed while starting (or outside a task). With no worker left, the script cannot start.
     p.on('error', (err: Error) => {
@@ -135,9 +146,18 @@ export function createTaskPool<I, O>(options: TaskPoolOptions): TaskPool<I, O> {
     if (!p) return unavailable(`the ${options.name} worker cannot start: ${startFailure?.message ?? 'unknown error'}`);
     const controller = new AbortController();
     inFlight.add(controller);
-    const timer = setTimeout(() => controller.abort({ why: 'timeout' } satisfies AbortReason), timeoutMs);
+    const taskId = nextTaskId++;
+    const overTime = () => controller.abort({ why: 'timeout' } satisfies AbortReason);
+    // The limit counts from when the worker starts the task; a worker that never gets there is stopped too.
+    let timer = setTimeout(overTime, START_ALLOWANCE_MS + timeoutMs);
+    starting.set(taskId, () => {
+      starting.delete(taskId);
+      clearTimeout(timer);
+      timer = setTimeout(overTime, timeoutMs);
+    });
     try {
-      const reply = (await p.run(input, { signal: controller.signal })) as WorkerReply<O>;
+      const envelope: TaskEnvelope<I> = { taskId, input };
+      const reply = (await p.run(envelope, { signal: controller.signal })) as WorkerReply<O>;
       return reply.ok ? { ok: true, value: reply.value } : { ok: false, failure: reply.failure };
     } catch (err) {
       const reason = controller.signal.aborted ? (controller.signal.reason as AbortReason) : null;
@@ -150,6 +170,7 @@ export function createTaskPool<I, O>(options: TaskPoolOptions): TaskPool<I, O> {
       return { ok: false, failure: { kind: 'error', message: e.message } };
     } finally {
       clearTimeout(timer);
+      starting.delete(taskId);
       inFlight.delete(controller);
     }
   }
