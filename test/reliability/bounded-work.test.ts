@@ -93,8 +93,10 @@ describe('bounded work', () => {
     expect(busy.headers['retry-after']).toBe('1');
     expect(busy.json().error.code).toBe('estimate_busy');
     expect(performance.now() - t0).toBeLessThan(3000);
-    const picture = await app.inject({ url: `/v1/objects/${normalId}/sky.svg?site=lantern-ridge` });
+    const picture = await app.inject({ url: `/v1/objects/${normalId}/pointing.svg?site=lantern-ridge` });
     expect(picture.statusCode).toBe(503);
+    // The object's page still answers; only its picture waits.
+    expect((await app.inject({ url: `/objects/${normalId}` })).statusCode).toBe(200);
 
     const over = await held;
     expect(over.statusCode).toBe(422);

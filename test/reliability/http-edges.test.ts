@@ -98,6 +98,6 @@ describe('HTTP edges', () => {
     expect(res.statusCode).toBe(422);
     expect(res.json().results[0].reasons[0]).toEqual({ path: '(body)', message: 'payload is UTF-16LE (byte-order mark FF FE), not UTF-8; re-encode it as UTF-8' });
     // The refusal keeps the text as decoded, so it can be read.
-    expect((await app.inject({ url: '/v1/rejections' })).json().items[0].raw).toContain('"format": "nightjar.notice.v1"');
+    expect((await app.inject({ url: `/v1/rejections/${res.json().results[0].rejectionId}` })).json().raw).toContain('"format": "nightjar.notice.v1"');
   });
 });

@@ -8,6 +8,7 @@ import type { Caller } from '../auth.js';
 import type { ApiContext } from '../context.js';
 import { CAUTIONS } from '../docs-page.js';
 import { ApiError } from '../errors.js';
+import { EstimateBusyError } from '../on-demand.js';
 import { currentLocalDate, isoSeconds, reviewData } from '../review-data.js';
 import { defineRoute, type AnyRouteSpec } from '../route-spec.js';
 import { idParams } from '../schemas.js';
@@ -173,8 +174,10 @@ export function pageRoutes(ctx: ApiContext): AnyRouteSpec[] {
             alt: `${objectId} from ${site.name} at ${input.timeUtc.toISOString()}: ${input.conditions.observable ? `altitude ${Math.round(input.conditions.altDeg)} degrees` : 'not observable then'}; uncertainty region, imager field, slit and motion`,
           };
         } catch (err) {
-          if (!(err instanceof ApiError) || err.statusCode !== 422) throw err;
-          pointing = { missing: 'no orbit estimate and no request table covers the time' };
+          // The estimate worker is busy: the page still answers, and the picture is asked for on its own.
+          if (err instanceof EstimateBusyError) pointing = { url: pointingUrl(objectId, site.id, null, caller), alt: `${objectId} from ${site.name}: where to point` };
+          else if (!(err instanceof ApiError) || err.statusCode !== 422) throw err;
+          else pointing = { missing: 'no orbit estimate and no request table covers the time' };
         }
       }
       sites.push({
