@@ -14,7 +14,7 @@
 import { parseConfig, DEFAULT_CONFIG_PATH, MIGRATIONS_DIR } from '../../src/config/load.js';
 import { readFileSync } from 'node:fs';
 import { createIntake } from '../../src/intake/ingest.js';
-import { createAssessmentRunner } from '../../src/jobs/assessment-runner.js';
+import { assessInThread, createAssessmentRunner } from '../../src/jobs/assessment-runner.js';
 import { runAssessTask } from '../../src/jobs/assess-worker.js';
 import { weightsFromConfig } from '../../src/planning/assess.js';
 import { simulateNight } from '../../src/planning/simulate.js';
@@ -40,8 +40,9 @@ const runner = createAssessmentRunner({
   store,
   clock,
   concurrency: 1,
-  assessor: async (input) =>
+  assessor: assessInThread((input) =>
     runAssessTask({ input, sites: config.sites, horizonH: config.planning.horizonH, members: config.planning.members, weights, rangePrior: config.planning.rangePrior }),
+  ),
 });
 
 const notices = simulateNight({ now: clock(), count: objects, seed: 16 }).map((s) => s.notice);

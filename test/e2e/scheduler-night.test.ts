@@ -2,7 +2,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { FastifyInstance } from 'fastify';
 import { buildApp } from '../../src/api/app.js';
 import { MIGRATIONS_DIR } from '../../src/config/load.js';
-import { createAssessmentRunner } from '../../src/jobs/assessment-runner.js';
+import { assessInThread, createAssessmentRunner } from '../../src/jobs/assessment-runner.js';
 import { runAssessTask } from '../../src/jobs/assess-worker.js';
 import { ephemerisFromState } from '../../src/orbit/ephemeris.js';
 import { seedForObject } from '../../src/orbit/estimate-types.js';
@@ -52,7 +52,7 @@ const runner = createAssessmentRunner({
   store,
   clock,
   concurrency: 1,
-  assessor: async (input) => runAssessTask({ input, sites: config.sites, horizonH: config.planning.horizonH, members: config.planning.members, weights: {} }),
+  assessor: assessInThread((input) => runAssessTask({ input, sites: config.sites, horizonH: config.planning.horizonH, members: config.planning.members, weights: {} })),
 });
 let app: FastifyInstance;
 let base = '';
