@@ -136,5 +136,5 @@ describe('crash safety', () => {
       expect(store.prepare('SELECT state, lease_holder AS holder FROM requests WHERE id = ?').get(leased)).toEqual({ state: 'leased', holder: 'crash-test' });
     }
     store.close();
-  });
+  }, 180_000); // five service starts and a full drain: beyond the suite's 60 s default on a shared 2-core machine
 });

@@ -25,9 +25,9 @@ const badUnicode = fc.constantFrom('\\ud800', '\\udfff', '\\ud83d', '\\ud800\\ud
 
 /** A valid notice with one identifier or text replaced by bad Unicode (as JSON text). */
 const badUnicodeNotice = fc
-  .record({ field: fc.constantFrom('objectId', 'noticeId', 'sender', 'reason'), bad: badUnicode, prefix: fc.string({ maxLength: 5 }) })
-  .map(({ field, bad, prefix }) => {
-    const n = exampleNotice({ noticeId: `fz-${Math.random().toString(36).slice(2, 10)}` });
+  .record({ field: fc.constantFrom('objectId', 'noticeId', 'sender', 'reason'), bad: badUnicode, prefix: fc.string({ maxLength: 5 }), id: fc.nat() })
+  .map(({ field, bad, prefix, id }) => {
+    const n = exampleNotice({ noticeId: `fz-${id}` });
     if (field === 'reason') {
       n['retracted'] = true;
       delete n['observations'];
@@ -47,7 +47,7 @@ const payload = fc.oneof(
   deepText.map((t) => Buffer.from(t)),
   badUnicodeNotice.map((t) => Buffer.from(t)),
   badBytes,
-  deepText.map((t) => Buffer.from(JSON.stringify(exampleNotice({ noticeId: `fz-${Math.random().toString(36).slice(2, 10)}` })).replace('"sigma":0.5', `"sigma":0.5,"x":${t}`))),
+  fc.tuple(deepText, fc.nat()).map(([t, id]) => Buffer.from(JSON.stringify(exampleNotice({ noticeId: `fz-deep-${id}` })).replace('"sigma":0.5', `"sigma":0.5,"x":${t}`))),
   fc.jsonValue({ maxDepth: 6 }).map((v) => Buffer.from(JSON.stringify(v) ?? 'null')),
 );
 
