@@ -4,33 +4,37 @@
  * runs it) against the span of the tracklet and its number of positions.
  * Run: npx tsx test/bench/intake-limits.bench.ts [span|positions|worst|all]   (default all)
  * Prints one line per case: span (days), positions, assessment time (ms).
- * Positions come from the calibration generator's truth (src/orbit/estimation/synthetic.ts,
- * an ordinary object, invented survey site), spread evenly over the span, 0.5 arcsec sigma;
+ * Positions come from the reference generator's truth (test/reference/: an ordinary object seen
+ * from its invented survey site), spread evenly over the span, 0.5 arcsec sigma;
  * 1000 virtual orbits and the demo configuration's sites and horizon, as the service uses them.
  */
 import { loadConfig } from '../../src/config/load.js';
 import { runAssessTask } from '../../src/jobs/assess-worker.js';
 import { MAX_OBSERVATIONS } from '../../src/intake/notice.js';
 import { MAX_ARC_DAYS, MAX_OBJECT_OBSERVATIONS } from '../../src/intake/tracklet-rules.js';
-import { astrometricPlace, observerGeometry } from '../../src/orbit/ephemeris.js';
+import type { GeodeticLocation } from '../../src/config/schema.js';
 import type { TrackletObservation } from '../../src/orbit/estimate-types.js';
-import { generateCase, integrateTruth, SURVEY_SITE } from '../../src/orbit/estimation/synthetic.js';
-import { ttFromUtc } from '../../src/orbit/time.js';
+import { REFERENCE_SURVEY_SITE, referenceCases, referencePlacesFrom } from '../reference/cases.js';
 
 const mode = process.argv[2] ?? 'all';
 const config = loadConfig({ env: {}, cwd: process.cwd() });
-const truth = generateCase('ordinary', 3)!;
-const t0 = Date.parse(truth.observations[0]!.t);
+const [truth] = referenceCases('ordinary', 1);
+const seed = Number(truth!.id.split('-')[1]);
+const t0 = Date.parse(truth!.observations[0]!.t);
 const DAY_MS = 86_400_000;
+const SURVEY: GeodeticLocation = { latDeg: REFERENCE_SURVEY_SITE.latDeg, lonDeg: REFERENCE_SURVEY_SITE.lonDeg, heightM: REFERENCE_SURVEY_SITE.heightM };
 
 function tracklet(count: number, spanDays: number): TrackletObservation[] {
   const times = Array.from({ length: count }, (_, k) => t0 + (k * spanDays * DAY_MS) / Math.max(1, count - 1));
-  const states = integrateTruth(truth.meanEpochState, times.map((ms) => ttFromUtc(new Date(ms))), 0.01);
-  return times.map((ms, k) => {
-    const s = states[k]!;
-    const place = astrometricPlace({ x: s.x, y: s.y, z: s.z }, { x: s.vx, y: s.vy, z: s.vz }, observerGeometry(SURVEY_SITE, new Date(ms)));
-    return { t: new Date(ms).toISOString(), raDeg: place.raDeg, decDeg: place.decDeg, sigmaArcsec: 0.5, mag: null, band: null, observer: SURVEY_SITE };
-  });
+  return referencePlacesFrom('ordinary', seed, REFERENCE_SURVEY_SITE, times).map((place, k) => ({
+    t: new Date(times[k]!).toISOString(),
+    raDeg: place.raDeg,
+    decDeg: place.decDeg,
+    sigmaArcsec: 0.5,
+    mag: null,
+    band: null,
+    observer: SURVEY,
+  }));
 }
 
 function measure(count: number, spanDays: number, note: string): void {
