@@ -123,7 +123,7 @@ export async function startService(options: StartOptions): Promise<RunningServic
   assessment = assessmentService;
   const jobs = createJobRunner(
     [
-      ...intakeJobs({ config, store, intake, clock, log, metrics }),
+      ...intakeJobs({ config, store, intake, clock, log, metrics, workQueued: () => startAssessing() }),
       ...assessmentService.jobs,
       ...requestJobs({ config, store, clock, log }),
       ...webhookJobs({ config, store, clock, metrics, log }),

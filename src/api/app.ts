@@ -196,6 +196,12 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
   metrics.registry.gauge('nightjar_inbox_failing_files', 'Inbox files that failed to be read and wait for another attempt.', () => [
     { labels: {}, value: store.sources.failingInboxFiles().length },
   ]);
+  metrics.registry.gauge('nightjar_work_class_waiting', 'Work items waiting per priority class (new-data, urgent, routine).', () =>
+    Object.entries(store.work.classFigures(clock())).map(([c, f]) => ({ labels: { class: c }, value: f.waiting })),
+  );
+  metrics.registry.gauge('nightjar_work_class_oldest_age_seconds', 'How long the oldest waiting work item of each priority class has waited, seconds.', () =>
+    Object.entries(store.work.classFigures(clock())).map(([c, f]) => ({ labels: { class: c }, value: f.oldestAgeS })),
+  );
   metrics.registry.gauge('nightjar_source_consecutive_failures', 'Consecutive failures per polled source (backoff while > 0).', () =>
     store.sources.all().map((s) => ({ labels: { source: s.source }, value: s.consecutiveFailures })),
   );

@@ -3,6 +3,7 @@ import type { MergeVetting, NoticeInput, NoticeStore } from '../store/notices.js
 import { flatObservations, noticeIdentity, parseNotice, rulePositions, type Notice } from './notice.js';
 import { decodePayload, keptRaw, splitJsonPayload, splitNdjsonPayload, type PayloadItem } from './payload.js';
 import { mergedTrackletIssues, sameTimeConflicts, type RulePosition } from './tracklet-rules.js';
+import { newDataAllowanceS, trackletRateDegPerDay } from './urgency.js';
 
 /** What happened to one notice of a payload. */
 export type IntakeResult =
@@ -37,7 +38,11 @@ export interface FollowUp {
 /** Flattens a validated notice into the store's input. */
 export function toNoticeInput(notice: Notice, raw: string, source: string, receivedAt: Date): NoticeInput {
   const retraction = notice.retracted === true;
+  const positions = (notice.observations ?? []).map((o) => ({ t: o.t, raDeg: o.ra, decDeg: o.dec }));
+  // A retraction is wanted at once (its queued requests are withdrawn); new positions by their rate.
+  const allowanceS = retraction ? 0 : newDataAllowanceS(trackletRateDegPerDay(positions));
   return {
+    dueAt: new Date(receivedAt.getTime() + allowanceS * 1000).toISOString(),
     sender: notice.sender,
     noticeId: notice.noticeId,
     objectId: notice.objectId,

@@ -37,6 +37,7 @@ export function runAssessTask(task: AssessTask): AssessOutput {
   return {
     summary: a.summary,
     retireReason: a.retireReason,
+    usable: a.usable,
     requests: a.requests.map(storedRequest),
   };
 }

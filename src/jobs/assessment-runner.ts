@@ -1,6 +1,7 @@
 import type { Config } from '../config/schema.js';
 import type { TrackletObservation } from '../orbit/estimate-types.js';
 import type { Store } from '../store/index.js';
+import type { ReplanPolicy } from '../store/work.js';
 import type { NewRequest } from '../store/requests.js';
 import type { ServiceMetrics } from '../telemetry/metrics.js';
 import { announce } from './webhooks.js';
@@ -21,6 +22,8 @@ export interface AssessOutput {
   requests: NewRequest[];
   /** Set when no site has a window within the horizon: the object is retired with this reason. */
   retireReason: string | null;
+  /** When the object is next usable and until when (ISO UTC; planning's usableSpan): the next replan's class. */
+  usable?: { from: string | null; until: string | null };
 }
 
 /** Assesses one object; never rejects: a failure comes back as a typed value (timeout, crash, refusal, ...). */
@@ -39,6 +42,15 @@ export function assessInThread(assess: (input: AssessInput) => AssessOutput | Pr
 
 /** Attempts at one object before its work item stays failed (the work queue's rule). */
 export const MAX_ATTEMPTS = 3;
+
+/**
+ * How the periodic replan sorts objects (the work queue's `urgent` class): the
+ * earliest usable window opens within the hour (the last chance to adjust its
+ * requests before the telescope may start), or the last usable time ends within
+ * two hours (the object fades below the limits or leaves the sky for good).
+ */
+export const REPLAN_POLICY: ReplanPolicy = { opensWithinMs: 3_600_000, endsWithinMs: 7_200_000 };
+
 
 export interface RunnerDeps {
   config: Config;
@@ -162,6 +174,7 @@ export function createAssessmentRunner(deps: RunnerDeps) {
         announce(store, hooks, now, { event: 'object.replanned', objectId, assessmentId: result.assessmentId, queued, rescheduled, superseded: result.superseded });
       if (output.retireReason !== null && result.created.length === 0) store.objects.retire(objectId, output.retireReason);
       store.objects.clearFailure(objectId);
+      store.objects.recordUsable(objectId, output.usable ?? { from: null, until: null });
       store.work.finish(objectId, now);
       return result;
     })();
@@ -233,9 +246,9 @@ export function createAssessmentRunner(deps: RunnerDeps) {
     halt(): void {
       halted = true;
     },
-    /** Puts every active object back on the work queue (time moves; windows and scores change). */
+    /** Puts every active object back on the work queue in its class (time moves; windows and scores change). Returns how many are active. */
     enqueueActive(): number {
-      return store.work.enqueueAllActive(clock());
+      return store.work.enqueueReplans(clock(), REPLAN_POLICY);
     },
   };
 }

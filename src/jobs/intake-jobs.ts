@@ -15,6 +15,8 @@ export interface IntakeJobDeps {
   log: { info: (obj: object, msg: string) => void; warn: (obj: object, msg: string) => void };
   fetchFn?: typeof fetch;
   metrics?: ServiceMetrics;
+  /** Says that notices were accepted, so their assessment can start without waiting for the next tick. */
+  workQueued?: () => void;
 }
 
 /** The inbox scan and one poll job per configured feed. */
@@ -53,6 +55,7 @@ export function intakeJobs(deps: IntakeJobDeps): JobSpec[] {
             log.warn({ file: o.file, movedTo: o.movedTo, attempts: o.failure.attempts, error: o.failure.error }, o.movedTo ? 'inbox file failed again: moved to rejected/' : 'inbox file failed: tried again at the next scan');
           } else log.info({ file: o.file, movedTo: o.movedTo, ...summarise(o.results) }, 'inbox file read');
         }
+        if (all.some((r) => r.status === 'accepted')) deps.workQueued?.();
       },
     },
   ];
@@ -71,7 +74,10 @@ export function intakeJobs(deps: IntakeJobDeps): JobSpec[] {
           deps.metrics?.pollFailures.inc({ feed: feed.id });
           log.warn({ feed: feedSourceName(feed), ...outcome }, 'feed poll failed');
         }
-        else if (outcome.status === 'fetched') log.info({ feed: feedSourceName(feed), ...outcome }, 'feed polled');
+        else if (outcome.status === 'fetched') {
+          log.info({ feed: feedSourceName(feed), ...outcome }, 'feed polled');
+          if (outcome.accepted > 0) deps.workQueued?.();
+        }
       },
     });
   }

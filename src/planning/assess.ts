@@ -3,6 +3,7 @@ import { seedForObject, type EstimateSummary, type ObjectEstimate, type Tracklet
 import { estimateObject, type NoticeOrbitBlock, type RangePriorKind } from '../orbit/estimation/index.js';
 import type { ScoreWeights } from './score.js';
 import { planObject, type ObjectPlan, type PlannedRequest } from './plan-object.js';
+import { TRACK_STEP_MIN } from './track.js';
 
 /** What one assessment of an object takes: its tracklet, its orbit block if any, the sites and a clock. */
 export interface AssessmentInput {
@@ -62,6 +63,29 @@ export interface Assessment {
   summary: AssessmentSummary;
   /** Set when no site has a window in the horizon. */
   retireReason: string | null;
+  /** When the object is next usable at some site, and until when (usableSpan). */
+  usable: UsableSpan;
+}
+
+/** ISO UTC times: `from` the earliest usable time at any site; `until` the last, or null when it lasts to the horizon's end. */
+export interface UsableSpan {
+  from: string | null;
+  until: string | null;
+}
+
+/**
+ * When an object is usable according to its plan: from the earliest start of a
+ * run of times where some request kind is feasible at any site, to the latest
+ * end of one; `until` is null when that end is within one track step of the
+ * horizon's end (the object stays usable beyond what was planned).
+ */
+export function usableSpan(plan: ObjectPlan): UsableSpan {
+  const spans = plan.sites.flatMap((s) => (s.usable ? [s.usable] : []));
+  if (spans.length === 0) return { from: null, until: null };
+  const from = spans.map((u) => u.from).reduce((a, b) => (b < a ? b : a));
+  const until = spans.map((u) => u.until).reduce((a, b) => (b > a ? b : a));
+  const open = Date.parse(until) >= Date.parse(plan.horizonEnd) - TRACK_STEP_MIN * 60_000;
+  return { from, until: open ? null : until };
 }
 
 export { seedForObject };
@@ -114,6 +138,7 @@ export function assessObject(input: AssessmentInput): Assessment {
     estimateSummary: estimate.summary,
     requests,
     summary: assessmentSummary(estimate, plan),
+    usable: usableSpan(plan),
     retireReason: noWindow
       ? `no observable window at any site in the next ${input.horizonH} h (${plan.sites.map((s) => `${s.siteId}: ${s.reasons[0] ?? 'no window'}`).join('; ')})`
       : null,

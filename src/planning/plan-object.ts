@@ -174,6 +174,8 @@ export interface SitePlan {
   requests: PlannedRequest[];
   /** Why there is no request, or why a kind is missing ("spectrum: ..."), in words and numbers. */
   reasons: string[];
+  /** From the start of the first run of times where some kind is feasible to the end of the last (ISO UTC); null when there is none. */
+  usable: { from: string; until: string } | null;
 }
 
 export interface ObjectPlan {
@@ -507,7 +509,7 @@ function noWindowReasons(reasons: string[], track: Track, site: Site, horizonH: 
 function planSite(input: PlanObjectInput, site: Site, startMs: number, endMs: number, weights: ScoreWeights, trackRows?: readonly EphemerisRow[]): SitePlan {
   const { estimate, horizonH } = input;
   const maxPointings = input.options?.maxSearchPointings ?? DEFAULT_MAX_SEARCH_POINTINGS;
-  const out: SitePlan = { siteId: site.id, siteName: site.name, windows: [], requests: [], reasons: [] };
+  const out: SitePlan = { siteId: site.id, siteName: site.name, windows: [], requests: [], reasons: [], usable: null };
   const track = buildTrack(estimate, site.location, startMs, endMs, TRACK_STEP_MIN, trackRows);
   const timeline = buildSkyTimeline(site, new Date(startMs), new Date(endMs));
   const found = observableWindows(site, new Date(startMs), new Date(endMs), track.targetAt, { timeline });
@@ -554,6 +556,8 @@ function planSite(input: PlanObjectInput, site: Site, startMs: number, endMs: nu
   });
   const feasibleWindows = usefulRuns.filter((runs) => runs.length > 0).length;
   const lastRun = usefulRuns.flat().at(-1);
+  const firstRun = usefulRuns.flat()[0];
+  if (firstRun !== undefined && lastRun !== undefined) out.usable = { from: new Date(firstRun.startMs).toISOString(), until: new Date(lastRun.endMs).toISOString() };
   const hoursLeft = lastRun === undefined ? 0 : lastRun.endMs >= endMs ? horizonH : (lastRun.endMs - startMs) / 3_600_000;
 
   const lightCurve = lightCurveLength(

@@ -1,5 +1,6 @@
 import type { Db } from './database.js';
 import type { StoredObservation } from './objects.js';
+import { newDataStatement } from './work.js';
 
 /** An observation row ready to store (degrees, arcsec, metres; ISO UTC time). */
 export interface ObservationInput {
@@ -40,6 +41,8 @@ export interface NoticeInput {
   retractionReason: string | null;
   orbitJson: string | null;
   observations: ObservationInput[];
+  /** When its assessment is wanted (ISO UTC), the order among new data; default `receivedAt`. */
+  dueAt?: string;
 }
 
 export type RecordNoticeResult =
@@ -131,9 +134,8 @@ export function createNoticeStore(db: Db) {
     WHERE nm.sender = ? AND nm.designation = ?
       AND EXISTS (SELECT 1 FROM notices n WHERE n.sender = nm.sender AND n.object_id = o.id AND n.kind = 'observations')
       AND (o.orbit IS NOT NULL OR EXISTS (SELECT 1 FROM observations b WHERE b.object_id = o.id)) LIMIT 1`);
-  const enqueue = db.prepare(`INSERT INTO work (object_id, state, attempts, enqueued_at, updated_at) VALUES (?, 'waiting', 0, ?, ?)
-    ON CONFLICT (object_id) DO UPDATE SET state = 'waiting', attempts = CASE WHEN work.state = 'running' THEN work.attempts ELSE 0 END,
-      last_error = NULL, enqueued_at = excluded.enqueued_at, updated_at = excluded.updated_at`);
+  const enqueueNewData = newDataStatement(db);
+  const enqueue = (objectId: string, input: NoticeInput): void => enqueueNewData(objectId, input.receivedAt, input.dueAt ?? input.receivedAt);
   const insertRejection = db.prepare(`INSERT INTO rejections (source, received_at, sender, notice_id, raw, reasons)
     VALUES (?, ?, ?, ?, ?, ?)`);
 
@@ -210,7 +212,7 @@ export function createNoticeStore(db: Db) {
     if (retraction) {
       if (object) retractObject.run(input.retractionReason, input.issuedAt, input.receivedAt, objectId);
       // The object stays on the work queue so the assessment runner withdraws its queued requests and announces it.
-      enqueue.run(objectId, input.receivedAt, input.receivedAt);
+      enqueue(objectId, input);
       markMerged.run(0, noticeRow);
       // Nothing is queued for observation: the work item only withdraws the object's requests.
       return { status: 'accepted', noticeRow, objectId, observationsAdded: 0, objectState: 'retracted', queued: false, revived: false };
@@ -237,7 +239,7 @@ export function createNoticeStore(db: Db) {
     }
     markMerged.run(added, noticeRow);
     const queued = objectState === 'active' && (added > 0 || input.orbitJson !== null || revived || !object);
-    if (queued) enqueue.run(objectId, input.receivedAt, input.receivedAt);
+    if (queued) enqueue(objectId, input);
     return { status: 'accepted', noticeRow, objectId, observationsAdded: added, objectState, queued, revived };
   });
 

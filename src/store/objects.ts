@@ -133,6 +133,14 @@ export function createObjectStore(db: Db) {
       return db.prepare(`UPDATE objects SET state = 'retired', retired_reason = ? WHERE id = ? AND state = 'active'`).run(reason, objectId).changes === 1;
     },
     /**
+     * What the latest assessment says about when the object is usable (ISO UTC; see the
+     * planner's usableSpan), and whether it was a first look (its time, else null): the next
+     * replan's class and order come from these.
+     */
+    recordUsable(objectId: string, usable: { from: string | null; until: string | null }, firstLookAt: string | null = null): void {
+      db.prepare(`UPDATE objects SET usable_from = ?, usable_until = ?, first_look_at = ? WHERE id = ?`).run(usable.from, usable.until, firstLookAt, objectId);
+    },
+    /**
      * The tracklet in time order as the orbit estimator takes it (degrees, arcsec, metres): every
      * position except those held back (a possible misidentification) and not yet confirmed.
      */

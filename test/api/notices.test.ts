@@ -149,6 +149,21 @@ describe('review and health routes', () => {
     expect(res.json()).toMatchObject({ status: 'ready', database: { writable: true }, migrations: { ok: true } });
   });
 
+  it('shows the work queue per priority class in /readyz and /metrics after a notice', async () => {
+    const { app } = await setup();
+    const posted = await app.inject({ method: 'POST', url: '/v1/notices', headers: bearer(DEMO_TOKENS.feeder), payload: exampleNotice() });
+    expect(posted.statusCode).toBe(202);
+    const ready = (await app.inject({ url: '/readyz' })).json();
+    expect(ready.workClasses).toEqual({
+      'new-data': { waiting: 1, running: 0, oldestAgeS: 0 },
+      urgent: { waiting: 0, running: 0, oldestAgeS: 0 },
+      routine: { waiting: 0, running: 0, oldestAgeS: 0 },
+    });
+    const metrics = (await app.inject({ url: '/metrics' })).body;
+    expect(metrics).toContain('nightjar_work_class_waiting{class="new-data"} 1');
+    expect(metrics).toContain('nightjar_work_class_oldest_age_seconds{class="routine"} 0');
+  });
+
   it('answers /healthz', async () => {
     const { app } = await setup();
     expect((await app.inject({ url: '/healthz' })).json()).toMatchObject({ status: 'ok' });

@@ -1,3 +1,4 @@
+import { REPLAN_POLICY } from '../../src/jobs/assessment-runner.js';
 import fc from 'fast-check';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { FastifyInstance } from 'fastify';
@@ -66,7 +67,7 @@ describe('the service under fuzzed notices', () => {
       expect((await app.inject({ url })).statusCode, url).toBe(200);
     }
     // Nothing that was stored breaks a later replan, and every stored designation keeps the rule.
-    expect(() => store.work.enqueueAllActive(new Date(NOW))).not.toThrow();
+    expect(() => store.work.enqueueReplans(new Date(NOW), REPLAN_POLICY)).not.toThrow();
     for (const o of store.objects.listObjects({ limit: 1000 })) expect(identifierProblem(o.designation, DESIGNATION_RULE), o.designation).toBeNull();
     const ok = await app.inject({ method: 'POST', url: '/v1/notices', headers: { authorization: `Bearer ${DEMO_TOKENS.feeder}` }, payload: exampleNotice({ noticeId: 'after-fuzz', objectId: 'ZX27F01' }) });
     expect(ok.statusCode).toBe(202);

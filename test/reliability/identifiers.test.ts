@@ -1,3 +1,4 @@
+import { REPLAN_POLICY } from '../../src/jobs/assessment-runner.js';
 import { describe, expect, it } from 'vitest';
 import { DESIGNATION_RULE, NOTICE_ID_RULE, SENDER_RULE } from '../../src/intake/identifiers.js';
 import { assessInThread, createAssessmentRunner } from '../../src/jobs/assessment-runner.js';
@@ -92,7 +93,7 @@ describe('identifiers', () => {
       // Bytes that are not UTF-8 (a lone surrogate as an older intake stored it) read back as U+FFFD.
       store.db.exec(`INSERT INTO objects (id, sender, designation, state, first_notice_at, last_notice_at)
         VALUES (CAST(X'EDA080' AS TEXT), 'x', 'x', 'active', '${NOW}', '${NOW}')`);
-      expect(store.work.enqueueAllActive(new Date(NOW))).toBe(1);
+      expect(store.work.enqueueReplans(new Date(NOW), REPLAN_POLICY)).toBe(1);
       expect(store.work.counts().waiting).toBe(1);
     } finally {
       await app.close();

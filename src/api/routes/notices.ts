@@ -82,6 +82,7 @@ export function noticeRoutes(ctx: ApiContext): AnyRouteSpec[] {
         const ndjson = contentType.includes('ndjson') || (contentType.startsWith('text/plain') && looksLikeNdjson(null, body.toString('utf8')));
         const results = ndjson ? intake.ingestNdjson(body, source) : intake.ingestJson(body, source);
         const counts = summarise(results);
+        if (counts.accepted > 0) ctx.workQueued();
         return reply.status(counts.rejected === results.length ? 422 : 202).send({ ...counts, results });
       },
     }),

@@ -189,7 +189,7 @@ export function objectRoutes(ctx: ApiContext): AnyRouteSpec[] {
         const who = `${caller?.name ?? 'operator'}${body.note ? `: ${body.note}` : ''}`;
         const result = store.db.transaction(() => {
           const r = store.objects.confirmObservation(params.id, params.obsId, who, now);
-          if (r.status === 'confirmed') store.work.enqueueIdle([params.id], now);
+          if (r.status === 'confirmed') store.work.enqueueNewData([params.id], now);
           return r;
         })();
         if (result.status === 'not_found') throw new ApiError(404, 'not_found', `object ${params.id} has no observation ${params.obsId}`);

@@ -339,7 +339,7 @@ export function requestRoutes(ctx: ApiContext): AnyRouteSpec[] {
           });
         }
         // Replan the object now: its tracklet is longer and what is left to do has changed.
-        store.work.enqueueIdle([r.request.objectId], now);
+        store.work.enqueueNewData([r.request.objectId], now);
         ctx.workQueued();
         const stored = positions.length > 0 ? store.objects.observations(r.request.objectId) : [];
         const idOf = (t: string) =>

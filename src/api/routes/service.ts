@@ -1,6 +1,7 @@
 import { z } from 'zod';
 import { isWritable } from '../../store/database.js';
 import { migrationsCurrent } from '../../store/migrations.js';
+import { WORK_CLASSES } from '../../store/work.js';
 import type { ApiContext } from '../context.js';
 import { defineRoute, type AnyRouteSpec } from '../route-spec.js';
 
@@ -30,6 +31,9 @@ const readiness = z.object({
   inbox: z.object({ failingFiles: z.array(failingFile).describe('files that failed to be read and wait for another attempt (after two they move to rejected/)') }),
   work: z.record(z.string(), z.number()),
   problems: z.array(z.string()).describe('what needs a look although the service can answer: failing sources and files, refused feeds, worker faults'),
+  workClasses: z
+    .record(z.enum(WORK_CLASSES), z.object({ waiting: z.number().int(), running: z.number().int(), oldestAgeS: z.number() }))
+    .describe('the work queue per priority class (new-data, urgent, routine): items waiting and running, and how long the oldest waiting item has waited, s'),
 });
 
 /** A feed whose last answer was refused in at least this fraction is named among the problems. */
@@ -55,7 +59,7 @@ export function serviceRoutes(ctx: ApiContext): AnyRouteSpec[] {
       method: 'GET',
       url: '/readyz',
       tag: 'service',
-      summary: 'Database writable, migrations applied, last poll and refused fraction per source, failing inbox files, problems',
+      summary: 'Database writable, migrations applied, last poll and refused fraction per source, failing inbox files, problems, the work queue per priority class',
       role: null,
       responses: { 200: { description: 'ready', schema: readiness }, 503: { description: 'not ready', schema: readiness } },
       handler: async ({ reply }) => {
@@ -92,7 +96,7 @@ export function serviceRoutes(ctx: ApiContext): AnyRouteSpec[] {
         const ready = writable && migrations.ok;
         return reply
           .status(ready ? 200 : 503)
-          .send({ status: ready ? 'ready' : 'not ready', database: { writable }, migrations, sources, inbox: { failingFiles }, work: store.work.counts(), problems });
+          .send({ status: ready ? 'ready' : 'not ready', database: { writable }, migrations, sources, inbox: { failingFiles }, work: store.work.counts(), workClasses: store.work.classFigures(clock()), problems });
       },
     }),
     defineRoute({
