@@ -1,5 +1,6 @@
 import type { Site } from '../config/schema.js';
 import { evaluateLimits } from '../sky/limits.js';
+import { quantile } from '../stats/index.js';
 import { LabelPlacer, textBox, textWidthPx, wrapText, type Box } from './layout.js';
 import { el, esc, num, svgDocument } from './markup.js';
 
@@ -330,13 +331,6 @@ export function sexagesimal(value: number, hours: boolean): string {
   const d = Math.floor(total / 3600);
   const p2 = (n: number) => String(n).padStart(2, '0');
   return `${sign}${p2(d)}${hours ? 'h' : '°'}${p2(m)}${hours ? 'm' : '′'}${p2(s)}.${String(frac).padStart(hours ? 2 : 1, '0')}${hours ? 's' : '″'}`;
-}
-
-/** The q-quantile (0..1) of a list of numbers, by the nearest rank; 0 for an empty list. */
-function quantile(values: readonly number[], q: number): number {
-  if (values.length === 0) return 0;
-  const sorted = [...values].sort((a, b) => a - b);
-  return sorted[Math.min(sorted.length - 1, Math.max(0, Math.ceil(q * sorted.length) - 1))]!;
 }
 
 export interface PanelScales {

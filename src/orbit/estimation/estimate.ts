@@ -1,5 +1,6 @@
 import type { GeodeticLocation } from '../../config/schema.js';
 import { absoluteMagnitudeFromObserved, apparentMagnitudesHG, DEFAULT_BAND_OFFSETS, diameterRangeM, phaseTermHG } from '../../photometry/magnitudes.js';
+import { median, quantiles, quantileSorted, systematicResample } from '../../stats/index.js';
 import { ARCSEC_PER_RAD, GM_SUN_AU3_PER_DAY2, KM_PER_AU, RAD_PER_DEG } from '../constants.js';
 import { stateFromPerihelionElements, type HeliocentricState, type PerihelionElements } from '../elements.js';
 import { astrometricPlace, DEFAULT_SLOPE_G, ensemblePlaces, observerGeometry, rowsFromPlaces, type EnsemblePlaces, type EphemerisRow, type UncertaintyEllipse } from '../ephemeris.js';
@@ -121,13 +122,8 @@ const APPROACH_MEMBERS = 256;
 const APPROACH_STEP_FRACTION = 0.05;
 
 function percentiles(values: ArrayLike<number>): Percentiles {
-  const sorted = Float64Array.from(values as ArrayLike<number>).sort();
-  const at = (p: number): number => {
-    const x = p * (sorted.length - 1);
-    const i = Math.floor(x);
-    return sorted[i]! + (i + 1 < sorted.length ? (x - i) * (sorted[i + 1]! - sorted[i]!) : 0);
-  };
-  return { p5: at(0.05), p50: at(0.5), p95: at(0.95) };
+  const [p5, p50, p95] = quantiles(values, [0.05, 0.5, 0.95] as const);
+  return { p5, p50, p95 };
 }
 
 /** q, a (au; Infinity for e >= 1) and e of a heliocentric state (two-body, GM of the Sun). */
@@ -283,18 +279,14 @@ function minimumGeocentricDistances(states: readonly HeliocentricState[], startT
 }
 
 /**
- * Robust centre of the ranging cloud: the weighted median along each principal
- * axis of the members' (ln range, range-rate) scatter, each coordinate first
+ * Robust centre of the ranging cloud: the median along each principal
+ * axis of the members' (equally weighted once resampled) (ln range, range-rate) scatter, each coordinate first
  * scaled by its median absolute deviation; the nominal is the member nearest
  * that point (so it is a real, data-consistent orbit and does not jump between
  * the modes of the cloud the way the highest-weight node can).
  */
 function robustCentreIndex(logRange: Float64Array, rate: Float64Array): number {
   const n = logRange.length;
-  const median = (a: Float64Array): number => {
-    const s = Float64Array.from(a).sort();
-    return n % 2 ? s[(n - 1) / 2]! : (s[n / 2 - 1]! + s[n / 2]!) / 2;
-  };
   const mx = median(logRange), my = median(rate);
   const mad = (a: Float64Array, m: number): number => median(a.map((v) => Math.abs(v - m))) || 1e-12;
   const sx = mad(logRange, mx), sy = mad(rate, my);
@@ -455,19 +447,7 @@ function weightByTracklet(
   for (const x of w) (sum += x), (sum2 += x * x);
   const effective = (sum * sum) / sum2;
   if (!(effective >= MIN_EFFECTIVE_MEMBERS)) return null;
-  // Systematic resampling: one uniform offset, n evenly spaced pointers through the cumulative weights.
-  const out: HeliocentricState[] = [];
-  const step = sum / n;
-  let pointer = random.uniform() * step;
-  let cumulative = 0;
-  for (let m = 0; m < n && out.length < n; m++) {
-    cumulative += w[m]!;
-    while (pointer < cumulative && out.length < n) {
-      out.push(states[m]!);
-      pointer += step;
-    }
-  }
-  while (out.length < n) out.push(states[n - 1]!);
+  const out = systematicResample(w, n, random.uniform()).map((m) => states[m]!);
   return { states: out, effective };
 }
 
@@ -741,7 +721,7 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
           const sorted = mags.subarray(0, n - 1).sort();
           // Sigma of the ensemble: half the 16-84 % range, or the wider 1 % tail over 2.326 (the normal's 99 % point) when
           // one side stretches, as a close object's distance does when it heads at the observer (magnitudes skew long before positions).
-          const at = (p: number): number => sorted[Math.round(p * (finite - 1))]!;
+          const at = (p: number): number => quantileSorted(sorted, p, finite);
           const median = at(0.5);
           const ensemble = Math.max((at(0.84) - at(0.16)) / 2, Math.max(median - at(0.01), at(0.99) - median) / 2.326);
           magSigma = ensemble;

@@ -11,6 +11,7 @@ import { EstimationFailedError, EstimationInputError } from './errors.js';
 import { cholesky, invert } from './linalg.js';
 import type { PreparedObservation } from './observations.js';
 import { meanTrackletV, populationLogPrior } from './population-prior.js';
+import { systematicResample, weightedQuantile } from '../../stats/index.js';
 import type { RandomSource } from './random.js';
 import { project, unitFromRaDec, unproject, type Vec3 } from './tangent.js';
 
@@ -617,7 +618,7 @@ function sampleInsideCells(
   random: RandomSource,
 ): { members: VirtualOrbit[]; effectiveSampleSize: number; proposals: number } {
   const proposalCount = PROPOSALS_PER_MEMBER * count;
-  const cells = systematicIndices(nodes.map((n) => n.weight), proposalCount, random);
+  const cells = systematicResample(nodes.map((n) => n.weight), proposalCount, random.uniform());
   const points = cells.map((j) => {
     const n = nodes[j]!;
     return {
@@ -641,7 +642,7 @@ function sampleInsideCells(
   const sum = w.reduce((a, b) => a + b, 0);
   const sum2 = w.reduce((a, b) => a + b * b, 0);
   const chol = cholesky(covariance);
-  const chosen = systematicIndices(w, count, random);
+  const chosen = systematicResample(w, count, random.uniform());
   const members = chosen.map((i): VirtualOrbit => {
     const z = [random.normal(), random.normal(), random.normal(), random.normal()];
     const base = fitted.params[i]!;
@@ -655,24 +656,6 @@ function sampleInsideCells(
     [members[m], members[s]] = [members[s]!, members[m]!];
   }
   return { members, effectiveSampleSize: (sum * sum) / sum2, proposals: proposalCount };
-}
-
-/** `count` indices drawn by systematic resampling of non-negative weights (one uniform offset, evenly spaced pointers). */
-function systematicIndices(weights: readonly number[], count: number, random: RandomSource): number[] {
-  const total = weights.reduce((a, b) => a + b, 0);
-  const out: number[] = [];
-  const step = total / count;
-  let pointer = random.uniform() * step;
-  let cumulative = 0;
-  for (let j = 0; j < weights.length && out.length < count; j++) {
-    cumulative += weights[j]!;
-    while (pointer < cumulative && out.length < count) {
-      out.push(j);
-      pointer += step;
-    }
-  }
-  while (out.length < count) out.push(weights.length - 1);
-  return out;
 }
 
 /** Sub-points per axis at which the population prior is averaged over a node's cell. */
@@ -766,17 +749,10 @@ const MIN_EFFECTIVE_NODES = 40;
 
 /** The box holding the central 99.9 % of the weight in ln(range) and range-rate, widened by one cell. */
 function concentratedBox(nodes: readonly RangingNode[]): Box {
-  const q = (values: { x: number; w: number }[], p: number): number => {
-    values.sort((a, b) => a.x - b.x);
-    let c = 0;
-    for (const v of values) {
-      c += v.w;
-      if (c >= p) return v.x;
-    }
-    return values[values.length - 1]!.x;
-  };
-  const logs = nodes.map((n) => ({ x: Math.log(n.rangeAu), w: n.weight }));
-  const rates = nodes.map((n) => ({ x: n.rangeRateAuPerDay, w: n.weight }));
+  const weights = nodes.map((n) => n.weight);
+  const logs = nodes.map((n) => Math.log(n.rangeAu));
+  const rates = nodes.map((n) => n.rangeRateAuPerDay);
+  const q = (values: readonly number[], p: number): number => weightedQuantile(values, weights, p);
   const logWidth = nodes[0]!.logRangeWidth;
   const heavy = nodes.filter((n) => n.weight > 1e-4);
   const rateWidth = Math.max(...heavy.map((n) => n.rateWidth));

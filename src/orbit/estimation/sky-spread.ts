@@ -1,3 +1,4 @@
+import { upperTail } from '../../stats/index.js';
 import { ARCSEC_PER_RAD, DEG_PER_RAD, RAD_PER_DEG } from '../constants.js';
 import type { UncertaintyEllipse } from '../ephemeris.js';
 import { symmetricEigen2 } from './linalg.js';
@@ -71,44 +72,12 @@ export function skySpread(nominalRaDeg: number, nominalDecDeg: number, raDeg: Ar
     d2[m] = (syy * x * x - 2 * sxy * x * y + sxx * y * y) / det;
   }
   // Both quantiles sit in the top 1.2 %: only that tail is put in order.
-  const tail = upperTailSorted(d2, Math.min(GAUSSIAN_3SIGMA_CONTENT_2D, 0.99));
+  const tail = upperTail(d2, Math.min(GAUSSIAN_3SIGMA_CONTENT_2D, 0.99));
   const coverageScale = Math.max(tail.quantile(GAUSSIAN_3SIGMA_CONTENT_2D) / 9, 1e-6);
   return {
     sigma: ellipseOf(sxx, sxy, syy, coverageScale),
     extent99: ellipseOf(sxx, sxy, syy, Math.max(tail.quantile(0.99), 1e-6)),
     coverageScale,
-  };
-}
-
-/**
- * Quantiles at or above `fromP` of `values` (the same interpolation as a full
- * sort), ordering only the values that can take part: the largest
- * count - floor(fromP (count - 1)) of them, found by one selection pass.
- */
-function upperTailSorted(values: Float64Array, fromP: number): { quantile(p: number): number } {
-  const n = values.length;
-  if (n === 0) return { quantile: () => 0 };
-  const first = Math.floor(fromP * (n - 1));
-  const keep = n - first;
-  // Smallest-first ordered buffer of the `keep` largest values seen so far.
-  const top = new Float64Array(keep).fill(-Infinity);
-  for (let m = 0; m < n; m++) {
-    const v = values[m]!;
-    if (!(v > top[0]!)) continue;
-    let i = 1;
-    while (i < keep && top[i]! < v) {
-      top[i - 1] = top[i]!;
-      i++;
-    }
-    top[i - 1] = v;
-  }
-  return {
-    quantile(p: number): number {
-      const x = p * (n - 1);
-      const i = Math.floor(x) - first;
-      const f = x - Math.floor(x);
-      return top[i]! + (i + 1 < keep ? f * (top[i + 1]! - top[i]!) : 0);
-    },
   };
 }
 

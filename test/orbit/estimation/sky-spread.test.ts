@@ -50,14 +50,15 @@ describe('sky-plane spread of virtual orbits', () => {
       const offsets: [number, number][] = Array.from({ length: n }, () => [40 * random.normal() + 5 * random.normal() ** 3, 8 * random.normal()]);
       const { ra, dec } = cloud(offsets);
       const spread = skySpread(RA0, DEC0, ra, dec, 0, n);
-      // Reference: the members' offsets on the same plane, squared Mahalanobis distances fully sorted, linear interpolation.
+      // Reference: the members' offsets on the same plane, squared Mahalanobis distances fully sorted, the
+      // ceil(p n)-th smallest (the inverse of the empirical distribution, src/stats' convention).
       const projected = offsets.map((_, m) => offsetArcsec(RA0, DEC0, ra[m]!, dec[m]!));
       let sxx = 0, sxy = 0, syy = 0;
       for (const [x, y] of projected) (sxx += x * x), (sxy += x * y), (syy += y * y);
       sxx = sxx / n + 1e-6; syy = syy / n + 1e-6; sxy /= n;
       const det = sxx * syy - sxy * sxy;
       const d2 = projected.map(([x, y]) => (syy * x * x - 2 * sxy * x * y + sxx * y * y) / det).sort((a, b) => a - b);
-      const at = (p: number) => { const x = p * (n - 1), i = Math.floor(x); return d2[i]! + (i + 1 < n ? (x - i) * (d2[i + 1]! - d2[i]!) : 0); };
+      const at = (p: number) => d2[Math.ceil(p * n) - 1]!;
       expect(spread.coverageScale).toBeCloseTo(at(GAUSSIAN_3SIGMA_CONTENT_2D) / 9, 9);
     }
   });
