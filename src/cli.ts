@@ -5,6 +5,8 @@ import { ConfigError } from './config/load.js';
 import { MigrationError } from './store/migrations.js';
 import type { CommandIo, CommandMain } from './commands/io.js';
 import { UsageError } from './commands/io.js';
+import { isFieldInputError, shownValue } from './commands/args.js';
+import { EstimationFailedError } from './orbit/estimation/errors.js';
 
 /** Every command, loaded on demand so `nightjar night` does not load the HTTP server. */
 const COMMANDS: Record<string, { summary: string; load: () => Promise<{ main: CommandMain }> }> = {
@@ -53,6 +55,15 @@ export async function runCli(argv: string[], io: CommandIo): Promise<number> {
     }
     if (err instanceof ConfigError || err instanceof MigrationError) {
       io.stderr(`nightjar ${name}: ${err.message}\n`);
+      return 1;
+    }
+    // Input the numeric code refused (a command that knows the option has named it already): the value and the reason, no stack.
+    if (isFieldInputError(err)) {
+      io.stderr(`nightjar ${name}: ${shownValue(err.value)}: ${err.reason}\n`);
+      return 1;
+    }
+    if (err instanceof EstimationFailedError) {
+      io.stderr(`nightjar ${name}: no orbit could be estimated: ${err.message}\n`);
       return 1;
     }
     throw err;

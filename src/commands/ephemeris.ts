@@ -6,7 +6,8 @@ import type { EphemerisRow } from '../orbit/ephemeris.js';
 import type { PerihelionElements } from '../orbit/elements.js';
 import { ttFromTtIso } from '../orbit/time.js';
 import { DEFAULT_MEMBERS, estimateObject } from '../orbit/estimation/index.js';
-import { parseCommandArgs, parseUtc } from './args.js';
+import { parseCommandArgs, parseUtcInTable } from './args.js';
+import { toValidationIssues } from '../config/issues.js';
 import { readNoticeFile, trackletOf } from './notice-file.js';
 import type { CommandMain } from './io.js';
 import { UsageError } from './io.js';
@@ -100,14 +101,14 @@ function requestedTimes(values: Options): Date[] {
     const list = values.times.split(',').map((s) => s.trim()).filter((s) => s !== '');
     if (list.length === 0) throw new UsageError('--times: expected at least one ISO-8601 UTC time');
     if (list.length > MAX_ROWS) throw new UsageError(`--times: ${list.length} times is more than ${MAX_ROWS}`);
-    return list.map((s) => parseUtc('--times', s));
+    return list.map((s) => parseUtcInTable('--times', s));
   }
   if (!grid) throw new UsageError('times are required: --times ISO[,ISO...] or --start ISO --end ISO --step MINUTES');
   if (values.start === undefined || values.end === undefined || values.step === undefined) {
     throw new UsageError('a grid needs all of --start, --end and --step');
   }
-  const start = parseUtc('--start', values.start);
-  const end = parseUtc('--end', values.end);
+  const start = parseUtcInTable('--start', values.start);
+  const end = parseUtcInTable('--end', values.end);
   const stepMin = parseNumber('--step', values.step);
   if (!(stepMin > 0)) throw new UsageError(`--step: ${values.step} minutes; expected a number of minutes > 0`);
   if (end.getTime() < start.getTime()) throw new UsageError(`--end ${values.end} is before --start ${values.start}`);
@@ -129,13 +130,17 @@ function viewpoint(values: Options, io: Parameters<CommandMain>[1]): { location:
   if (values.lat === undefined || values.lon === undefined || values.height === undefined) {
     throw new UsageError('an ad-hoc site needs all of --lat, --lon and --height');
   }
-  const raw = { latDeg: parseNumber('--lat', values.lat), lonDeg: parseNumber('--lon', values.lon), heightM: parseNumber('--height', values.height) };
+  const raw = {
+    latDeg: parseNumber('--lat', values.lat),
+    lonDeg: parseNumber('--lon', values.lon),
+    heightM: parseNumber('--height', values.height),
+  };
   const checked = locationSchema.safeParse(raw);
   if (!checked.success) {
     const names: Record<string, string> = { latDeg: '--lat', lonDeg: '--lon', heightM: '--height' };
-    const first = checked.error.issues[0];
-    const key = String(first?.path[0] ?? '');
-    throw new UsageError(`${names[key] ?? key}: ${first?.message ?? 'out of range'}`);
+    const issue = toValidationIssues(checked.error)[0];
+    const key = issue?.path ?? '';
+    throw new UsageError(`${names[key] ?? 'the place'} ${String(raw[key as keyof typeof raw] ?? '')}: ${issue?.message ?? 'out of range'}`);
   }
   return { location: checked.data, label: `lat ${raw.latDeg} lon ${raw.lonDeg} height ${raw.heightM} m` };
 }
@@ -284,6 +289,13 @@ export const main: CommandMain = async (argv, io) => {
     return 1;
   }
   const notice = read.notice;
+  if (notice.retracted === true) {
+    io.stderr(
+      `nightjar ephemeris: ${values.notice} retracts ${notice.objectId} (${notice.reason ?? 'no reason given'}) and carries no positions or orbit; ` +
+        'give --notice a file with observations or an orbit block\n',
+    );
+    return 1;
+  }
   const { members, seed } = ensembleOptions(values);
   // One path for both kinds of notice, as the service takes: a tracklet is estimated by ranging; an
   // orbit block is the nominal, with an ensemble from its covariance or the stated default spread.

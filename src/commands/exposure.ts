@@ -2,12 +2,10 @@ import type { Site } from '../config/schema.js';
 import { loadConfig } from '../config/load.js';
 import type { NotFeasible, ObservingConditions } from '../photometry/conditions.js';
 import { PlanConfigError } from '../photometry/conditions.js';
-import { PhotometryInputError } from '../photometry/errors.js';
 import { coloursPlan, photometryPlan, spectrumPlan, type ExposurePlan, type PlanOptions, type PlanResult } from '../photometry/plans.js';
-import { SkyInputError } from '../sky/errors.js';
 import { altitudeForAirmassDeg } from '../sky/site.js';
 import { siteVExtinctionMagPerAirmass, skyBrightnessKS } from '../sky/sky-brightness.js';
-import { parseCommandArgs } from './args.js';
+import { asOptionError, parseCommandArgs } from './args.js';
 import type { CommandMain } from './io.js';
 import { UsageError } from './io.js';
 
@@ -75,6 +73,19 @@ interface Values {
   config?: string | undefined;
   help?: boolean | undefined;
 }
+
+/** The plan functions' field names and the options they come from. */
+const OPTION_OF_FIELD: Readonly<Record<string, string>> = {
+  vMag: '--mag',
+  rateArcsecPerS: '--rate',
+  rateSigmaArcsecPerS: '--rate-sigma',
+  targetSnr: '--snr',
+  airmass: '--airmass',
+  moonSeparationDeg: '--moon-sep',
+  slitArcsec: '--slit',
+  windowS: '--window-min (in seconds)',
+  'diameterRangeM.minM': '--diameter-m',
+};
 
 function numberOption(name: string, text: string | undefined, lo: number, hi: number): number | undefined {
   if (text === undefined) return undefined;
@@ -203,6 +214,15 @@ export const main: CommandMain = async (argv, io) => {
   const site = config.sites.find((s) => s.id === values.site);
   if (!site) throw new UsageError(`unknown site "${values.site}" (configured: ${config.sites.map((s) => s.id).join(', ')})`);
   if (instrument === 'spectrograph' && site.spectrograph === undefined) throw new UsageError(`site "${site.id}" has no spectrograph`);
+  if (rateArcsecPerS > site.limits.maxRateArcsecPerS) {
+    throw new UsageError(
+      `--rate ${values.rate}: faster than the mount at "${site.id}" can track (${site.limits.maxRateArcsecPerS} arcsec/s, ` +
+        'limits.maxRateArcsecPerS in the configuration); give a rate up to that',
+    );
+  }
+  if (instrument === 'spectrograph' && slitArcsec !== undefined && site.spectrograph && !site.spectrograph.slitWidthsArcsec.includes(slitArcsec)) {
+    throw new UsageError(`--slit ${values.slit}: not a slit of the spectrograph at "${site.id}"; give one of ${site.spectrograph.slitWidthsArcsec.join(', ')} (arcsec)`);
+  }
   if (values.filter !== undefined && !site.imager.filters.some((x) => x.name === values.filter)) {
     throw new UsageError(`--filter ${values.filter}: not on the imager of "${site.id}" (configured: ${site.imager.filters.map((x) => x.name).join(', ')})`);
   }
@@ -232,7 +252,9 @@ export const main: CommandMain = async (argv, io) => {
           ? [photometryPlan(site, conditions, options)]
           : [photometryPlan(site, conditions, options), coloursPlan(site, conditions, options)];
   } catch (err) {
-    if (err instanceof PhotometryInputError || err instanceof PlanConfigError || err instanceof SkyInputError) throw new UsageError(err.message);
+    const option = asOptionError(err, OPTION_OF_FIELD);
+    if (option) throw option;
+    if (err instanceof PlanConfigError) throw new UsageError(err.message);
     throw err;
   }
 

@@ -1,7 +1,7 @@
 import { loadConfig } from '../config/load.js';
-import { SkyInputError } from '../sky/errors.js';
+import { LEAP_SECOND_TABLE_INFO } from '../sky/time-scale.js';
 import { nightAt, nightToJson, type Night } from '../sky/night.js';
-import { parseCommandArgs } from './args.js';
+import { asOptionError, LEAP_TABLE_END, outsideLeapSecondTable, parseCommandArgs } from './args.js';
 import type { CommandMain } from './io.js';
 import { UsageError } from './io.js';
 
@@ -71,12 +71,28 @@ export const main: CommandMain = async (argv, io) => {
   if (!site) {
     throw new UsageError(`unknown site "${values.site}" (configured: ${config.sites.map((s) => s.id).join(', ')})`);
   }
+  // From local mean noon of the date to noon of the next day: within 0h UTC of the date and 36 h after, at any longitude.
+  const dayMs = Date.parse(`${values.date}T00:00:00Z`);
+  if (/^\d{4}-\d{2}-\d{2}$/.test(values.date) && Number.isFinite(dayMs)) {
+    const first = LEAP_SECOND_TABLE_INFO.firstUtc.slice(0, 10);
+    const last = new Date(Date.parse(LEAP_SECOND_TABLE_INFO.validUntilUtc) - 36 * 3_600_000).toISOString().slice(0, 10);
+    const range = `give a date from ${first} to ${last}`;
+    if (outsideLeapSecondTable(dayMs) !== null && dayMs < Date.parse(LEAP_SECOND_TABLE_INFO.firstUtc)) {
+      throw new UsageError(`--date ${values.date}: before ${first}, where the leap-second table begins; ${range}`);
+    }
+    if (outsideLeapSecondTable(dayMs + 36 * 3_600_000) !== null) {
+      throw new UsageError(
+        `--date ${values.date}: the night ends past ${LEAP_TABLE_END}, where the leap-second table ` +
+          `(${LEAP_SECOND_TABLE_INFO.source}, updated ${LEAP_SECOND_TABLE_INFO.updated}) stops being valid; ${range}, ` +
+          'or update src/sky/leap-seconds.ts (DEVELOPERS.md, "Keeping the leap-second table current")',
+      );
+    }
+  }
   let night: Night;
   try {
     night = nightAt(site, values.date);
   } catch (err) {
-    if (err instanceof SkyInputError && err.field === 'localDate') throw new UsageError(`--date: ${err.message}`);
-    throw err;
+    throw asOptionError(err, { localDate: '--date' }) ?? err;
   }
   io.stdout(values.json ? `${JSON.stringify(nightToJson(night), null, 2)}\n` : formatText(night, site.name));
   return 0;

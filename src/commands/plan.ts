@@ -4,7 +4,7 @@ import { EstimationFailedError, EstimationInputError } from '../orbit/estimation
 import { assessObject, estimateSummaryOut, weightsFromConfig } from '../planning/assess.js';
 import type { ObjectPlan, PlannedRequest, SitePlan } from '../planning/plan-object.js';
 import { readNoticeFile, trackletOf } from './notice-file.js';
-import { parseCommandArgs, parseUtc, parseWhole } from './args.js';
+import { parseCommandArgs, parseUtcInTable, parseWhole } from './args.js';
 import type { CommandMain, CommandIo } from './io.js';
 import { UsageError } from './io.js';
 
@@ -112,8 +112,9 @@ export const main: CommandMain = async (argv: string[], io: CommandIo) => {
   if (parsed === null) return 0;
   const values: Options = parsed;
   if (values.notice === undefined) throw new UsageError('--notice FILE is required');
-  const now = values.now === undefined ? new Date() : parseUtc('--now', values.now);
   const config = loadConfig({ path: values.config, env: io.env, cwd: io.cwd });
+  // The plan looks planning.horizonH ahead of --now: all of it must lie inside the leap-second table.
+  const now = values.now === undefined ? new Date() : parseUtcInTable('--now', values.now, { ms: config.planning.horizonH * 3_600_000, what: `the plan's horizon of ${config.planning.horizonH} h` });
   const members = values.members === undefined ? config.planning.members : parseWhole('--members', values.members, 1, 100_000);
   const seedOption = values.seed === undefined ? undefined : parseWhole('--seed', values.seed, 0, 2 ** 32 - 1);
   const sites = values.site === undefined ? config.sites : config.sites.filter((s) => s.id === values.site);

@@ -3,7 +3,7 @@ import { join, resolve } from 'node:path';
 import { loadConfig } from '../config/load.js';
 import { parseNotice } from '../intake/notice.js';
 import { simulateNight } from '../planning/simulate.js';
-import { parseCommandArgs, parseUtc, parseWhole } from './args.js';
+import { parseCommandArgs, parseUtcInTable, parseWhole } from './args.js';
 import type { CommandMain, CommandIo } from './io.js';
 
 /**
@@ -57,7 +57,7 @@ export const main: CommandMain = async (argv: string[], io: CommandIo) => {
   );
   if (parsed === null) return 0;
   const values: Options = parsed;
-  const now = values.now === undefined ? new Date() : parseUtc('--now', values.now);
+  const now = values.now === undefined ? new Date() : parseUtcInTable('--now', values.now);
   const count = values.count === undefined ? 7 : parseWhole('--count', values.count, 1, 200);
   const seed = values.seed === undefined ? 1 : parseWhole('--seed', values.seed, 0, 2 ** 32 - 1);
   const config = loadConfig({ path: values.config, env: io.env, cwd: io.cwd });

@@ -31,21 +31,29 @@ export function parseConfig(raw: unknown, source = '(inline)'): Config {
   return result.data;
 }
 
-/** Applies NIGHTJAR_PORT and NIGHTJAR_DB to the raw object before validation, so bad values are reported by path. */
-function applyEnvironment(raw: unknown, env: Environment): unknown {
-  if (typeof raw !== 'object' || raw === null || Array.isArray(raw)) return raw;
+/** The environment variables that override a configuration field, by the field's path. */
+export const ENVIRONMENT_OVERRIDES: Readonly<Record<string, string>> = { 'service.port': 'NIGHTJAR_PORT', 'service.databasePath': 'NIGHTJAR_DB' };
+
+/**
+ * Applies NIGHTJAR_PORT and NIGHTJAR_DB to the raw object before validation, so
+ * bad values are checked by the same rules; `overridden` lists the paths whose
+ * value came from the environment, so a problem there names the variable.
+ */
+function applyEnvironment(raw: unknown, env: Environment): { raw: unknown; overridden: string[] } {
+  if (typeof raw !== 'object' || raw === null || Array.isArray(raw)) return { raw, overridden: [] };
   const obj = { ...(raw as Record<string, unknown>) };
   const serviceRaw = obj['service'];
   const service: Record<string, unknown> =
     typeof serviceRaw === 'object' && serviceRaw !== null && !Array.isArray(serviceRaw)
       ? { ...(serviceRaw as Record<string, unknown>) }
       : {};
+  const overridden: string[] = [];
   const port = env['NIGHTJAR_PORT'];
-  if (port !== undefined && port !== '') service['port'] = /^\d+$/.test(port) ? Number(port) : port;
+  if (port !== undefined && port !== '') (service['port'] = /^\d+$/.test(port) ? Number(port) : port), overridden.push('service.port');
   const db = env['NIGHTJAR_DB'];
-  if (db !== undefined && db !== '') service['databasePath'] = db;
+  if (db !== undefined && db !== '') (service['databasePath'] = db), overridden.push('service.databasePath');
   obj['service'] = service;
-  return obj;
+  return { raw: obj, overridden };
 }
 
 /**
@@ -71,7 +79,22 @@ export function loadConfig(options: { path?: string | undefined; env?: Environme
   } catch (err) {
     throw new ConfigError(full, [{ path: '(file)', message: `not valid JSON: ${(err as Error).message}` }]);
   }
-  const config = parseConfig(applyEnvironment(raw, env), full);
+  const applied = applyEnvironment(raw, env);
+  let config: Config;
+  try {
+    config = parseConfig(applied.raw, full);
+  } catch (err) {
+    if (!(err instanceof ConfigError) || !err.issues.some((i) => applied.overridden.includes(i.path))) throw err;
+    // A bad value that came from the environment is the variable's fault, not the file's.
+    const fromEnv = err.issues.filter((i) => applied.overridden.includes(i.path));
+    const fromFile = err.issues.filter((i) => !applied.overridden.includes(i.path));
+    const named = fromEnv.map((i) => {
+      const variable = ENVIRONMENT_OVERRIDES[i.path]!;
+      return { path: `${variable}=${env[variable] ?? ''} (the environment, in place of ${i.path})`, message: i.message };
+    });
+    const sources = [fromFile.length > 0 ? full : null, ...fromEnv.map((i) => `the environment variable ${ENVIRONMENT_OVERRIDES[i.path]!}`)].filter((x): x is string => x !== null);
+    throw new ConfigError(sources.join(' and '), [...named, ...fromFile]);
+  }
   const service = config.service;
   return {
     ...config,

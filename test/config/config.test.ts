@@ -100,8 +100,10 @@ describe('configuration', () => {
     expect(config.service.databasePath).toBe('/tmp/x.sqlite');
   });
 
-  it('reports a bad NIGHTJAR_PORT by its path', () => {
-    expect(() => loadConfig({ env: { NIGHTJAR_PORT: '70000' } })).toThrow(/service\.port: expected a number <= 65535/);
+  it('reports a bad NIGHTJAR_PORT by the variable and the field it stands for', () => {
+    expect(() => loadConfig({ env: { NIGHTJAR_PORT: '70000' } })).toThrow(
+      /^invalid configuration in the environment variable NIGHTJAR_PORT:\n {2}NIGHTJAR_PORT=70000 \(the environment, in place of service\.port\): expected a number <= 65535$/,
+    );
   });
 
   it('reads the file named by NIGHTJAR_CONFIG', () => {

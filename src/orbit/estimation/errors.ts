@@ -6,10 +6,13 @@ export class EstimationInputError extends Error {
   override readonly name = 'EstimationInputError';
   readonly field: string;
   readonly value: unknown;
+  /** Why the value was refused, without the field's name (for callers that name the field their own way). */
+  readonly reason: string;
   constructor(field: string, value: unknown, reason: string) {
     super(`${field} = ${String(value)}: ${reason}`);
     this.field = field;
     this.value = value;
+    this.reason = reason;
   }
 }
 
