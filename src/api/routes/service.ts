@@ -89,7 +89,7 @@ export function serviceRoutes(ctx: ApiContext): AnyRouteSpec[] {
           ...sources.filter((s) => s.consecutiveFailures > 0).map((s) => `${s.source}: ${s.consecutiveFailures} failure(s) in a row, last: ${s.lastError ?? 'unknown'}`),
           ...sources
             .filter((s) => s.lastAnswer !== null && s.lastAnswer.rejectedFraction >= REJECTED_FRACTION_PROBLEM)
-            .map((s) => `${s.source}: ${s.lastAnswer!.rejected} of ${s.lastAnswer!.notices} notices in its last answer were refused`),
+            .map((s) => `${s.source}: ${s.lastAnswer!.rejected} of ${s.lastAnswer!.notices} notices in its last ${s.source.startsWith('feed:') ? 'answer' : 'scan'} were refused`),
           ...failingFiles.map((f) => `inbox file ${f.file} failed ${f.attempts} time(s): ${f.lastError ?? 'unknown'}`),
           ...(ctx.problems ? ctx.problems() : []),
         ];
