@@ -1,5 +1,6 @@
 import { z } from 'zod';
 import { toValidationIssues, type ValidationIssue } from '../config/issues.js';
+import type { ObservationInput } from '../store/notices.js';
 import { DESIGNATION_RULE, identifier, isWellFormedText, NOTICE_ID_RULE, SENDER_RULE } from './identifiers.js';
 import { mergedTrackletIssues, sameTimeConflicts, type RulePosition } from './tracklet-rules.js';
 
@@ -202,21 +203,8 @@ export function noticeIdentity(raw: unknown): { sender: string | null; noticeId:
   return { sender: get('sender'), noticeId: get('noticeId'), objectId: get('objectId') };
 }
 
-/** One position of a notice flattened with its observer (degrees, arcsec, metres; ISO UTC time), as the store keeps it. */
-export interface FlatObservation {
-  t: string;
-  raDeg: number;
-  decDeg: number;
-  sigmaArcsec: number;
-  mag: number | null;
-  band: string | null;
-  obsLatDeg: number;
-  obsLonDeg: number;
-  obsHeightM: number;
-}
-
-/** The notice's positions, each with its own observer; a magnitude without a band is V. */
-export function flatObservations(notice: Notice): FlatObservation[] {
+/** The notice's positions, each with its own observer, as the store keeps them (degrees, arcsec, metres, ISO UTC time); a magnitude without a band is V. */
+export function flatObservations(notice: Notice): ObservationInput[] {
   return (notice.observations ?? []).map((o) => {
     const observer = observerOf(notice, o);
     return {
