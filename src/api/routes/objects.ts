@@ -144,7 +144,8 @@ export function objectRoutes(ctx: ApiContext): AnyRouteSpec[] {
         200: { description: 'the table', schema: z.object({ objectId: z.string(), siteId: z.string(), method: z.string(), rows: z.array(ephemerisRow) }) },
         400: { description: 'bad query', schema: errorSchema },
         404: { description: 'unknown object or site', schema: errorSchema },
-        422: { description: 'the object cannot be estimated from what is stored', schema: errorSchema },
+        422: { description: 'the object cannot be estimated from what is stored, or its estimate ran over the time limit', schema: errorSchema },
+        503: { description: 'the on-demand estimate worker is busy past a short wait (or cannot start); retry-after says when to ask again', schema: errorSchema },
       },
       handler: async ({ params, query }) => {
         const site = ctx.config.sites.find((s) => s.id === query.site);

@@ -58,6 +58,7 @@ export function pictureRoutes(ctx: ApiContext): AnyRouteSpec[] {
         200: { description: 'SVG document', schema: z.string() },
         400: { description: 'bad date', schema: errorSchema },
         404: { description: 'unknown site', schema: errorSchema },
+        503: { description: 'the on-demand estimate worker is busy past a short wait (or cannot start); retry-after says when to ask again', schema: errorSchema },
       },
       handler: async ({ params, query, reply }) => {
         const site = data.siteOr404(params.id);
@@ -84,6 +85,7 @@ export function pictureRoutes(ctx: ApiContext): AnyRouteSpec[] {
         400: { description: 'bad query', schema: errorSchema },
         404: { description: 'unknown object or site', schema: errorSchema },
         422: { description: 'no position for that time', schema: errorSchema },
+        503: { description: 'the on-demand estimate worker is busy past a short wait (or cannot start); retry-after says when to ask again', schema: errorSchema },
       },
       handler: async ({ params, query, reply }) => {
         const input = await data.pointing(params.id, query.site, query.t ? new Date(query.t) : undefined);
