@@ -4,6 +4,8 @@ import { estimateObject, type NoticeOrbitBlock, type RangePriorKind } from '../o
 import type { ScoreWeights } from './score.js';
 import { planObject, type ObjectPlan, type PlannedRequest } from './plan-object.js';
 import { TRACK_STEP_MIN } from './track.js';
+import { chainedTrackSource } from './track-source.js';
+import { approachStartFor, chainPhaseMs, estimateKey, type SkyTimelineCache, type TrackCache } from './reuse.js';
 
 /** What one assessment of an object takes: its tracklet, its orbit block if any, the sites and a clock. */
 export interface AssessmentInput {
@@ -19,6 +21,14 @@ export interface AssessmentInput {
   seed?: number;
   /** Range prior of the estimate; 'auto' (default) lets the estimator choose by the number of positions. */
   rangePrior?: RangePriorChoice;
+  /** Work kept from earlier assessments (reuse.ts): the same answer, sooner. */
+  reuse?: AssessmentReuse;
+}
+
+/** What a long-lived caller (a worker thread) keeps between assessments. */
+export interface AssessmentReuse {
+  tracks: TrackCache;
+  timelines: SkyTimelineCache;
 }
 
 export type { RangePriorChoice };
@@ -112,25 +122,50 @@ export function weightsFromConfig(weights: Readonly<Record<string, number | unde
 /**
  * The whole assessment of one object: orbit estimate (ranging, or the orbit
  * block with its ensemble), then the plan for every site. Pure apart from the
- * clock passed in; the same input gives the same answer.
+ * clock passed in; the same input gives the same answer, whether `reuse` holds
+ * earlier work or not (reuse.ts: the estimate under its key, its chained track).
+ * The estimate's close-approach search starts at approachStartFor(tracklet, now).
  */
 export function assessObject(input: AssessmentInput): Assessment {
-  const estimate = estimateObject({
+  const seed = input.seed ?? seedForObject(input.objectId);
+  const approachStart = approachStartFor(input.observations, input.now);
+  const key = estimateKey({
     objectId: input.objectId,
     observations: input.observations,
-    orbit: input.orbit ?? undefined,
-    now: input.now,
+    orbit: input.orbit,
+    rangePrior: input.rangePrior ?? 'auto',
     members: input.members,
-    seed: input.seed ?? seedForObject(input.objectId),
-    ranging: rangingFor(input.rangePrior),
+    seed,
+    approachStart,
   });
+  let track = input.reuse?.tracks.get(key);
+  if (track === undefined) {
+    const estimate = estimateObject({
+      objectId: input.objectId,
+      observations: input.observations,
+      orbit: input.orbit ?? undefined,
+      now: approachStart,
+      members: input.members,
+      seed,
+      ranging: rangingFor(input.rangePrior),
+    });
+    track = chainedTrackSource(estimate.core, chainPhaseMs(seed));
+  }
+  const estimate = track.estimate;
+  const timelines = input.reuse?.timelines;
   const plan = planObject({
     estimate,
+    track,
+    ...(timelines ? { skyTimeline: (site: Site, startMs: number, endMs: number) => timelines.timeline(site, startMs, endMs) } : {}),
     sites: input.sites,
     now: input.now,
     horizonH: input.horizonH,
     ...(input.weights ? { weights: input.weights } : {}),
   });
+  if (input.reuse) {
+    track.forgetBefore(input.now.getTime());
+    input.reuse.tracks.set(key, track);
+  }
   const requests = plan.sites.flatMap((s) => s.requests);
   const noWindow = plan.sites.every((s) => s.windows.length === 0);
   return {

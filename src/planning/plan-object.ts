@@ -12,7 +12,8 @@ import { siteVExtinctionMagPerAirmass, skyBrightnessKS } from '../sky/sky-bright
 import { PlanningInputError, requireDate, requireFinite } from './errors.js';
 import { DEFAULT_SCORE_WEIGHTS, scoreRequest, type Score, type ScoreWeights } from './score.js';
 import { searchPattern, type SearchPattern } from './search-pattern.js';
-import { buildTrack, TRACK_SPREAD_EVERY, TRACK_STEP_MIN, trackRowsForSites, type Track, type TrackPoint } from './track.js';
+import { buildTrack, TRACK_STEP_MIN, type Track, type TrackPoint } from './track.js';
+import { directTrackSource, TRACK_STEP_MS, type TrackSource } from './track-source.js';
 
 /**
  * The planner: for one assessed object and every configured site, either up to
@@ -51,6 +52,13 @@ export interface PlanObjectInput {
   horizonH: number;
   weights?: Partial<ScoreWeights>;
   options?: PlannerOptions;
+  /** Where the track's rows come from (default: straight from the estimate); see track-source.ts. */
+  track?: TrackSource;
+  /**
+   * The sky timeline of a site over [startMs, endMs] (whole track steps of UTC), when the caller
+   * keeps timelines for many objects; default: built here. It must be buildSkyTimeline's answer.
+   */
+  skyTimeline?: (site: Site, startMs: number, endMs: number) => SkyTimeline;
 }
 
 export interface WindowSummary {
@@ -480,14 +488,16 @@ export function planObject(input: PlanObjectInput): ObjectPlan {
   const weights: ScoreWeights = { ...DEFAULT_SCORE_WEIGHTS, ...input.weights };
   const startMs = input.now.getTime();
   const endMs = startMs + Math.round(input.horizonH * 3_600_000);
+  // The track and the sky timeline on whole steps of UTC around [now, now + horizon], so replans share their samples.
+  const grid = { startMs: Math.floor(startMs / TRACK_STEP_MS) * TRACK_STEP_MS, endMs: Math.ceil(endMs / TRACK_STEP_MS) * TRACK_STEP_MS };
+  const source = input.track ?? directTrackSource(input.estimate);
+  const rows = source.gridRows(input.sites.map((s) => s.location), grid.startMs, grid.endMs);
   return {
     objectId: input.estimate.objectId,
     plannedAt: input.now.toISOString(),
     horizonEnd: new Date(endMs).toISOString(),
     horizonH: input.horizonH,
-    sites: ((rows) => input.sites.map((site, i) => planSite(input, site, startMs, endMs, weights, rows[i])))(
-      trackRowsForSites(input.estimate, input.sites.map((s) => s.location), startMs, endMs),
-    ),
+    sites: input.sites.map((site, i) => planSite(input, site, startMs, endMs, weights, grid, source, rows[i]!)),
   };
 }
 
@@ -506,12 +516,21 @@ function noWindowReasons(reasons: string[], track: Track, site: Site, horizonH: 
   ];
 }
 
-function planSite(input: PlanObjectInput, site: Site, startMs: number, endMs: number, weights: ScoreWeights, trackRows?: readonly EphemerisRow[]): SitePlan {
+function planSite(
+  input: PlanObjectInput,
+  site: Site,
+  startMs: number,
+  endMs: number,
+  weights: ScoreWeights,
+  grid: { startMs: number; endMs: number },
+  source: TrackSource,
+  trackRows: readonly EphemerisRow[],
+): SitePlan {
   const { estimate, horizonH } = input;
   const maxPointings = input.options?.maxSearchPointings ?? DEFAULT_MAX_SEARCH_POINTINGS;
   const out: SitePlan = { siteId: site.id, siteName: site.name, windows: [], requests: [], reasons: [], usable: null };
-  const track = buildTrack(estimate, site.location, startMs, endMs, TRACK_STEP_MIN, trackRows);
-  const timeline = buildSkyTimeline(site, new Date(startMs), new Date(endMs));
+  const track = buildTrack(estimate, site.location, grid.startMs, grid.endMs, TRACK_STEP_MIN, trackRows);
+  const timeline = input.skyTimeline?.(site, grid.startMs, grid.endMs) ?? buildSkyTimeline(site, new Date(grid.startMs), new Date(grid.endMs));
   const found = observableWindows(site, new Date(startMs), new Date(endMs), track.targetAt, { timeline });
   out.windows = found.windows.map((w) => ({
     start: w.start.toISOString(),
@@ -592,7 +611,7 @@ function planSite(input: PlanObjectInput, site: Site, startMs: number, endMs: nu
   }
 
   const fieldArcsec = Math.min(site.imager.fieldArcmin.width, site.imager.fieldArcmin.height) * 60;
-  const exact = exactRows(estimate, site, choices, track);
+  const exact = exactRows(source, site, choices, track);
   for (const choice of choices) {
     const p = choice.recommended.c.point;
     const extent = uncertaintyExtent(p);
@@ -648,8 +667,8 @@ function tableTimesMs(choice: KindChoice): number[] {
  */
 export const TRACK_TABLE_MAX_RATE_ARCSEC_PER_S = 2;
 
-/** Rows at every recommended start and table time of the chosen requests: from the track when it moves slowly, else one estimate call per site. */
-function exactRows(estimate: ObjectEstimate, site: Site, choices: KindChoice[], track: Track): Map<number, EphemerisRow> {
+/** Rows at every recommended start and table time of the chosen requests: from the track when it moves slowly, else from the track source's estimate. */
+function exactRows(source: TrackSource, site: Site, choices: KindChoice[], track: Track): Map<number, EphemerisRow> {
   const wanted = [...new Set(choices.flatMap((c) => [c.recommended.tMs, ...tableTimesMs(c)]))].sort((a, b) => a - b);
   const byTime = new Map<number, EphemerisRow>();
   if (wanted.length === 0) return byTime;
@@ -658,7 +677,7 @@ function exactRows(estimate: ObjectEstimate, site: Site, choices: KindChoice[], 
     return byTime;
   }
   // Positions fresh at every row; the uncertainty every third row (5-minute tables), filled in where it changes fast.
-  const rows = estimate.ephemeris(site.location, wanted.map((t) => new Date(t)), { spreadEvery: TRACK_SPREAD_EVERY });
+  const rows = source.rowsAt(site.location, wanted);
   wanted.forEach((t, i) => {
     const row = rows[i];
     if (row === undefined) throw new PlanningInputError('estimate.ephemeris', rows.length, `expected ${wanted.length} rows, one per requested time`);

@@ -75,7 +75,6 @@ function requireRow(row: EphemerisRow, k: number): void {
   }
 }
 
-/** Samples the estimate from `location` every `stepMin` minutes over [startMs, endMs] (end included). */
 /** The sample times of a track: every `stepMin` from start, and the end. */
 export function trackTimes(startMs: number, endMs: number, stepMin = TRACK_STEP_MIN): Date[] {
   const stepMs = stepMin * 60_000;
@@ -83,17 +82,6 @@ export function trackTimes(startMs: number, endMs: number, stepMin = TRACK_STEP_
   for (let t = startMs; t < endMs; t += stepMs) times.push(new Date(t));
   times.push(new Date(endMs));
   return times;
-}
-
-/**
- * Rows at `trackTimes` for every site, from one call when the estimate can serve
- * several sites at once (one propagation of the ensemble), else one call per site.
- */
-export function trackRowsForSites(estimate: ObjectEstimate, locations: readonly GeodeticLocation[], startMs: number, endMs: number, stepMin = TRACK_STEP_MIN): EphemerisRow[][] {
-  const times = trackTimes(startMs, endMs, stepMin);
-  const options = { spreadEvery: TRACK_SPREAD_EVERY };
-  if (estimate.ephemerisForSites && locations.length > 1) return estimate.ephemerisForSites(locations, times, options);
-  return locations.map((l) => estimate.ephemeris(l, times, options));
 }
 
 export function buildTrack(

@@ -10,6 +10,8 @@ import { parseNotice } from '../../src/intake/notice.js';
 import { estimateObject } from '../../src/orbit/estimation/index.js';
 import { planObject, type ObjectPlan } from '../../src/planning/plan-object.js';
 import { simulateNight } from '../../src/planning/simulate.js';
+import { approachStartFor, chainPhaseMs } from '../../src/planning/reuse.js';
+import { chainedTrackSource } from '../../src/planning/track-source.js';
 
 function collectingIo(): CommandIo & { out: string[]; err: string[] } {
   const out: string[] = [];
@@ -37,8 +39,11 @@ describe('nightjar plan', () => {
     const parsed = parseNotice(notice, { now: new Date(now), checkAge: false });
     if (!parsed.ok) throw new Error('the invented notice must be valid');
     const config = loadConfig({ env: {}, cwd: process.cwd() });
-    const estimate = estimateObject({ objectId: parsed.notice.objectId, observations: trackletOf(parsed.notice), orbit: parsed.notice.orbit, now: new Date(now), members: 40, seed: 3 });
-    const direct = planObject({ estimate, sites: config.sites, now: new Date(now), horizonH: config.planning.horizonH });
+    // The estimate's clock is where its close-approach search starts; its track is propagated in a chain of pieces (planning/reuse.ts).
+    const observations = trackletOf(parsed.notice);
+    const estimate = estimateObject({ objectId: parsed.notice.objectId, observations, orbit: parsed.notice.orbit, now: approachStartFor(observations, new Date(now)), members: 40, seed: 3 });
+    const track = chainedTrackSource(estimate.core, chainPhaseMs(3));
+    const direct = planObject({ estimate, track, sites: config.sites, now: new Date(now), horizonH: config.planning.horizonH });
     expect(printed.plan).toEqual(JSON.parse(JSON.stringify(direct)));
     expect(printed.plan.sites.map((s) => s.siteId)).toEqual(['lantern-ridge', 'kestrel-hollow']);
     expect(printed.plan.sites.some((s) => s.requests.length > 0)).toBe(true);

@@ -62,6 +62,8 @@ export interface ShortArcEstimate extends ObjectEstimate {
   readonly attributable: Attributable | null;
   /** Ranging diagnostics; effectiveSampleSize is that of the importance sampling inside the cells. */
   readonly ranging: { passes: number; evaluatedNodes: number; minChiSquare: number; effectiveSampleSize: number } | null;
+  /** What the ephemerides are made from (estimateFromCore rebuilds them from it). */
+  readonly core: EnsembleCore;
   ephemeris(location: GeodeticLocation, timesUtc: readonly Date[], options?: EphemerisOptions): EstimatedEphemerisRow[];
   ephemerisForSites(locations: readonly GeodeticLocation[], timesUtc: readonly Date[], options?: EphemerisOptions): EstimatedEphemerisRow[][];
 }
@@ -207,7 +209,7 @@ function absoluteMagnitudes(states: readonly HeliocentricState[], observations: 
  * TRACKLET_SCATTER_PRIOR_MAG), the rotation term, the band conversion, and
  * the phase angle at which the H was measured (for the slope term).
  */
-interface MagnitudeBudget {
+export interface MagnitudeBudget {
   /** sqrt(mean-scatter^2 + rotation^2 + band^2), mag. */
   readonly fixedMag: number;
   /** Mean phase angle of the magnitudes that gave H, deg (0 for an orbit block's H). */
@@ -703,6 +705,75 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
   };
 
   const firstObservedAt = observations.length > 0 ? observations[0]!.timeUtc.toISOString() : utcFromTt(epochTt).toISOString();
+  const core: EnsembleCore = { objectId: input.objectId, firstObservedAt, summary, epochTt, nominal, states, nominalH, memberH, slopeG, magnitudeBudget };
+  return {
+    ...estimateFromCore(core, perturbers),
+    nominal,
+    virtualOrbits: states,
+    memberRangeAu: rangeAu,
+    nominalH,
+    memberH,
+    attributable,
+    ranging: rangingInfo,
+  };
+}
+
+/**
+ * What an estimate's ephemerides are made from, as plain data: the summary, the
+ * nominal and the virtual orbits at one epoch (heliocentric EQJ, au, au/day; TT
+ * days since J2000.0), the absolute magnitudes and the magnitude budget. It can
+ * be kept, stored, and moved to another epoch (advanceCore) without estimating
+ * again.
+ */
+export interface EnsembleCore {
+  readonly objectId: string;
+  readonly firstObservedAt: string;
+  readonly summary: EstimateSummary;
+  readonly epochTt: number;
+  readonly nominal: HeliocentricState;
+  readonly states: readonly HeliocentricState[];
+  readonly nominalH: number | null;
+  readonly memberH: Float64Array | null;
+  readonly slopeG: number;
+  readonly magnitudeBudget: MagnitudeBudget | null;
+}
+
+/** An estimate built from its core: the ephemerides of ShortArcEstimate, and the core itself. */
+export interface CoreEstimate extends ObjectEstimate {
+  readonly core: EnsembleCore;
+  ephemeris(location: GeodeticLocation, timesUtc: readonly Date[], options?: EphemerisOptions): EstimatedEphemerisRow[];
+  ephemerisForSites(locations: readonly GeodeticLocation[], timesUtc: readonly Date[], options?: EphemerisOptions): EstimatedEphemerisRow[][];
+}
+
+/**
+ * The core moved to `tt` (TT days since J2000.0): the nominal and every virtual
+ * orbit propagated together (propagate.ts, in encounter batches), the rest kept.
+ * Ephemerides from the moved core differ from the original's by the
+ * integrator's own error (the steps fall elsewhere), not by method.
+ */
+export function advanceCore(core: EnsembleCore, tt: number, perturbers: PerturberTable = new PerturberTable()): EnsembleCore {
+  if (!Number.isFinite(tt)) throw new EstimationInputError('tt', tt, 'expected a finite TT (days since J2000.0)');
+  const all = [core.nominal, ...core.states];
+  const moved: HeliocentricState[] = new Array(all.length);
+  batchedStream(
+    all,
+    [tt],
+    Math.abs(tt - core.epochTt),
+    (_k, j, pos, vel, o) => {
+      moved[j] = { tt, x: pos[o]!, y: pos[o + 1]!, z: pos[o + 2]!, vx: vel[o]!, vy: vel[o + 1]!, vz: vel[o + 2]! };
+    },
+    { perturbers },
+  );
+  return { ...core, epochTt: tt, nominal: moved[0]!, states: moved.slice(1) };
+}
+
+/**
+ * Ephemerides (nominal with the ensemble's 1-sigma ellipse, 99 % extent and
+ * magnitude sigma) and member positions from an estimate's core; estimateObject
+ * returns these for the core it computed. The same core gives the same rows.
+ */
+export function estimateFromCore(core: EnsembleCore, perturbers: PerturberTable = new PerturberTable()): CoreEstimate {
+  const { epochTt, nominal, states, nominalH, memberH, slopeG, magnitudeBudget } = core;
   const allStates = [nominal, ...states];
   const spanOf = (timesUtc: readonly Date[]) => timesUtc.reduce((m, d) => Math.max(m, Math.abs(ttFromUtc(d) - epochTt)), 0);
   type Spread = Pick<EstimatedEphemerisRow, 'unc' | 'magSigma' | 'extent99'>;
@@ -775,18 +846,12 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
     return Array.from({ length: subset.length }, (_, m) => ({ raDeg: places.raDeg[m]!, decDeg: places.decDeg[m]! }));
   };
   return {
-    objectId: input.objectId,
-    firstObservedAt,
-    summary,
+    objectId: core.objectId,
+    firstObservedAt: core.firstObservedAt,
+    summary: core.summary,
+    core,
     ephemeris,
     ephemerisForSites,
     memberPositions,
-    nominal,
-    virtualOrbits: states,
-    memberRangeAu: rangeAu,
-    nominalH,
-    memberH,
-    attributable,
-    ranging: rangingInfo,
   };
 }
