@@ -297,6 +297,12 @@ export const planningSchema = z
      * close approachers away); 'encounter' alone; or 'powerLaw' (rho^0.5).
      */
     rangePrior: z.enum(RANGE_PRIOR_CHOICES).default('auto'),
+    /**
+     * Memory each assessment worker may give to estimates and propagated tracks kept for the
+     * next replan of an unchanged object, MB (about 0.2 MB an object at 1000 virtual orbits;
+     * docs/performance.md); 0 keeps nothing and every replan computes afresh.
+     */
+    reuseMb: z.number().int().min(0).max(16_384).default(512),
     /** Score weights; missing ones take the documented defaults (docs/scoring.md). */
     weights: z
       .object({

@@ -5,7 +5,9 @@
  */
 import type { Site } from '../config/schema.js';
 import type { NoticeOrbitBlock } from '../orbit/estimation/index.js';
-import { assessObject, type RangePriorChoice } from '../planning/assess.js';
+import { coreFromStoredBytes, storedCoreBytes } from '../orbit/estimation/index.js';
+import { assessObject, type AssessmentReuse, type RangePriorChoice } from '../planning/assess.js';
+import { createSkyTimelineCache, createTrackCache } from '../planning/reuse.js';
 import type { ScoreWeights } from '../planning/score.js';
 import type { AssessInput, AssessOutput } from './assessment-runner.js';
 import { isNumericRefusal } from '../planning/refusals.js';
@@ -19,10 +21,17 @@ export interface AssessTask {
   members: number;
   weights: Partial<ScoreWeights>;
   rangePrior?: RangePriorChoice;
+  /** Memory the worker may keep for the next replans, MB (config planning.reuseMb); 0: none. */
+  reuseMb?: number;
 }
 
-/** The assessment as the runner stores it. */
-export function runAssessTask(task: AssessTask): AssessOutput {
+/**
+ * The assessment as the runner stores it. With `reuse`, work kept from earlier
+ * tasks (the same answer, sooner); a kept estimate from the store is used when
+ * its key matches, and a newly computed one comes back to be stored.
+ */
+export function runAssessTask(task: AssessTask, reuse?: AssessmentReuse): AssessOutput {
+  const kept = task.input.kept ? coreFromStoredBytes(task.input.kept.bytes) : null;
   const a = assessObject({
     objectId: task.input.objectId,
     observations: task.input.observations,
@@ -33,14 +42,25 @@ export function runAssessTask(task: AssessTask): AssessOutput {
     members: task.members,
     weights: task.weights,
     ...(task.rangePrior ? { rangePrior: task.rangePrior } : {}),
+    ...(reuse ? { reuse } : {}),
+    keptEstimate: kept && task.input.kept ? { key: task.input.kept.key, core: kept } : null,
   });
   return {
     summary: a.summary,
     retireReason: a.retireReason,
     usable: a.usable,
     requests: a.requests.map(storedRequest),
+    estimate: { key: a.estimate.key, members: task.members, keep: a.estimate.computed ? storedCoreBytes(a.estimate.core) : null },
   };
 }
 
+/** What this worker thread keeps between its tasks (made at its first task; tasks run one at a time). */
+let kept: AssessmentReuse | null = null;
+function workerReuse(mb: number | undefined): AssessmentReuse | undefined {
+  if (!mb || mb <= 0) return undefined;
+  kept ??= { tracks: createTrackCache({ maxBytes: mb * 1024 * 1024 }), timelines: createSkyTimelineCache() };
+  return kept;
+}
+
 /** The entry the assessment pool runs. */
-export default workerTask(runAssessTask, isNumericRefusal);
+export default workerTask((task: AssessTask) => runAssessTask(task, workerReuse(task.reuseMb)), isNumericRefusal);

@@ -67,7 +67,15 @@ export function createAssessmentService(deps: {
     ...(deps.metrics ? { metrics: deps.metrics } : {}),
     ...(deps.log ? { log: deps.log } : {}),
     assessor: (input) =>
-      pool.run({ input, sites: config.sites, horizonH: config.planning.horizonH, members: config.planning.members, weights, rangePrior: config.planning.rangePrior }),
+      pool.run({
+        input,
+        sites: config.sites,
+        horizonH: config.planning.horizonH,
+        members: config.planning.members,
+        weights,
+        rangePrior: config.planning.rangePrior,
+        reuseMb: config.planning.reuseMb,
+      }),
   });
   const jobs: JobSpec[] = [
     { name: 'assess', schedule: '*/2 * * * * *', run: async () => void (await runner.drain()) },

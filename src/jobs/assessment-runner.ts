@@ -1,6 +1,7 @@
 import type { Config } from '../config/schema.js';
 import type { TrackletObservation } from '../orbit/estimate-types.js';
 import type { Store } from '../store/index.js';
+import type { KeptEstimate } from '../store/kept-estimates.js';
 import type { ReplanPolicy } from '../store/work.js';
 import type { NewRequest } from '../store/requests.js';
 import type { ServiceMetrics } from '../telemetry/metrics.js';
@@ -14,6 +15,8 @@ export interface AssessInput {
   /** The notice orbit block (ISO TT epoch and tp, degrees, au), when one was given. */
   orbit: Record<string, unknown> | null;
   nowIso: string;
+  /** The object's estimate kept in the store (its key and bytes), if any: used when the data have not changed. */
+  kept?: KeptEstimate | null;
 }
 
 /** What it returns: the stored summary, the proposed requests, and whether the object has no future anywhere. */
@@ -24,6 +27,8 @@ export interface AssessOutput {
   retireReason: string | null;
   /** When the object is next usable and until when (ISO UTC; planning's usableSpan): the next replan's class. */
   usable?: { from: string | null; until: string | null };
+  /** The estimate's key and, when it was computed by this assessment, its bytes to keep in the store. */
+  estimate?: { key: string; members: number; keep: Uint8Array | null };
 }
 
 /** Assesses one object; never rejects: a failure comes back as a typed value (timeout, crash, refusal, ...). */
@@ -140,7 +145,7 @@ export function createAssessmentRunner(deps: RunnerDeps) {
     }
     const started = clock();
     const t0 = performance.now();
-    const result = await deps.assessor(assessInputFor(store, objectId, started));
+    const result = await deps.assessor({ ...assessInputFor(store, objectId, started), kept: store.keptEstimates.get(objectId) });
     if (!result.ok) {
       recordFailure(objectId, result.failure, dataKey);
       return result.failure.kind === 'busy' || result.failure.kind === 'unavailable' ? 'waits' : 'done';
@@ -175,6 +180,7 @@ export function createAssessmentRunner(deps: RunnerDeps) {
       if (output.retireReason !== null && result.created.length === 0) store.objects.retire(objectId, output.retireReason);
       store.objects.clearFailure(objectId);
       store.objects.recordUsable(objectId, output.usable ?? { from: null, until: null });
+      if (output.estimate?.keep) store.keptEstimates.put(objectId, output.estimate.key, output.estimate.members, output.estimate.keep, now);
       store.work.finish(objectId, now);
       return result;
     })();

@@ -1,6 +1,6 @@
 import type { RangePriorChoice, Site } from '../config/schema.js';
 import { seedForObject, type EstimateSummary, type ObjectEstimate, type TrackletObservation } from '../orbit/estimate-types.js';
-import { estimateObject, type NoticeOrbitBlock, type RangePriorKind } from '../orbit/estimation/index.js';
+import { estimateObject, type NoticeOrbitBlock, type PackedCore, type RangePriorKind } from '../orbit/estimation/index.js';
 import type { ScoreWeights } from './score.js';
 import { planObject, type ObjectPlan, type PlannedRequest } from './plan-object.js';
 import { TRACK_STEP_MIN } from './track.js';
@@ -23,6 +23,8 @@ export interface AssessmentInput {
   rangePrior?: RangePriorChoice;
   /** Work kept from earlier assessments (reuse.ts): the same answer, sooner. */
   reuse?: AssessmentReuse;
+  /** An estimate kept from an earlier assessment (stored across restarts): used when its key is this input's. */
+  keptEstimate?: { key: string; core: PackedCore } | null;
 }
 
 /** What a long-lived caller (a worker thread) keeps between assessments. */
@@ -75,6 +77,8 @@ export interface Assessment {
   retireReason: string | null;
   /** When the object is next usable at some site, and until when (usableSpan). */
   usable: UsableSpan;
+  /** The estimate's key (estimateKey), its core packed, and whether it was computed here (not reused). */
+  estimate: { key: string; core: PackedCore; computed: boolean };
 }
 
 /** ISO UTC times: `from` the earliest usable time at any site; `until` the last, or null when it lasts to the horizon's end. */
@@ -139,6 +143,8 @@ export function assessObject(input: AssessmentInput): Assessment {
     approachStart,
   });
   let track = input.reuse?.tracks.get(key);
+  if (track === undefined && input.keptEstimate?.key === key) track = chainedTrackSource(input.keptEstimate.core, chainPhaseMs(seed));
+  const computed = track === undefined;
   if (track === undefined) {
     const estimate = estimateObject({
       objectId: input.objectId,
@@ -174,6 +180,7 @@ export function assessObject(input: AssessmentInput): Assessment {
     requests,
     summary: assessmentSummary(estimate, plan),
     usable: usableSpan(plan),
+    estimate: { key, core: track.baseCore, computed },
     retireReason: noWindow
       ? `no observable window at any site in the next ${input.horizonH} h (${plan.sites.map((s) => `${s.siteId}: ${s.reasons[0] ?? 'no window'}`).join('; ')})`
       : null,

@@ -6,6 +6,7 @@ import { createObjectStore } from './objects.js';
 import { createRequestStore } from './requests.js';
 import { createSourceStore } from './sources.js';
 import { createWorkStore } from './work.js';
+import { createKeptEstimateStore } from './kept-estimates.js';
 
 /** All repositories over one database handle. */
 export function createStore(db: Db) {
@@ -17,6 +18,7 @@ export function createStore(db: Db) {
     requests: createRequestStore(db),
     deliveries: createDeliveryStore(db),
     sources: createSourceStore(db),
+    keptEstimates: createKeptEstimateStore(db),
   };
 }
 
