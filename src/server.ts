@@ -72,7 +72,7 @@ export async function startService(options: StartOptions): Promise<RunningServic
       logger.info({ inbox: inbox.path, files: seeded, simulated: config.demo.simulate }, 'demo inbox seeded');
   }
 
-  const metrics = createServiceMetrics();
+  const metrics = createServiceMetrics({ processMetrics: true });
   const intake = createIntake({
     notices: store.notices,
     clock,

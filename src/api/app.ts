@@ -179,30 +179,30 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
         reply.type('text/html; charset=utf-8').send(renderDocsPage(openApiDocument([...routes, ...docRoutes], info) as Parameters<typeof renderDocsPage>[0])),
     }),
   ];
-  metrics.registry.gauge('nightjar_queue_depth', 'Queued requests per site.', () =>
+  metrics.gauge('nightjar_queue_depth', 'Queued requests per site.', ['site'], () =>
     config.sites.map((s) => ({ labels: { site: s.id }, value: store.requests.queueDepth().find((d) => d.siteId === s.id)?.n ?? 0 })),
   );
-  metrics.registry.gauge('nightjar_notices_stored', 'Notices stored in the database.', () => [{ labels: {}, value: store.notices.counts().notices }]);
-  metrics.registry.gauge('nightjar_rejections_stored', 'Rejected payloads kept in the database.', () => [{ labels: {}, value: store.notices.counts().rejections }]);
-  metrics.registry.gauge('nightjar_work_items', 'Work queue items by state.', () =>
+  metrics.gauge('nightjar_notices_stored', 'Notices stored in the database.', [], () => [{ labels: {}, value: store.notices.counts().notices }]);
+  metrics.gauge('nightjar_rejections_stored', 'Rejected payloads kept in the database.', [], () => [{ labels: {}, value: store.notices.counts().rejections }]);
+  metrics.gauge('nightjar_work_items', 'Work queue items by state.', ['state'], () =>
     Object.entries(store.work.counts()).map(([state, n]) => ({ labels: { state }, value: n })),
   );
-  metrics.registry.gauge('nightjar_source_rejected_fraction', 'Fraction of a source\'s notices refused: over="all" since the database was made, over="last_answer" in its last answer that held notices.', () =>
+  metrics.gauge('nightjar_source_rejected_fraction', 'Fraction of a source\'s notices refused: over="all" since the database was made, over="last_answer" in its last answer that held notices.', ['source', 'over'], () =>
     store.sources.all().flatMap((s) => [
       ...(s.noticesSeen > 0 ? [{ labels: { source: s.source, over: 'all' }, value: s.noticesRejected / s.noticesSeen }] : []),
       ...(s.lastPollNotices ? [{ labels: { source: s.source, over: 'last_answer' }, value: (s.lastPollRejected ?? 0) / s.lastPollNotices }] : []),
     ]),
   );
-  metrics.registry.gauge('nightjar_inbox_failing_files', 'Inbox files that failed to be read and wait for another attempt.', () => [
+  metrics.gauge('nightjar_inbox_failing_files', 'Inbox files that failed to be read and wait for another attempt.', [], () => [
     { labels: {}, value: store.sources.failingInboxFiles().length },
   ]);
-  metrics.registry.gauge('nightjar_work_class_waiting', 'Work items waiting per priority class (new-data, urgent, routine).', () =>
+  metrics.gauge('nightjar_work_class_waiting', 'Work items waiting per priority class (new-data, urgent, routine).', ['class'], () =>
     Object.entries(store.work.classFigures(clock())).map(([c, f]) => ({ labels: { class: c }, value: f.waiting })),
   );
-  metrics.registry.gauge('nightjar_work_class_oldest_age_seconds', 'How long the oldest waiting work item of each priority class has waited, seconds.', () =>
+  metrics.gauge('nightjar_work_class_oldest_age_seconds', 'How long the oldest waiting work item of each priority class has waited, seconds.', ['class'], () =>
     Object.entries(store.work.classFigures(clock())).map(([c, f]) => ({ labels: { class: c }, value: f.oldestAgeS })),
   );
-  metrics.registry.gauge('nightjar_source_consecutive_failures', 'Consecutive failures per polled source (backoff while > 0).', () =>
+  metrics.gauge('nightjar_source_consecutive_failures', 'Consecutive failures per polled source (backoff while > 0).', ['source'], () =>
     store.sources.all().map((s) => ({ labels: { source: s.source }, value: s.consecutiveFailures })),
   );
   registerRoutes(app, [...routes, ...docRoutes], {

@@ -21,6 +21,11 @@ describe('nightjar serve', () => {
     const url = await child.url;
 
     expect((await (await fetch(`${url}/healthz`)).json()) as object).toMatchObject({ status: 'ok' });
+    // The running service reports its process too: event-loop lag, heap, handles.
+    const metrics = await (await fetch(`${url}/metrics`)).text();
+    expect(metrics).toMatch(/^nodejs_eventloop_lag_seconds \d/m);
+    expect(metrics).toMatch(/^nodejs_heap_size_used_bytes \d/m);
+    expect(metrics).toMatch(/^nodejs_active_handles_total \d/m);
     const notices = await until('the demo notices', async () => {
       const body = (await (await fetch(`${url}/v1/notices?limit=100`)).json()) as { items: unknown[] };
       return body.items.length >= 5 ? body.items : null;

@@ -107,7 +107,10 @@ export function serviceRoutes(ctx: ApiContext): AnyRouteSpec[] {
       role: null,
       produces: 'text/plain',
       responses: { 200: { description: 'exposition format 0.0.4', schema: z.string() } },
-      handler: async ({ reply }) => reply.type('text/plain; version=0.0.4; charset=utf-8').send(ctx.metrics.registry.render()),
+      handler: async ({ reply }) => {
+        const { text, contentType } = await ctx.metrics.render();
+        return reply.type(contentType).send(text);
+      },
     }),
   ];
 }
