@@ -74,3 +74,53 @@ export function exampleNotice(overrides: Record<string, unknown> = {}): Record<s
     ...overrides,
   };
 }
+
+type Plain = Record<string, unknown>;
+const isPlain = (v: unknown): v is Plain => typeof v === 'object' && v !== null && !Array.isArray(v);
+function deepMerge(base: Plain, over: Plain): Plain {
+  const out: Plain = { ...base };
+  for (const [k, v] of Object.entries(over)) out[k] = isPlain(v) && isPlain(out[k]) ? deepMerge(out[k] as Plain, v) : v;
+  return out;
+}
+
+/**
+ * A request plan of the shape the planner writes (`nightjar.request.v1`, the API's
+ * plan schema), with invented values; `overrides` are merged in depth. For tests
+ * that store requests without running the planner: answers are checked against
+ * the schema on the way out.
+ */
+export function examplePlan(overrides: Plain = {}): Plain {
+  const base: Plain = {
+    format: 'nightjar.request.v1',
+    objectId: 'ZX27A01',
+    siteId: 'lantern-ridge',
+    kind: 'photometry',
+    plannedAtUtc: '2027-03-04T06:00:00.000Z',
+    windowStartUtc: '2027-03-04T06:10:00.000Z',
+    windowEndUtc: '2027-03-04T09:20:00.000Z',
+    windowOpensBecause: 'altitude rises above 25 deg',
+    windowClosesBecause: 'twilight',
+    recommendedStartUtc: '2027-03-04T06:15:00.000Z',
+    expectedDurationS: 1800,
+    expiresAtUtc: '2027-03-04T09:20:00.000Z',
+    target: { raDeg: 151.3, decDeg: -12.33, vMag: 19.4, vMagSigma: 0.3, uncertainty1Sigma: { majorArcsec: 2, minorArcsec: 1, paDeg: 0 }, region3SigmaAcrossArcsec: 6 },
+    sequence: { steps: [{ filter: 'r', exposureS: 45, count: 30, expectedSnr: 25, snrPerExposure: 25, limitingFactor: 'sky-limited' }], notes: [] },
+    tracking: { mode: 'non-sidereal', atUtc: '2027-03-04T06:15:00.000Z', raRateArcsecPerS: 0.52, decRateArcsecPerS: -0.11, totalRateArcsecPerS: 0.5315 },
+    conditionsAtStart: { altitudeDeg: 40, airmass: 1.55, skyVMagPerArcsec2: 21.5, moonSeparationDeg: 90 },
+    searchPattern: null,
+    ephemeris: { stepMin: 5, frame: 'astrometric ICRS, topocentric', units: { ra: 'deg' }, rows: [] },
+    score: { total: 60, factors: [] },
+    assessment: {
+      method: 'ranging',
+      members: 1000,
+      firstObservedAtUtc: '2027-03-04T05:10:00.000Z',
+      hMagP50: 25.1,
+      diameterM: { min: 20, max: 45 },
+      nearEarthFraction: 0.9,
+      closeApproach: true,
+      minDistanceLunarP50: 3,
+      notes: [],
+    },
+  };
+  return deepMerge(base, overrides);
+}

@@ -45,35 +45,38 @@ export function isLoopback(ip: string): boolean {
 }
 
 /**
- * Checks the caller has `role` (or one of them). 401 without a token or with an unknown
- * one, 403 with a token lacking the role. Reads may be open on loopback when configured.
- * A page or picture may take the token from its address instead (`pageToken`, for a browser,
- * which sends no Authorization header); other routes refuse a token given that way.
+ * Who is calling, from the headers alone (before any body is read): the caller
+ * of a known token, the loopback reader when reads are open there, or an
+ * ApiError 401 without a token or with an unknown one. A page or picture may
+ * take the token from its address instead (`pageToken`, for a browser, which
+ * sends no Authorization header); other routes refuse a token given that way.
  */
-export function requireRole(
+export function authenticate(
   request: FastifyRequest,
   tokens: readonly TokenEntry[],
-  role: Role | readonly Role[],
   options: { openOnLoopback?: boolean; pageToken?: string | null; acceptsPageToken?: boolean } = {},
-): Caller {
-  const wanted: readonly Role[] = typeof role === 'string' ? [role] : role;
+): Caller | ApiError {
   const header = bearerOf(request);
   const fromPage = header === null && options.pageToken != null && options.pageToken !== '';
   if (fromPage && !options.acceptsPageToken) {
-    throw new ApiError(401, 'unauthenticated', 'a token in the address (?token=) is taken only by the review pages and pictures; send "Authorization: Bearer <token>"');
+    return new ApiError(401, 'unauthenticated', 'a token in the address (?token=) is taken only by the review pages and pictures; send "Authorization: Bearer <token>"');
   }
   const bearer = fromPage ? options.pageToken! : header;
   if (bearer === null) {
     if (options.openOnLoopback && isLoopback(request.ip)) return { name: 'loopback', roles: ['reader'] };
-    throw new ApiError(401, 'unauthenticated', 'send "Authorization: Bearer <token>"');
+    return new ApiError(401, 'unauthenticated', 'send "Authorization: Bearer <token>"');
   }
   const identified = identify(tokens, bearer);
-  if (!identified) throw new ApiError(401, 'unauthenticated', 'unknown token');
-  const caller: Caller = fromPage ? { ...identified, pageToken: bearer } : identified;
-  if (!wanted.some((r) => caller.roles.includes(r)))
-    throw new ApiError(403, 'forbidden', `this token (${caller.name}) lacks the ${wanted.map((r) => `"${r}"`).join(' or ')} role`, {
-      required: wanted,
-      has: caller.roles,
-    });
-  return caller;
+  if (!identified) return new ApiError(401, 'unauthenticated', 'unknown token');
+  return fromPage ? { ...identified, pageToken: bearer } : identified;
+}
+
+/** ApiError 403 unless the caller has `role` (or one of them); null when it has. */
+export function lacksRole(caller: Caller, role: Role | readonly Role[]): ApiError | null {
+  const wanted: readonly Role[] = typeof role === 'string' ? [role] : role;
+  if (wanted.some((r) => caller.roles.includes(r))) return null;
+  return new ApiError(403, 'forbidden', `this token (${caller.name}) lacks the ${wanted.map((r) => `"${r}"`).join(' or ')} role`, {
+    required: wanted,
+    has: caller.roles,
+  });
 }

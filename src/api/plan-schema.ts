@@ -134,4 +134,5 @@ export const planSchema = z
       })
       .passthrough(),
   })
-  .passthrough();
+  .passthrough()
+  .meta({ id: 'Plan', description: 'What to execute: the exposure sequence, tracking rates, ephemeris table and score factors. Estimates, not impact predictions; the observatory decides.' });

@@ -14,7 +14,7 @@ export const errorSchema = z
       details: z.unknown().describe('field issues [{path, message}] or other specifics; null when none'),
     }),
   })
-  .describe('The one error shape of every route.');
+  .meta({ id: 'Error', description: 'The one error shape of every route.' });
 
 export const idParams = z.object({ id: z.string().min(1).max(128).describe('identifier') }).strict();
 
@@ -42,11 +42,11 @@ export const requestView = z
     stateReason: z.string().nullable().describe('why it is in its state, in words'),
     lease: z.object({ holder: z.string(), expiresAt: z.string() }).nullable(),
     outcome: z.unknown().nullable(),
-    plan: planSchema.describe('What to execute: the exposure sequence, tracking rates, ephemeris table and score factors'),
+    plan: planSchema,
     createdAt: z.string(),
     updatedAt: z.string(),
   })
-  .describe('An observation request. Positions are estimates with uncertainty, not impact predictions; the observatory decides what runs.');
+  .meta({ id: 'Request', description: 'An observation request. Positions are estimates with uncertainty, not impact predictions; the observatory decides what runs.' });
 
 export function toRequestView(r: RequestRow) {
   return {
@@ -67,7 +67,8 @@ export function toRequestView(r: RequestRow) {
     stateReason: r.stateReason,
     lease: r.state === 'leased' && r.leaseHolder && r.leaseExpiresAt ? { holder: r.leaseHolder, expiresAt: r.leaseExpiresAt } : null,
     outcome: r.outcome,
-    plan: r.body,
+    // The stored plan, as the planner wrote it; the answer's schema checks it on the way out.
+    plan: r.body as z.output<typeof planSchema>,
     createdAt: r.createdAt,
     updatedAt: r.updatedAt,
   };

@@ -38,20 +38,23 @@ function describeBound(issue: z.core.$ZodIssue): string | null {
   }
 }
 
+/** One zod issue as our `{path, message}` with a message a user can act on. */
+export function toValidationIssue(issue: z.core.$ZodIssue): ValidationIssue {
+  const path = formatPath(issue.path);
+  const bound = describeBound(issue);
+  if (bound) return { path, message: bound };
+  if (issue.code === 'invalid_type') {
+    return { path, message: issue.message.replace(/^Invalid input: /, '') };
+  }
+  if (issue.code === 'unrecognized_keys') {
+    return { path, message: `unknown field(s): ${issue.keys.join(', ')}` };
+  }
+  return { path, message: issue.message };
+}
+
 /** Turns zod's issues into our `{path, message}` list with messages a user can act on. */
 export function toValidationIssues(error: z.ZodError): ValidationIssue[] {
-  return error.issues.map((issue) => {
-    const path = formatPath(issue.path);
-    const bound = describeBound(issue);
-    if (bound) return { path, message: bound };
-    if (issue.code === 'invalid_type') {
-      return { path, message: issue.message.replace(/^Invalid input: /, '') };
-    }
-    if (issue.code === 'unrecognized_keys') {
-      return { path, message: `unknown field(s): ${issue.keys.join(', ')}` };
-    }
-    return { path, message: issue.message };
-  });
+  return error.issues.map(toValidationIssue);
 }
 
 /** One line per issue: `path: message`. */

@@ -86,7 +86,7 @@ export const noticeLinkSchema = z
   })
   .strict();
 
-const noticeShape = z
+export const noticeShape = z
   .object({
     format: z.literal(NOTICE_FORMAT, { message: `expected "${NOTICE_FORMAT}"` }),
     noticeId: identifier(NOTICE_ID_RULE),

@@ -3,7 +3,7 @@ import { afterEach, describe, expect, it } from 'vitest';
 import type { FastifyInstance } from 'fastify';
 import type { NewRequest } from '../../src/store/requests.js';
 import type { Store } from '../../src/store/index.js';
-import { buildTestApp, DEMO_TOKENS } from '../helpers.js';
+import { buildTestApp, DEMO_TOKENS, examplePlan } from '../helpers.js';
 
 // Lantern Ridge (invented demo site): 34.21 N, 107.62 W, 2310 m; night Sun limit -12 deg.
 const T0 = Date.parse('2027-03-04T06:00:00Z');
@@ -23,7 +23,7 @@ afterEach(async () => {
 /** A table as the planner writes it: a fixed place (RA 151.3, Dec -12.33) every 5 min with a 2" x 1" 1-sigma ellipse. */
 function tableRows(fromMin: number, toMin: number) {
   const rows = [];
-  for (let m = fromMin; m <= toMin; m += 5) rows.push({ t: at(m), ra: 151.3, dec: -12.33, raRate: 0, decRate: 0, unc: { major: 2, minor: 1, pa: 0 } });
+  for (let m = fromMin; m <= toMin; m += 5) rows.push({ t: at(m), ra: 151.3, dec: -12.33, raRate: 0, decRate: 0, unc: { major: 2, minor: 1, pa: 0 }, mag: 19.4, alt: 40, airmass: 1.55 });
   return rows;
 }
 
@@ -36,7 +36,7 @@ function proposal(fromMin = 10, toMin = 200): NewRequest {
     windowEnd: at(toMin),
     recommendedStart: at(fromMin),
     expiresAt: at(toMin),
-    body: { ephemeris: { rows: tableRows(fromMin, toMin) } },
+    body: examplePlan({ windowStartUtc: at(fromMin), windowEndUtc: at(toMin), recommendedStartUtc: at(fromMin), expiresAtUtc: at(toMin), ephemeris: { rows: tableRows(fromMin, toMin) } }),
   };
 }
 

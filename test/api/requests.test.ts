@@ -4,7 +4,7 @@ import { buildApp } from '../../src/api/app.js';
 import { MIGRATIONS_DIR } from '../../src/config/load.js';
 import type { NewRequest } from '../../src/store/requests.js';
 import type { Store } from '../../src/store/index.js';
-import { buildTestApp, DEMO_TOKENS, demoConfig, exampleNotice, memoryStore } from '../helpers.js';
+import { buildTestApp, DEMO_TOKENS, demoConfig, exampleNotice, examplePlan, memoryStore } from '../helpers.js';
 
 const T0 = Date.parse('2027-03-04T06:00:00Z');
 const clockAt = { t: T0 };
@@ -30,7 +30,7 @@ function proposal(kind: NewRequest['kind'], score: number, siteId = 'lantern-rid
     windowEnd: at(200),
     recommendedStart: at(15),
     expiresAt: at(200),
-    body: { exposures: [{ filter: 'r', exposureS: 45, count: 30 }], tracking: { mode: 'non-sidereal', raRate: 0.52, decRate: -0.11 } },
+    body: examplePlan({ kind, siteId, windowStartUtc: at(10), windowEndUtc: at(200), recommendedStartUtc: at(15), expiresAtUtc: at(200) }),
   };
 }
 
@@ -86,7 +86,7 @@ describe('queue and leases', () => {
     expect(res.statusCode).toBe(200);
     const body = res.json();
     expect(body.items.map((r: { kind: string }) => r.kind)).toEqual(['colours', 'photometry']);
-    expect(body.items[0].plan.tracking.raRate).toBe(0.52);
+    expect(body.items[0].plan.tracking.raRateArcsecPerS).toBe(0.52);
   });
 
   it('shows a lease, a new assessment and the passing of a window end in the very next queue answer', async () => {

@@ -2,7 +2,7 @@ import { EstimateRefusedError } from '../on-demand.js';
 import { z } from 'zod';
 import type { ApiContext } from '../context.js';
 import { ApiError } from '../errors.js';
-import { defineRoute, type AnyRouteSpec } from '../route-spec.js';
+import { json, type ApiApp } from '../http.js';
 import { errorSchema, idParams, isoTime, limitParam, pageOf, requestView, toRequestView } from '../schemas.js';
 
 const failureView = z
@@ -43,7 +43,7 @@ const observationView = z.object({
   heldReason: z.string().nullable(),
   confirmedAt: z.string().nullable(),
   confirmedBy: z.string().nullable(),
-});
+}).meta({ id: 'Observation', description: 'A stored position of an object\'s tracklet.' });
 
 type StoredObservationRow = ReturnType<ApiContext['store']['objects']['observations']>[number];
 
@@ -99,7 +99,7 @@ const ephemerisRow = z.object({
   alt: z.number().describe('apparent altitude with refraction, deg'),
   az: z.number().describe('azimuth from north through east, deg'),
   airmass: z.number().nullable(),
-});
+}).meta({ id: 'EphemerisRow', description: 'One row of an ephemeris computed on demand: an estimate with its uncertainty, not an impact prediction.' });
 
 const ephemerisQuery = z
   .object({
@@ -110,7 +110,7 @@ const ephemerisQuery = z
   })
   .strict();
 
-export function objectRoutes(ctx: ApiContext): AnyRouteSpec[] {
+export function objectRoutes(app: ApiApp, ctx: ApiContext): void {
   const { store } = ctx;
   const summarise = (id: string) => {
     const o = store.objects.getObject(id)!;
@@ -128,129 +128,135 @@ export function objectRoutes(ctx: ApiContext): AnyRouteSpec[] {
       failure: o.failure ? { kind: o.failure.kind, stage: o.failure.stage, message: o.failure.message, at: o.failure.at } : null,
     };
   };
-  return [
-    defineRoute({
-      method: 'GET',
-      url: '/v1/objects/:id/ephemeris',
-      tag: 'review',
+  app.route({
+    method: 'GET',
+    url: '/v1/objects/:id/ephemeris',
+    config: { access: { role: ['reader', 'operator', 'scheduler'], readsOpenOnLoopback: true } },
+    schema: {
+      tags: ['review'],
       summary: 'Ephemeris of an object from a site, computed now, with its uncertainty',
-      description:
-        'The nominal position, rates and V magnitude every `step` minutes with the ensemble spread as a 1-sigma ellipse. An estimate from short-arc astrometry, not an impact prediction.',
-      role: ['reader', 'operator', 'scheduler'],
-      readsOpenOnLoopback: true,
+      description: 'The nominal position, rates and V magnitude every `step` minutes with the ensemble spread as a 1-sigma ellipse. An estimate from short-arc astrometry, not an impact prediction.',
       params: idParams,
-      query: ephemerisQuery,
-      responses: {
-        200: { description: 'the table', schema: z.object({ objectId: z.string(), siteId: z.string(), method: z.string(), rows: z.array(ephemerisRow) }) },
-        400: { description: 'bad query', schema: errorSchema },
-        404: { description: 'unknown object or site', schema: errorSchema },
-        422: { description: 'the object cannot be estimated from what is stored, or its estimate ran over the time limit', schema: errorSchema },
-        503: { description: 'the on-demand estimate worker is busy past a short wait (or cannot start); retry-after says when to ask again', schema: errorSchema },
+      querystring: ephemerisQuery,
+      response: {
+        200: json('the table', z.object({ objectId: z.string(), siteId: z.string(), method: z.string(), rows: z.array(ephemerisRow) })),
+        400: json('bad query', errorSchema),
+        404: json('unknown object or site', errorSchema),
+        422: json('the object cannot be estimated from what is stored, or its estimate ran over the time limit', errorSchema),
+        503: json('the on-demand estimate worker is busy past a short wait (or cannot start), or the service is stopping; retry-after says when to ask again', errorSchema),
       },
-      handler: async ({ params, query }) => {
-        const site = ctx.config.sites.find((s) => s.id === query.site);
-        if (!site) throw new ApiError(404, 'not_found', `no site ${query.site}`, [{ path: 'query.site', message: `expected one of ${ctx.config.sites.map((s) => s.id).join(', ')}` }]);
-        if (!store.objects.getObject(params.id)) throw new ApiError(404, 'not_found', `no object ${params.id}`);
-        const start = Date.parse(query.start ?? ctx.clock().toISOString());
-        const end = query.end ? Date.parse(query.end) : start + 24 * 3600_000;
-        if (end < start) throw new ApiError(400, 'bad_request', 'end is before start', [{ path: 'query.end', message: 'must not be before start' }]);
-        const n = Math.floor((end - start) / (query.step * 60_000)) + 1;
-        if (n > MAX_EPHEMERIS_ROWS)
-          throw new ApiError(400, 'bad_request', `${n} rows asked; at most ${MAX_EPHEMERIS_ROWS}`, [{ path: 'query.step', message: 'use a larger step or a shorter range' }]);
-        const times = Array.from({ length: n }, (_, k) => new Date(start + k * query.step * 60_000));
-        let answer;
-        try {
-          answer = await ctx.onDemand.ephemeris(params.id, site.location, times);
-        } catch (err) {
-          if (err instanceof EstimateRefusedError) throw new ApiError(422, 'cannot_estimate', `object ${params.id} cannot be estimated: ${err.message}`);
-          throw err;
-        }
-        if (!answer) throw new ApiError(422, 'cannot_estimate', `object ${params.id} has no observations or orbit to estimate from`);
-        return { objectId: params.id, siteId: site.id, method: answer.method, rows: answer.rows };
-      },
-    }),
-    defineRoute({
-      method: 'POST',
-      url: '/v1/objects/:id/observations/:obsId/confirm',
-      tag: 'review',
+    },
+    handler: async (request) => {
+      const { params, query } = request;
+      const site = ctx.config.sites.find((s) => s.id === query.site);
+      if (!site) throw new ApiError(404, 'not_found', `no site ${query.site}`, [{ path: 'query.site', message: `expected one of ${ctx.config.sites.map((s) => s.id).join(', ')}` }]);
+      if (!store.objects.getObject(params.id)) throw new ApiError(404, 'not_found', `no object ${params.id}`);
+      const start = Date.parse(query.start ?? ctx.clock().toISOString());
+      const end = query.end ? Date.parse(query.end) : start + 24 * 3600_000;
+      if (end < start) throw new ApiError(400, 'bad_request', 'end is before start', [{ path: 'query.end', message: 'must not be before start' }]);
+      const n = Math.floor((end - start) / (query.step * 60_000)) + 1;
+      if (n > MAX_EPHEMERIS_ROWS)
+        throw new ApiError(400, 'bad_request', `${n} rows asked; at most ${MAX_EPHEMERIS_ROWS}`, [{ path: 'query.step', message: 'use a larger step or a shorter range' }]);
+      const times = Array.from({ length: n }, (_, k) => new Date(start + k * query.step * 60_000));
+      let answer;
+      try {
+        answer = await ctx.onDemand.ephemeris(params.id, site.location, times);
+      } catch (err) {
+        if (err instanceof EstimateRefusedError) throw new ApiError(422, 'cannot_estimate', `object ${params.id} cannot be estimated: ${err.message}`);
+        throw err;
+      }
+      if (!answer) throw new ApiError(422, 'cannot_estimate', `object ${params.id} has no observations or orbit to estimate from`);
+      return { objectId: params.id, siteId: site.id, method: answer.method, rows: answer.rows };
+    },
+  });
+  app.route({
+    method: 'POST',
+    url: '/v1/objects/:id/observations/:obsId/confirm',
+    config: { access: { role: 'operator' } },
+    schema: {
+      tags: ['review'],
       summary: 'Confirm a held position of an object (operator)',
-      description:
-        'A follow-up position outside the predicted 5-sigma region is kept but held back as a possible misidentification. Confirming it says the object measured is this one: assessments use it from now on, and the object is replanned at once.',
-      role: 'operator',
+      description: 'A follow-up position outside the predicted 5-sigma region is kept but held back as a possible misidentification. Confirming it says the object measured is this one: assessments use it from now on, and the object is replanned at once.',
       params: z.object({ id: z.string().min(1).max(128).describe('object id'), obsId: z.coerce.number().int().positive().describe('observation id, as in the object tracklet') }).strict(),
       body: z.object({ note: z.string().max(1000).optional() }).strict(),
-      responses: {
-        200: { description: 'confirmed; the object is replanned', schema: z.object({ observation: observationView, replanQueued: z.boolean() }) },
-        404: { description: 'no such object or observation', schema: errorSchema },
-        409: { description: 'the observation is not held (never was, or already confirmed)', schema: errorSchema },
+      response: {
+        200: json('confirmed; the object is replanned', z.object({ observation: observationView, replanQueued: z.boolean() })),
+        404: json('no such object or observation', errorSchema),
+        409: json('the observation is not held (never was, or already confirmed)', errorSchema),
       },
-      handler: async ({ params, body, caller }) => {
-        if (!store.objects.getObject(params.id)) throw new ApiError(404, 'not_found', `no object ${params.id}`);
-        const now = ctx.clock();
-        const who = `${caller?.name ?? 'operator'}${body.note ? `: ${body.note}` : ''}`;
-        const result = store.db.transaction(() => {
-          const r = store.objects.confirmObservation(params.id, params.obsId, who, now);
-          if (r.status === 'confirmed') store.work.enqueueNewData([params.id], now);
-          return r;
-        })();
-        if (result.status === 'not_found') throw new ApiError(404, 'not_found', `object ${params.id} has no observation ${params.obsId}`);
-        if (result.status === 'not_held') {
-          const why = result.observation.confirmedAt !== null ? `was confirmed at ${result.observation.confirmedAt} by ${result.observation.confirmedBy ?? 'an operator'}` : 'is not held back';
-          throw new ApiError(409, 'not_held', `observation ${params.obsId} of ${params.id} ${why}`);
-        }
-        ctx.workQueued();
-        return { observation: toObservationView(result.observation), replanQueued: true };
-      },
-    }),
-    defineRoute({
-      method: 'GET',
-      url: '/v1/objects',
-      tag: 'review',
+    },
+    handler: async (request) => {
+      const { params, body } = request;
+      const caller = request.caller;
+      if (!store.objects.getObject(params.id)) throw new ApiError(404, 'not_found', `no object ${params.id}`);
+      const now = ctx.clock();
+      const who = `${caller?.name ?? 'operator'}${body.note ? `: ${body.note}` : ''}`;
+      const result = store.db.transaction(() => {
+        const r = store.objects.confirmObservation(params.id, params.obsId, who, now);
+        if (r.status === 'confirmed') store.work.enqueueNewData([params.id], now);
+        return r;
+      })();
+      if (result.status === 'not_found') throw new ApiError(404, 'not_found', `object ${params.id} has no observation ${params.obsId}`);
+      if (result.status === 'not_held') {
+        const why = result.observation.confirmedAt !== null ? `was confirmed at ${result.observation.confirmedAt} by ${result.observation.confirmedBy ?? 'an operator'}` : 'is not held back';
+        throw new ApiError(409, 'not_held', `observation ${params.obsId} of ${params.id} ${why}`);
+      }
+      ctx.workQueued();
+      return { observation: toObservationView(result.observation), replanQueued: true };
+    },
+  });
+  app.route({
+    method: 'GET',
+    url: '/v1/objects',
+    config: { access: { role: ['reader', 'operator', 'scheduler'], readsOpenOnLoopback: true } },
+    schema: {
+      tags: ['review'],
       summary: 'Objects, by designation',
-      role: ['reader', 'operator', 'scheduler'],
-      readsOpenOnLoopback: true,
-      query: z
-        .object({
-          cursor: z.string().max(64).optional().describe('from nextCursor of the previous page'),
-          limit: limitParam,
-          state: z.enum(['active', 'retracted', 'retired']).optional(),
-        })
-        .strict(),
-      responses: { 200: { description: 'a page', schema: pageOf(objectSummary) }, 400: { description: 'bad query', schema: errorSchema } },
-      handler: async ({ query }) => {
-        const rows = store.objects.listObjects({
-          limit: query.limit,
-          ...(query.cursor ? { afterId: query.cursor } : {}),
-          ...(query.state ? { state: query.state } : {}),
-        });
-        const last = rows[rows.length - 1];
-        return { items: rows.map((r) => summarise(r.id)), nextCursor: rows.length === query.limit && last ? last.id : null };
-      },
-    }),
-    defineRoute({
-      method: 'GET',
-      url: '/v1/objects/:id',
-      tag: 'review',
+      querystring: z
+      .object({
+        cursor: z.string().max(64).optional().describe('from nextCursor of the previous page'),
+        limit: limitParam,
+        state: z.enum(['active', 'retracted', 'retired']).optional(),
+      })
+      .strict(),
+      response: { 200: json('a page', pageOf(objectSummary)), 400: json('bad query', errorSchema) },
+    },
+    handler: async (request) => {
+      const { query } = request;
+      const rows = store.objects.listObjects({
+        limit: query.limit,
+        ...(query.cursor ? { afterId: query.cursor } : {}),
+        ...(query.state ? { state: query.state } : {}),
+      });
+      const last = rows[rows.length - 1];
+      return { items: rows.map((r) => summarise(r.id)), nextCursor: rows.length === query.limit && last ? last.id : null };
+    },
+  });
+  app.route({
+    method: 'GET',
+    url: '/v1/objects/:id',
+    config: { access: { role: ['reader', 'operator', 'scheduler'], readsOpenOnLoopback: true } },
+    schema: {
+      tags: ['review'],
       summary: 'One object: tracklet, assessment, requests and history',
-      role: ['reader', 'operator', 'scheduler'],
-      readsOpenOnLoopback: true,
       params: idParams,
-      responses: { 200: { description: 'the object', schema: objectDetail }, 404: { description: 'unknown object', schema: errorSchema } },
-      handler: async ({ params }) => {
-        const o = store.objects.getObject(params.id);
-        if (!o) throw new ApiError(404, 'not_found', `no object ${params.id}`);
-        const work = store.work.get(o.id);
-        return {
-          ...summarise(o.id),
-          names: store.objects.names(o.id),
-          orbit: o.orbit ? (JSON.parse(o.orbit) as unknown) : null,
-          tracklet: store.objects.observations(o.id).map(toObservationView),
-          assessment: store.requests.latestAssessment(o.id)?.summary ?? null,
-          assessments: store.requests.assessments(o.id),
-          requests: store.requests.list({ objectId: o.id, limit: 200 }).map(toRequestView),
-          work: work ? { state: work.state, attempts: work.attempts, lastError: work.lastError, enqueuedAt: work.enqueuedAt } : null,
-        };
-      },
-    }),
-  ];
+      response: { 200: json('the object', objectDetail), 404: json('unknown object', errorSchema) },
+    },
+    handler: async (request) => {
+      const { params } = request;
+      const o = store.objects.getObject(params.id);
+      if (!o) throw new ApiError(404, 'not_found', `no object ${params.id}`);
+      const work = store.work.get(o.id);
+      return {
+        ...summarise(o.id),
+        names: store.objects.names(o.id),
+        orbit: o.orbit ? (JSON.parse(o.orbit) as unknown) : null,
+        tracklet: store.objects.observations(o.id).map(toObservationView),
+        assessment: store.requests.latestAssessment(o.id)?.summary ?? null,
+        assessments: store.requests.assessments(o.id),
+        requests: store.requests.list({ objectId: o.id, limit: 200 }).map(toRequestView),
+        work: work ? { state: work.state, attempts: work.attempts, lastError: work.lastError, enqueuedAt: work.enqueuedAt } : null,
+      };
+    },
+  });
 }

@@ -10,8 +10,8 @@ import { CAUTIONS } from '../docs-page.js';
 import { ApiError } from '../errors.js';
 import { EstimateBusyError } from '../on-demand.js';
 import { currentLocalDate, isoSeconds, reviewData } from '../review-data.js';
-import { defineRoute, type AnyRouteSpec } from '../route-spec.js';
-import { idParams } from '../schemas.js';
+import { document, json, type ApiApp } from '../http.js';
+import { errorSchema, idParams } from '../schemas.js';
 import { pageTokenParam, READ_ROLES } from './pictures.js';
 
 /**
@@ -32,7 +32,7 @@ export function withToken(url: string, caller: Caller | null): string {
 
 const objectPath = (id: string) => `/objects/${encodeURIComponent(id)}`;
 
-export function pageRoutes(ctx: ApiContext): AnyRouteSpec[] {
+export function pageRoutes(app: ApiApp, ctx: ApiContext): void {
   const { config, store, clock } = ctx;
   const data = reviewData(ctx);
 
@@ -208,34 +208,36 @@ export function pageRoutes(ctx: ApiContext): AnyRouteSpec[] {
     });
   }
 
-  return [
-    defineRoute({
-      method: 'GET',
-      url: '/',
-      tag: 'review',
+  app.route({
+    method: 'GET',
+    url: '/',
+    config: { access: { role: READ_ROLES, readsOpenOnLoopback: true, acceptsPageToken: true } },
+    schema: {
+      tags: ['review'],
       summary: 'The review page: per site tonight’s timeline and queue, and the objects without requests with the reasons (HTML, no scripts)',
-      role: READ_ROLES,
-      readsOpenOnLoopback: true,
-      acceptsPageToken: true,
-      query: pageQuery,
-      produces: 'text/html',
-      responses: { 200: { description: 'HTML', schema: z.string() } },
-      handler: async ({ reply, caller }) => reply.type(HTML_TYPE).header('cache-control', 'no-store').header('referrer-policy', 'no-referrer').send(reviewPage(caller)),
-    }),
-    defineRoute({
-      method: 'GET',
-      url: '/objects/:id',
-      tag: 'review',
+      querystring: pageQuery,
+      response: { 200: document('HTML', 'text/html') },
+    },
+    handler: async (request, reply) => {
+      const caller = request.caller;
+      return reply.type(HTML_TYPE).header('cache-control', 'no-store').header('referrer-policy', 'no-referrer').send(reviewPage(caller));
+    },
+  });
+  app.route({
+    method: 'GET',
+    url: '/objects/:id',
+    config: { access: { role: READ_ROLES, readsOpenOnLoopback: true, acceptsPageToken: true } },
+    schema: {
+      tags: ['review'],
       summary: 'A page per object: estimate, where to point, every site’s requests with their history, and the reasons for sites without (HTML, no scripts)',
-      role: READ_ROLES,
-      readsOpenOnLoopback: true,
-      acceptsPageToken: true,
       params: idParams,
-      query: pageQuery,
-      produces: 'text/html',
-      responses: { 200: { description: 'HTML', schema: z.string() }, 404: { description: 'unknown object' } },
-      handler: async ({ params, reply, caller }) =>
-        reply.type(HTML_TYPE).header('cache-control', 'no-store').header('referrer-policy', 'no-referrer').send(await objectPage(params.id, caller)),
-    }),
-  ];
+      querystring: pageQuery,
+      response: { 200: document('HTML', 'text/html'), 404: json('unknown object', errorSchema) },
+    },
+    handler: async (request, reply) => {
+      const { params } = request;
+      const caller = request.caller;
+      return reply.type(HTML_TYPE).header('cache-control', 'no-store').header('referrer-policy', 'no-referrer').send(await objectPage(params.id, caller));
+    },
+  });
 }
