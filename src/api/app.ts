@@ -1,7 +1,7 @@
 import rateLimit from '@fastify/rate-limit';
 import swagger from '@fastify/swagger';
 import type { IncomingMessage } from 'node:http';
-import Fastify, { type FastifyBaseLogger, type FastifyRequest, type RouteOptions } from 'fastify';
+import Fastify, { type FastifyBaseLogger, type FastifyReply, type FastifyRequest, type RouteOptions } from 'fastify';
 import { hasZodFastifySchemaValidationErrors, jsonSchemaTransform, jsonSchemaTransformObject, serializerCompiler, validatorCompiler, type ZodTypeProvider } from 'fastify-type-provider-zod';
 import type { z } from 'zod';
 import { toValidationIssue } from '../config/issues.js';
@@ -54,6 +54,9 @@ export const API_VERSION = '1.0.0';
 /** Media types a body may have; each is read as bytes (the routes decode them). */
 export const BODY_MEDIA_TYPES = ['application/json', 'application/ndjson', 'application/x-ndjson', 'text/plain'] as const;
 
+/** Longest path parameter routed to a route's schema; a longer one is answered 414. */
+export const MAX_PATH_PARAM_LENGTH = 256;
+
 /** Callers (token names and addresses) the rate limit keeps count of at once; the least recently seen is forgotten first. */
 export const RATE_LIMIT_KEYS = 10_000;
 
@@ -99,6 +102,7 @@ function documentCommonAnswers(route: RouteOptions): void {
   };
   const hasInput = schema.params !== undefined || schema.querystring !== undefined || schema.body !== undefined || access?.rawBody === true;
   if (hasInput) add(400, 'input that fails its schema: details lists each field and what was expected');
+  if (route.url.includes(':')) add(414, `a path parameter longer than ${MAX_PATH_PARAM_LENGTH} characters`);
   if (access && access.role !== null) {
     add(401, 'no token, or an unknown one');
     add(403, 'a token without the role this route needs');
@@ -161,6 +165,15 @@ export async function buildApp(options: AppOptions): Promise<ApiApp> {
     connectionTimeout: 60_000,
     // A request arriving while the app closes gets our own 503 (below), in the one error shape.
     return503OnClosing: false,
+    // Path parameters up to this length reach their schemas (identifiers are at most 128 characters); longer ones are refused before routing.
+    routerOptions: { maxParamLength: MAX_PATH_PARAM_LENGTH },
+    // Errors found before routing (an address that is not a valid URL, an over-long path parameter) in the one error shape too.
+    frameworkErrors: (err, _request, reply) => {
+      const tooLong = err.code === 'FST_ERR_MAX_PARAM_LENGTH';
+      void (reply as unknown as FastifyReply)
+        .status(tooLong ? 414 : 400)
+        .send(errorBody(tooLong ? 'uri_too_long' : 'bad_request', tooLong ? `a path parameter is longer than ${MAX_PATH_PARAM_LENGTH} characters` : 'the address is not a valid URL'));
+    },
   }).withTypeProvider<ZodTypeProvider>();
   app.setValidatorCompiler(validatorCompiler);
   app.setSerializerCompiler(serializerCompiler);
