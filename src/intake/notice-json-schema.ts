@@ -27,7 +27,7 @@ export function noticeJsonSchema(): Record<string, unknown> {
       `times not before ${EARLIEST_TIME} nor later than the service clock plus its tolerance (5 minutes by default);`,
       'a retraction ("retracted": true) carries a reason and no observations; a notice without an orbit block needs observations;',
       'two positions at the same time and observer must agree within 5 combined sigma;',
-      'identifiers (objectId, noticeId, sender) are well-formed Unicode from a stated character set (README, "Identifiers").',
+      'identifiers (objectId, noticeId, sender) are well-formed Unicode from a stated character set (README, "Notice format").',
     ].join(' '),
     ...rest,
   };
