@@ -12,11 +12,12 @@ export interface ServiceProcess {
   exited: Promise<number | null>;
 }
 
-/** Starts `src/cli.ts serve` under tsx with the given config file. */
-export function startServe(configPath: string): ServiceProcess {
-  const proc = spawn(process.execPath, ['--import', 'tsx', join(PROJECT_ROOT, 'src', 'cli.ts'), 'serve'], {
+/** Starts `src/cli.ts serve` under tsx with the given config file; `preload` modules run first in the same process, `env` adds variables. */
+export function startServe(configPath: string, options: { preload?: string[]; env?: Record<string, string> } = {}): ServiceProcess {
+  const preload = (options.preload ?? []).flatMap((m) => ['--import', m]);
+  const proc = spawn(process.execPath, ['--import', 'tsx', ...preload, join(PROJECT_ROOT, 'src', 'cli.ts'), 'serve'], {
     cwd: PROJECT_ROOT,
-    env: { ...process.env, NIGHTJAR_CONFIG: configPath },
+    env: { ...process.env, NIGHTJAR_CONFIG: configPath, ...options.env },
     stdio: ['ignore', 'pipe', 'pipe'],
   });
   const logs: string[] = [];

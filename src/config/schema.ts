@@ -197,8 +197,18 @@ export const webhookSchema = z
   .object({
     id: z.string().regex(/^[a-z0-9][a-z0-9-]{0,31}$/, 'expected lower-case letters, digits and hyphens'),
     url: z.url(),
-    /** HMAC-SHA256 key for the signature header; at least 16 characters. */
-    secret: z.string().min(16).max(512),
+    /**
+     * Signing key (Standard Webhooks, HMAC-SHA256): `whsec_` followed by the base64 of at least
+     * 24 random bytes, as Standard Webhooks writes secrets, or any text of at least 16 characters
+     * (its UTF-8 bytes are the key).
+     */
+    secret: z
+      .string()
+      .min(16)
+      .max(512)
+      .refine((s) => !s.startsWith('whsec_') || (/^whsec_[A-Za-z0-9+/]+={0,2}$/.test(s) && Buffer.from(s.slice(6), 'base64').length >= 24), {
+        message: 'a secret beginning whsec_ must go on with the base64 of at least 24 bytes (e.g. whsec_ followed by `openssl rand -base64 32`)',
+      }),
     /** Only requests scoring at least this (0-100) are pushed. */
     minScore: finite().min(0).max(100).default(70),
     /** Only these sites; all when absent. */

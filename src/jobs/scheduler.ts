@@ -4,12 +4,13 @@ import cron, { type ScheduledTask } from 'node-cron';
 export interface JobSpec {
   name: string;
   schedule: string;
-  run: () => Promise<void> | void;
+  /** `stopping` is aborted when the runner stops: a job that works through a list ends at once, leaving the rest for the next start. */
+  run: (stopping?: AbortSignal) => Promise<void> | void;
 }
 
 export interface JobRunner {
   start(): void;
-  /** Stops new runs and waits for the ones in progress. */
+  /** Stops new runs, tells the running ones to stop taking work, and waits for them. */
   stop(): Promise<void>;
   /** Runs a job now (used at start and by tests); waits if the same job is already running. */
   runNow(name: string): Promise<void>;
@@ -32,13 +33,15 @@ export interface CronLogger {
 export function createJobRunner(specs: readonly JobSpec[], onError: JobErrorHandler, cronLogger?: CronLogger): JobRunner {
   const running = new Map<string, Promise<void>>();
   const tasks: ScheduledTask[] = [];
+  const stopping = new AbortController();
 
   function execute(spec: JobSpec): Promise<void> {
+    if (stopping.signal.aborted) return Promise.resolve();
     const current = running.get(spec.name);
     if (current) return current;
     // Start on the next microtask so the entry is registered before a synchronous job finishes.
     const p = Promise.resolve()
-      .then(() => spec.run())
+      .then(() => spec.run(stopping.signal))
       .catch((err: unknown) => onError(spec.name, err))
       .finally(() => running.delete(spec.name));
     running.set(spec.name, p);
@@ -53,6 +56,7 @@ export function createJobRunner(specs: readonly JobSpec[], onError: JobErrorHand
       }
     },
     async stop() {
+      stopping.abort();
       for (const t of tasks) await t.destroy();
       tasks.length = 0;
       await Promise.all([...running.values()]);

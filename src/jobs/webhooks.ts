@@ -1,4 +1,4 @@
-import { createHmac } from 'node:crypto';
+import { Webhook } from 'standardwebhooks';
 import type { Config, WebhookConfig } from '../config/schema.js';
 import type { Store } from '../store/index.js';
 import type { ServiceMetrics } from '../telemetry/metrics.js';
@@ -8,22 +8,56 @@ import type { JobSpec } from './scheduler.js';
  * Push for urgent work: when a request at or above a hook's score is queued,
  * or its object is replanned or retracted, a signed POST goes out from the
  * outbox table, retried with backoff until it lands (no loss across restarts).
+ *
+ * Signed as Standard Webhooks has it (the `standardwebhooks` package): headers
+ * `webhook-id` (the same for every attempt of one delivery, so a receiver can
+ * refuse one it has seen), `webhook-timestamp` (seconds, the attempt's time, so
+ * a receiver can refuse an old one) and `webhook-signature`
+ * (`v1,<base64 HMAC-SHA256 of "id.timestamp.body">`).
  */
 
-export const SIGNATURE_HEADER = 'x-nightjar-signature';
+export const ID_HEADER = 'webhook-id';
+export const TIMESTAMP_HEADER = 'webhook-timestamp';
+export const SIGNATURE_HEADER = 'webhook-signature';
 export const EVENT_HEADER = 'x-nightjar-event';
-export const DELIVERY_HEADER = 'x-nightjar-delivery';
+
+/** How Standard Webhooks writes a secret: this prefix, then base64. */
+export const STANDARD_SECRET_PREFIX = 'whsec_';
 
 export type HookEvent = 'request.queued' | 'object.replanned' | 'object.retracted';
 
-/** `sha256=<hex HMAC-SHA256 of the raw body with the hook's secret>` */
-export function signBody(secret: string, body: string): string {
-  return `sha256=${createHmac('sha256', secret).update(body).digest('hex')}`;
+/** The signing key of a hook's secret: `whsec_` + base64 as Standard Webhooks writes it, else the secret's UTF-8 bytes. */
+export function signerFor(secret: string): Webhook {
+  return secret.startsWith(STANDARD_SECRET_PREFIX) ? new Webhook(secret) : new Webhook(Buffer.from(secret, 'utf8'), { format: 'raw' });
 }
 
-/** Seconds before retry `attempt` (1-based): 10 s doubling, at most one hour. */
-export function retryDelayS(attempt: number): number {
+/** The id a delivery keeps over all its attempts. */
+export function deliveryMessageId(delivery: { id: number; createdAt: string }): string {
+  return `nj_${Date.parse(delivery.createdAt).toString(36)}_${delivery.id}`;
+}
+
+/** The three signature headers for one attempt at `at`. */
+export function signedHeaders(signer: Webhook, messageId: string, at: Date, body: string): Record<string, string> {
+  return {
+    [ID_HEADER]: messageId,
+    [TIMESTAMP_HEADER]: String(Math.floor(at.getTime() / 1000)),
+    [SIGNATURE_HEADER]: signer.sign(messageId, at, body),
+  };
+}
+
+/** Base wait before retry `attempt` (1-based), s: 10 s doubling, at most one hour. */
+export function retryBaseS(attempt: number): number {
   return Math.min(3600, 10 * 2 ** Math.max(0, attempt - 1));
+}
+
+/**
+ * Seconds before retry `attempt` (1-based): the base wait with "equal jitter",
+ * half of it fixed and half drawn uniformly (common practice, so deliveries that
+ * failed together do not all retry at the same instant): base/2 + u base/2, u in [0, 1).
+ */
+export function retryDelayS(attempt: number, uniform: () => number = Math.random): number {
+  const base = retryBaseS(attempt);
+  return base / 2 + uniform() * (base / 2);
 }
 
 export interface AnnouncedRequest {
@@ -76,6 +110,10 @@ export interface DeliveryDeps {
   metrics?: ServiceMetrics;
   fetchFn?: typeof fetch;
   log?: { warn: (obj: object, msg: string) => void };
+  /** Uniform numbers in [0, 1) for the retries' jitter (tests fix it). */
+  uniform?: () => number;
+  /** Stops sending at once (the service is stopping); what is not sent waits in the outbox. */
+  signal?: AbortSignal;
 }
 
 /** Sends every due delivery once; records each attempt. */
@@ -83,6 +121,7 @@ export async function deliverDue(deps: DeliveryDeps): Promise<{ delivered: numbe
   const { config, store, clock } = deps;
   const out = { delivered: 0, failed: 0, retrying: 0 };
   for (const d of store.deliveries.due(clock())) {
+    if (deps.signal?.aborted) break;
     const hook = config.service.webhooks.find((h) => h.id === d.hookId);
     const startedAt = clock();
     const t0 = performance.now();
@@ -98,24 +137,25 @@ export async function deliverDue(deps: DeliveryDeps): Promise<{ delivered: numbe
         method: 'POST',
         headers: {
           'content-type': 'application/json',
-          [SIGNATURE_HEADER]: signBody(hook.secret, d.payload),
+          ...signedHeaders(signerFor(hook.secret), deliveryMessageId(d), startedAt, d.payload),
           [EVENT_HEADER]: d.event,
-          [DELIVERY_HEADER]: String(d.id),
         },
         body: d.payload,
-        signal: AbortSignal.timeout(hook.timeoutMs),
+        signal: deps.signal ? AbortSignal.any([deps.signal, AbortSignal.timeout(hook.timeoutMs)]) : AbortSignal.timeout(hook.timeoutMs),
       });
       status = res.status;
       await res.body?.cancel();
       if (!res.ok) error = `HTTP ${res.status}`;
     } catch (err) {
+      // Stopping: the attempt is not counted; the delivery stays due for the next start.
+      if (deps.signal?.aborted) break;
       const e = err as Error;
       error = e.name === 'TimeoutError' ? `timed out after ${hook.timeoutMs} ms` : e.message;
     }
     const delivered = error === null;
     const attempt = d.attempts + 1;
     const giveUp = !delivered && attempt >= hook.maxAttempts;
-    const next = delivered || giveUp ? null : new Date(clock().getTime() + retryDelayS(attempt) * 1000);
+    const next = delivered || giveUp ? null : new Date(clock().getTime() + retryDelayS(attempt, deps.uniform) * 1000);
     store.deliveries.recordAttempt(d.id, { at: startedAt, status, error, durationMs: performance.now() - t0, delivered, nextAttemptAt: next });
     if (delivered) out.delivered += 1;
     else {
@@ -130,5 +170,5 @@ export async function deliverDue(deps: DeliveryDeps): Promise<{ delivered: numbe
 
 export function webhookJobs(deps: DeliveryDeps): JobSpec[] {
   if (deps.config.service.webhooks.length === 0) return [];
-  return [{ name: 'deliver-webhooks', schedule: deps.config.service.schedules.deliverWebhooks, run: async () => void (await deliverDue(deps)) }];
+  return [{ name: 'deliver-webhooks', schedule: deps.config.service.schedules.deliverWebhooks, run: async (stopping) => void (await deliverDue({ ...deps, ...(stopping ? { signal: stopping } : {}) })) }];
 }

@@ -1,6 +1,10 @@
 import { existsSync, readdirSync, writeFileSync } from 'node:fs';
+import { createServer } from 'node:net';
+import type { AddressInfo } from 'node:net';
+import { pathToFileURL } from 'node:url';
 import { join } from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
+import { PROJECT_ROOT } from '../../src/config/load.js';
 import { openDatabase } from '../../src/store/database.js';
 import { demoConfigRaw, tempDir } from '../helpers.js';
 import { startServe, until, writeServiceConfig, type ServiceProcess } from '../service-process.js';
@@ -63,5 +67,52 @@ describe('nightjar serve', () => {
     child.url.catch(() => {});
     expect(await child.exited).toBe(1);
     expect(child.logs.join('')).toContain('sites[0].limits.minAltitudeDeg: expected a number >= 0');
+  });
+});
+
+describe('nightjar serve, stopping on faults', () => {
+  const FAULT = join(PROJECT_ROOT, 'test', 'commands', 'fixtures', 'fault-on-signal.mjs');
+
+  it.each([
+    ['exception', 'a fault the service did not catch'],
+    ['rejection', 'a promise nobody awaited failed'],
+  ])('logs an uncaught %s and stops cleanly, with exit code 1', async (fault, message) => {
+    const dir = tempDir('nightjar-serve-');
+    const { configPath } = writeServiceConfig(dir, (raw) => {
+      raw['demo'] = { simulate: false, dripMinutes: 0 };
+    });
+    child = startServe(configPath, { preload: [pathToFileURL(FAULT).href], env: { NIGHTJAR_TEST_FAULT: fault } });
+    await child.url;
+    child.proc.kill('SIGWINCH');
+    expect(await child.exited).toBe(1);
+    const entries = child.logs.flatMap((l) => {
+      try {
+        return [JSON.parse(l) as { msg?: string; err?: { message?: string } }];
+      } catch {
+        return [];
+      }
+    });
+    expect(entries.find((e) => e.msg === 'uncaught error: stopping the service')?.err?.message).toBe(message);
+    expect(entries.some((e) => e.msg === 'nightjar stopped')).toBe(true);
+  });
+
+  it('says the port is in use and to set NIGHTJAR_PORT, without a stack trace', async () => {
+    const busy = createServer();
+    await new Promise<void>((resolve) => busy.listen(0, '127.0.0.1', resolve));
+    const port = (busy.address() as AddressInfo).port;
+    try {
+      const dir = tempDir('nightjar-serve-');
+      const { configPath } = writeServiceConfig(dir, (raw) => {
+        raw['demo'] = { simulate: false, dripMinutes: 0 };
+      });
+      child = startServe(configPath, { env: { NIGHTJAR_PORT: String(port) } });
+      child.url.catch(() => {});
+      expect(await child.exited).toBe(1);
+      const text = child.logs.join('\n');
+      expect(text).toContain(`nightjar serve: cannot listen on 127.0.0.1:${port}: the port is in use (another nightjar, or another program); stop that, or set NIGHTJAR_PORT`);
+      expect(text).not.toMatch(/\n\s+at /);
+    } finally {
+      busy.close();
+    }
   });
 });

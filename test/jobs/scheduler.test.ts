@@ -48,4 +48,35 @@ describe('job runner', () => {
     await runner.runNow('bad');
     expect(errors).toEqual(['bad: boom', 'bad: boom']);
   });
+
+  it('tells a running job to stop taking work when the runner stops, and starts no job after', async () => {
+    const handled: number[] = [];
+    let started = false;
+    const runner = createJobRunner(
+      [
+        {
+          name: 'list',
+          schedule: '0 0 1 1 *',
+          run: async (stopping) => {
+            started = true;
+            for (let k = 0; k < 1000 && !stopping?.aborted; k++) {
+              handled.push(k);
+              await new Promise((r) => setTimeout(r, 5));
+            }
+          },
+        },
+      ],
+      () => {},
+    );
+    const run = runner.runNow('list');
+    while (!started) await new Promise((r) => setTimeout(r, 1));
+    const t0 = Date.now();
+    await runner.stop();
+    await run;
+    expect(Date.now() - t0).toBeLessThan(1000);
+    expect(handled.length).toBeLessThan(200);
+    const after = handled.length;
+    await runner.runNow('list');
+    expect(handled.length).toBe(after);
+  });
 });
