@@ -131,6 +131,7 @@ export const planSchema = z
         closeApproach: z.boolean(),
         minDistanceLunarP50: z.number(),
         notes: z.array(z.string()),
+        firstLook: z.literal(true).optional().describe('present on a first look: a cheaper estimate taken while new data wait, its uncertainty widened; the full assessment revises the request in place'),
       })
       .passthrough(),
   })

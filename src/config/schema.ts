@@ -313,6 +313,12 @@ export const planningSchema = z
      * docs/performance.md); 0 keeps nothing and every replan computes afresh.
      */
     reuseMb: z.number().int().min(0).max(16_384).default(512),
+    /**
+     * New-data items waiting at which an object never assessed in full is first assessed with a
+     * cheaper estimate (fewer virtual orbits, widened regions), refined when the queue has room
+     * (docs/performance.md); 0: never.
+     */
+    firstLookBacklog: z.number().int().min(0).max(1_000_000).default(20),
     /** Score weights; missing ones take the documented defaults (docs/scoring.md). */
     weights: z
       .object({

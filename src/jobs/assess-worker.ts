@@ -44,13 +44,15 @@ export function runAssessTask(task: AssessTask, reuse?: AssessmentReuse): Assess
     ...(task.rangePrior ? { rangePrior: task.rangePrior } : {}),
     ...(reuse ? { reuse } : {}),
     keptEstimate: kept && task.input.kept ? { key: task.input.kept.key, core: kept } : null,
+    ...(task.input.firstLook ? { firstLook: true } : {}),
   });
   return {
     summary: a.summary,
     retireReason: a.retireReason,
     usable: a.usable,
     requests: a.requests.map(storedRequest),
-    estimate: { key: a.estimate.key, members: task.members, keep: a.estimate.computed ? storedCoreBytes(a.estimate.core) : null },
+    // A new full estimate is kept in the store; a first look's is not (the full one follows).
+    estimate: { key: a.estimate.key, members: task.members, keep: a.estimate.computed && a.firstLook === null ? storedCoreBytes(a.estimate.core) : null },
   };
 }
 

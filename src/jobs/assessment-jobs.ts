@@ -64,6 +64,7 @@ export function createAssessmentService(deps: {
     clock: deps.clock,
     concurrency: size,
     slowAfterMs: limits.slowAssessmentS * 1000,
+    firstLookBacklog: config.planning.firstLookBacklog,
     ...(deps.metrics ? { metrics: deps.metrics } : {}),
     ...(deps.log ? { log: deps.log } : {}),
     assessor: (input) =>

@@ -17,6 +17,8 @@ export interface AssessInput {
   nowIso: string;
   /** The object's estimate kept in the store (its key and bytes), if any: used when the data have not changed. */
   kept?: KeptEstimate | null;
+  /** Take a first look (a cheaper estimate, planning's first-look.ts): new data wait in a backlog. */
+  firstLook?: boolean;
 }
 
 /** What it returns: the stored summary, the proposed requests, and whether the object has no future anywhere. */
@@ -56,6 +58,16 @@ export const MAX_ATTEMPTS = 3;
  */
 export const REPLAN_POLICY: ReplanPolicy = { opensWithinMs: 3_600_000, endsWithinMs: 7_200_000 };
 
+/** The class REPLAN_POLICY gives an object with this usable span at `now` (as the store's enqueueReplans does). */
+export function replanClass(usable: { from: string | null; until: string | null }, now: Date): 'urgent' | 'routine' {
+  const t = now.getTime();
+  const from = usable.from === null ? null : Date.parse(usable.from);
+  const until = usable.until === null ? null : Date.parse(usable.until);
+  const opens = from !== null && from > t && from <= t + REPLAN_POLICY.opensWithinMs;
+  const ends = until !== null && until <= t + REPLAN_POLICY.endsWithinMs;
+  return opens || ends ? 'urgent' : 'routine';
+}
+
 
 export interface RunnerDeps {
   config: Config;
@@ -72,6 +84,11 @@ export interface RunnerDeps {
   slowAfterMs?: number;
   metrics?: ServiceMetrics;
   log?: { info: (o: object, m: string) => void; warn: (o: object, m: string) => void };
+  /**
+   * New-data items waiting at which an object never assessed in full gets a first look (a
+   * cheaper estimate, refined when the queue has room); 0 or absent: never (config planning.firstLookBacklog).
+   */
+  firstLookBacklog?: number;
 }
 
 /** Builds the assessment input of one object from the store. */
@@ -145,7 +162,9 @@ export function createAssessmentRunner(deps: RunnerDeps) {
     }
     const started = clock();
     const t0 = performance.now();
-    const result = await deps.assessor({ ...assessInputFor(store, objectId, started), kept: store.keptEstimates.get(objectId) });
+    const backlog = deps.firstLookBacklog ?? 0;
+    const firstLook = backlog > 0 && store.work.waiting('new-data') >= backlog && !store.objects.assessedInFull(objectId);
+    const result = await deps.assessor({ ...assessInputFor(store, objectId, started), kept: store.keptEstimates.get(objectId), ...(firstLook ? { firstLook } : {}) });
     if (!result.ok) {
       recordFailure(objectId, result.failure, dataKey);
       return result.failure.kind === 'busy' || result.failure.kind === 'unavailable' ? 'waits' : 'done';
@@ -179,9 +198,12 @@ export function createAssessmentRunner(deps: RunnerDeps) {
         announce(store, hooks, now, { event: 'object.replanned', objectId, assessmentId: result.assessmentId, queued, rescheduled, superseded: result.superseded });
       if (output.retireReason !== null && result.created.length === 0) store.objects.retire(objectId, output.retireReason);
       store.objects.clearFailure(objectId);
-      store.objects.recordUsable(objectId, output.usable ?? { from: null, until: null });
-      if (output.estimate?.keep) store.keptEstimates.put(objectId, output.estimate.key, output.estimate.members, output.estimate.keep, now);
+      const usable = output.usable ?? { from: null, until: null };
+      store.objects.recordUsable(objectId, usable, firstLook ? now.toISOString() : null);
+      if (output.estimate?.keep && !firstLook) store.keptEstimates.put(objectId, output.estimate.key, output.estimate.members, output.estimate.keep, now);
       store.work.finish(objectId, now);
+      // A first look is refined by the full assessment once the new data are done (its class comes after theirs).
+      if (firstLook) store.work.enqueueReplan(objectId, now, replanClass(usable, now), now);
       return result;
     })();
     if (saved === null) {
@@ -195,6 +217,7 @@ export function createAssessmentRunner(deps: RunnerDeps) {
         queued: saved.created.length,
         revised: saved.revised.length,
         superseded: saved.superseded.length,
+        ...(firstLook ? { firstLook } : {}),
         seconds: Number(seconds.toFixed(3)),
       },
       'object assessed',

@@ -1,5 +1,6 @@
 import type { RangePriorChoice, Site } from '../config/schema.js';
 import { seedForObject, type EstimateSummary, type ObjectEstimate, type TrackletObservation } from '../orbit/estimate-types.js';
+import { FIRST_LOOK, firstLookNote, widenedTrackSource, type FirstLookInfo } from './first-look.js';
 import { estimateObject, type NoticeOrbitBlock, type PackedCore, type RangePriorKind } from '../orbit/estimation/index.js';
 import type { ScoreWeights } from './score.js';
 import { planObject, type ObjectPlan, type PlannedRequest } from './plan-object.js';
@@ -25,6 +26,8 @@ export interface AssessmentInput {
   reuse?: AssessmentReuse;
   /** An estimate kept from an earlier assessment (stored across restarts): used when its key is this input's. */
   keptEstimate?: { key: string; core: PackedCore } | null;
+  /** A first look (first-look.ts): FIRST_LOOK.members virtual orbits instead of `members`, regions widened. */
+  firstLook?: boolean;
 }
 
 /** What a long-lived caller (a worker thread) keeps between assessments. */
@@ -34,6 +37,11 @@ export interface AssessmentReuse {
 }
 
 export type { RangePriorChoice };
+
+/** The estimate with one more note in its summary. */
+function withNote(estimate: ObjectEstimate, note: string): ObjectEstimate {
+  return { ...estimate, summary: { ...estimate.summary, notes: [...estimate.summary.notes, note] } };
+}
 
 /** Ranging options for a range-prior choice ('auto' leaves the estimator's default). */
 export function rangingFor(choice: RangePriorChoice | undefined): { rangePrior?: RangePriorKind } {
@@ -48,6 +56,8 @@ export interface AssessmentSummary {
   estimate: EstimateSummaryOut;
   horizonEnd: string;
   sites: { siteId: string; siteName: string; windows: unknown[]; reasons: string[]; requests: { kind: string; score: number; windowStart: string; windowEnd: string; factors: unknown }[] }[];
+  /** Set when the assessment was a first look (a cheaper estimate under backlog; first-look.ts). */
+  firstLook?: FirstLookInfo;
 }
 
 /** The summary stored with an assessment, from the estimate and its plan. */
@@ -77,6 +87,8 @@ export interface Assessment {
   retireReason: string | null;
   /** When the object is next usable at some site, and until when (usableSpan). */
   usable: UsableSpan;
+  /** Set for a first look: how it was cheaper. */
+  firstLook: FirstLookInfo | null;
   /** The estimate's key (estimateKey), its core packed, and whether it was computed here (not reused). */
   estimate: { key: string; core: PackedCore; computed: boolean };
 }
@@ -131,6 +143,10 @@ export function weightsFromConfig(weights: Readonly<Record<string, number | unde
  * The estimate's close-approach search starts at approachStartFor(tracklet, now).
  */
 export function assessObject(input: AssessmentInput): Assessment {
+  const firstLook: FirstLookInfo | null = input.firstLook
+    ? { members: Math.min(FIRST_LOOK.members, input.members), widenedBy: FIRST_LOOK.widen, horizonH: Math.min(FIRST_LOOK.horizonH, input.horizonH) }
+    : null;
+  const members = firstLook?.members ?? input.members;
   const seed = input.seed ?? seedForObject(input.objectId);
   const approachStart = approachStartFor(input.observations, input.now);
   const key = estimateKey({
@@ -138,7 +154,7 @@ export function assessObject(input: AssessmentInput): Assessment {
     observations: input.observations,
     orbit: input.orbit,
     rangePrior: input.rangePrior ?? 'auto',
-    members: input.members,
+    members,
     seed,
     approachStart,
   });
@@ -151,21 +167,22 @@ export function assessObject(input: AssessmentInput): Assessment {
       observations: input.observations,
       orbit: input.orbit ?? undefined,
       now: approachStart,
-      members: input.members,
+      members,
       seed,
       ranging: rangingFor(input.rangePrior),
     });
     track = chainedTrackSource(estimate.core, chainPhaseMs(seed));
   }
-  const estimate = track.estimate;
+  const estimate = firstLook ? withNote(track.estimate, firstLookNote(firstLook, input.members)) : track.estimate;
   const timelines = input.reuse?.timelines;
   const plan = planObject({
     estimate,
-    track,
+    track: firstLook ? widenedTrackSource(track, firstLook.widenedBy) : track,
+    ...(firstLook ? { firstLook } : {}),
     ...(timelines ? { skyTimeline: (site: Site, startMs: number, endMs: number) => timelines.timeline(site, startMs, endMs) } : {}),
     sites: input.sites,
     now: input.now,
-    horizonH: input.horizonH,
+    horizonH: firstLook?.horizonH ?? input.horizonH,
     ...(input.weights ? { weights: input.weights } : {}),
   });
   if (input.reuse) {
@@ -178,11 +195,13 @@ export function assessObject(input: AssessmentInput): Assessment {
     plan,
     estimateSummary: estimate.summary,
     requests,
-    summary: assessmentSummary(estimate, plan),
+    summary: { ...assessmentSummary(estimate, plan), ...(firstLook ? { firstLook } : {}) },
     usable: usableSpan(plan),
+    firstLook,
     estimate: { key, core: track.baseCore, computed },
-    retireReason: noWindow
-      ? `no observable window at any site in the next ${input.horizonH} h (${plan.sites.map((s) => `${s.siteId}: ${s.reasons[0] ?? 'no window'}`).join('; ')})`
+    // A first look sees only part of the horizon: it never retires an object.
+    retireReason: noWindow && firstLook === null
+      ? `no observable window at any site in the next ${plan.horizonH} h (${plan.sites.map((s) => `${s.siteId}: ${s.reasons[0] ?? 'no window'}`).join('; ')})`
       : null,
   };
 }

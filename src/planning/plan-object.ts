@@ -14,6 +14,7 @@ import { DEFAULT_SCORE_WEIGHTS, scoreRequest, type Score, type ScoreWeights } fr
 import { searchPattern, type SearchPattern } from './search-pattern.js';
 import { buildTrack, TRACK_STEP_MIN, type Track, type TrackPoint } from './track.js';
 import { directTrackSource, TRACK_STEP_MS, type TrackSource } from './track-source.js';
+import type { FirstLookInfo } from './first-look.js';
 
 /**
  * The planner: for one assessed object and every configured site, either up to
@@ -59,6 +60,8 @@ export interface PlanObjectInput {
    * keeps timelines for many objects; default: built here. It must be buildSkyTimeline's answer.
    */
   skyTimeline?: (site: Site, startMs: number, endMs: number) => SkyTimeline;
+  /** Set for a first look (first-look.ts): its requests say so. */
+  firstLook?: FirstLookInfo;
 }
 
 export interface WindowSummary {
@@ -156,6 +159,8 @@ export interface RequestBody {
     closeApproach: boolean;
     minDistanceLunarP50: number;
     notes: string[];
+    /** Present on a first look's requests (a cheaper estimate under backlog, widened regions); the full assessment revises them. */
+    firstLook?: true;
   };
 }
 
@@ -787,6 +792,7 @@ function buildRequest(
       closeApproach: summary.closeApproach,
       minDistanceLunarP50: r(summary.minGeocentricDistance.lunarDistances.p50, 2),
       notes: summary.notes,
+      ...(input.firstLook ? { firstLook: true as const } : {}),
     },
   };
   return {

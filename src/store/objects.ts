@@ -137,6 +137,13 @@ export function createObjectStore(db: Db) {
      * planner's usableSpan), and whether it was a first look (its time, else null): the next
      * replan's class and order come from these.
      */
+    /** True when the object has an assessment and the latest was not a first look. */
+    assessedInFull(objectId: string): boolean {
+      return (
+        db.prepare(`SELECT 1 FROM objects o WHERE o.id = ? AND o.first_look_at IS NULL AND EXISTS (SELECT 1 FROM assessments a WHERE a.object_id = o.id)`).get(objectId) !==
+        undefined
+      );
+    },
     recordUsable(objectId: string, usable: { from: string | null; until: string | null }, firstLookAt: string | null = null): void {
       db.prepare(`UPDATE objects SET usable_from = ?, usable_until = ?, first_look_at = ? WHERE id = ?`).run(usable.from, usable.until, firstLookAt, objectId);
     },

@@ -169,6 +169,10 @@ export function createWorkStore(db: Db) {
       for (const r of rows) out[r.state] = r.n;
       return out;
     },
+    /** Items waiting in one class. */
+    waiting(priorityClass: WorkClass): number {
+      return (db.prepare(`SELECT count(*) AS n FROM work WHERE state = 'waiting' AND priority_class = ?`).get(CLASS_RANK[priorityClass]) as { n: number }).n;
+    },
     /** Per class: items waiting and running, and the age of the oldest waiting item at `now`. */
     classFigures(now: Date): Record<WorkClass, ClassFigures> {
       const out = Object.fromEntries(WORK_CLASSES.map((c) => [c, { waiting: 0, running: 0, oldestAgeS: 0 }])) as Record<WorkClass, ClassFigures>;
