@@ -79,7 +79,7 @@ type Plain = Record<string, unknown>;
 const isPlain = (v: unknown): v is Plain => typeof v === 'object' && v !== null && !Array.isArray(v);
 function deepMerge(base: Plain, over: Plain): Plain {
   const out: Plain = { ...base };
-  for (const [k, v] of Object.entries(over)) out[k] = isPlain(v) && isPlain(out[k]) ? deepMerge(out[k] as Plain, v) : v;
+  for (const [k, v] of Object.entries(over)) out[k] = isPlain(v) && isPlain(out[k]) ? deepMerge(out[k], v) : v;
   return out;
 }
 

@@ -23,7 +23,7 @@ export function startServe(configPath: string, options: { preload?: string[]; en
   const logs: string[] = [];
   const url = new Promise<string>((resolve, reject) => {
     let buffer = '';
-    proc.stdout!.on('data', (chunk: Buffer) => {
+    proc.stdout.on('data', (chunk: Buffer) => {
       buffer += chunk.toString();
       let nl: number;
       while ((nl = buffer.indexOf('\n')) >= 0) {
@@ -38,7 +38,7 @@ export function startServe(configPath: string, options: { preload?: string[]; en
         }
       }
     });
-    proc.stderr!.on('data', (chunk: Buffer) => logs.push(chunk.toString()));
+    proc.stderr.on('data', (chunk: Buffer) => logs.push(chunk.toString()));
     proc.on('exit', () => reject(new Error(`serve exited early:\n${logs.join('\n')}`)));
   });
   url.catch(() => {});

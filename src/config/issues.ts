@@ -19,7 +19,7 @@ export function formatPath(path: ReadonlyArray<PropertyKey>): string {
 function describeBound(issue: z.core.$ZodIssue): string | null {
   if (issue.code !== 'too_small' && issue.code !== 'too_big') return null;
   const small = issue.code === 'too_small';
-  const bound = small ? (issue as z.core.$ZodIssueTooSmall).minimum : (issue as z.core.$ZodIssueTooBig).maximum;
+  const bound = small ? issue.minimum : issue.maximum;
   const inclusive = issue.inclusive ?? true;
   const op = small ? (inclusive ? '>=' : '>') : inclusive ? '<=' : '<';
   switch (issue.origin) {

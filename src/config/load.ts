@@ -49,9 +49,15 @@ function applyEnvironment(raw: unknown, env: Environment): { raw: unknown; overr
       : {};
   const overridden: string[] = [];
   const port = env['NIGHTJAR_PORT'];
-  if (port !== undefined && port !== '') (service['port'] = /^\d+$/.test(port) ? Number(port) : port), overridden.push('service.port');
+  if (port !== undefined && port !== '') {
+    service['port'] = /^\d+$/.test(port) ? Number(port) : port;
+    overridden.push('service.port');
+  }
   const db = env['NIGHTJAR_DB'];
-  if (db !== undefined && db !== '') (service['databasePath'] = db), overridden.push('service.databasePath');
+  if (db !== undefined && db !== '') {
+    service['databasePath'] = db;
+    overridden.push('service.databasePath');
+  }
   obj['service'] = service;
   return { raw: obj, overridden };
 }

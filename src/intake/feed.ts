@@ -47,7 +47,8 @@ export async function readCapped(response: Response, maxBytes: number): Promise<
     throw new FeedTooLargeError(`answer of ${length} bytes (content-length) exceeds the ${maxBytes}-byte limit; not read`);
   }
   if (!response.body) return new Uint8Array(0);
-  const reader = response.body.getReader();
+  // A fetch body's chunks are bytes (the Fetch standard); the DOM types leave them `any`.
+  const reader = (response.body as ReadableStream<Uint8Array>).getReader();
   const chunks: Uint8Array[] = [];
   let total = 0;
   for (;;) {

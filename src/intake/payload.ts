@@ -58,7 +58,7 @@ function firstInvalidUtf8(bytes: Uint8Array): number {
 export function decodePayload(bytes: Uint8Array): DecodedPayload {
   const other = otherEncoding(bytes);
   if (other) {
-    let text = '';
+    let text: string;
     try {
       text = other.decoder ? new TextDecoder(other.decoder).decode(bytes) : new TextDecoder('utf-8').decode(bytes);
     } catch {

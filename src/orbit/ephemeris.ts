@@ -157,7 +157,7 @@ function placeInto(rx: number, ry: number, rz: number, vx: number, vy: number, v
   const sv = observer.sunBarycentricVelocity;
   let px = rx - o.x, py = ry - o.y, pz = rz - o.z;
   let tau = Math.sqrt(px * px + py * py + pz * pz) / LIGHT_AU_PER_DAY;
-  let ex = 0, ey = 0, ez = 0, rho = 0;
+  let ex: number, ey: number, ez: number, rho: number;
   let iterations = 0;
   for (;;) {
     iterations++;

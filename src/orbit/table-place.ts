@@ -68,7 +68,7 @@ export function placeFromTable(rows: readonly TableRowLike[], tMs: number, maxEx
   const h11 = s ** 3 - s ** 2;
   const east = h10 * hS * a.raRate + h01 * bEast + h11 * hS * bEastRate;
   const north = h10 * hS * a.decRate + h01 * bNorth + h11 * hS * bNorthRate;
-  let unc: UncertaintyEllipse | null = null;
+  let unc: UncertaintyEllipse | null;
   if (a.unc !== null && b.unc !== null) {
     unc = { major: a.unc.major + s * (b.unc.major - a.unc.major), minor: a.unc.minor + s * (b.unc.minor - a.unc.minor), pa: s < 0.5 ? a.unc.pa : b.unc.pa };
   } else unc = a.unc ?? b.unc;

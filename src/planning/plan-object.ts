@@ -3,7 +3,7 @@ import type { ObjectEstimate } from '../orbit/estimate-types.js';
 import type { EphemerisRow } from '../orbit/ephemeris.js';
 import { planExposure, type ExposurePlan, type PlanResult } from '../photometry/plans.js';
 import { DEFAULT_LIGHT_CURVE_BOUNDS_MIN, lightCurveLength, likelyDiameterM, type LightCurveLength } from '../photometry/cadence.js';
-import type { NotFeasible, ObservingConditions, RequestKind } from '../photometry/conditions.js';
+import type { ObservingConditions, RequestKind } from '../photometry/conditions.js';
 import { buildSkyTimeline, skyFromTimeline, type SkyTimeline } from '../sky/timeline.js';
 import { observableWindows, type ObservableWindow } from '../sky/windows.js';
 import { localNightOf } from '../sky/night.js';
@@ -653,7 +653,7 @@ function faintReason(kind: RequestKind, site: Site, cands: { cand: Candidate; wi
   const v = best.cand.c.observing!.vMag;
   const limit = limitingV(kind, site, best.cand.c, best.windowS);
   if (limit === null || limit >= v) {
-    return `not feasible at the best time: ${best.cand.bright.feasible ? 'the sequence does not fit the window' : (best.cand.bright as NotFeasible).reason}`;
+    return `not feasible at the best time: ${best.cand.bright.feasible ? 'the sequence does not fit the window' : best.cand.bright.reason}`;
   }
   return `too faint: V ${v.toFixed(1)} at best, limit ${limit.toFixed(1)} (airmass ${best.cand.c.airmass.toFixed(2)}, sky V ${best.cand.c.skyV.toFixed(1)} mag/arcsec^2)`;
 }

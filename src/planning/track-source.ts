@@ -163,7 +163,7 @@ export function chainedTrackSource(core: EnsembleCore | PackedCore, phaseMs: num
   function pieceRows(locations: readonly GeodeticLocation[], k: number, cache: Map<number, CoreEstimate>): Float64Array[] {
     const key = JSON.stringify(locations);
     let byPiece = pieces.get(key);
-    if (!byPiece) pieces.set(key, (byPiece = new Map()));
+    if (!byPiece) pieces.set(key, (byPiece = new Map<number, Float64Array[]>()));
     const kept = byPiece.get(k);
     if (kept) return kept;
     const times = Array.from({ length: STEPS_PER_PIECE }, (_, i) => new Date(boundaryMs(k) + i * TRACK_STEP_MS));
@@ -201,7 +201,7 @@ export function chainedTrackSource(core: EnsembleCore | PackedCore, phaseMs: num
     },
     rowsAt(location, timesMs) {
       freshRowsWanted = true;
-      const out: EphemerisRow[] = new Array(timesMs.length);
+      const out = new Array<EphemerisRow>(timesMs.length);
       const byPiece = new Map<number, number[]>();
       timesMs.forEach((t, i) => {
         const k = pieceOf(t);

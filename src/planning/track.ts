@@ -58,7 +58,7 @@ export interface Track {
   readonly stepMs: number;
   readonly rows: readonly EphemerisRow[];
   at(tMs: number): TrackPoint;
-  targetAt(timeUtc: Date): TargetState;
+  readonly targetAt: (timeUtc: Date) => TargetState;
   /**
    * A full ephemeris row at `tMs` from the track: position by the Hermite
    * interpolation of `at`, the other quantities linear between samples, and

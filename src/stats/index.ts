@@ -61,7 +61,10 @@ export function weightedQuantile(values: ArrayLike<number>, weights: ArrayLike<n
   for (let i = 0; i < values.length; i++) {
     const w = weights[i]!;
     if (!(w >= 0) || !Number.isFinite(w)) throw new RangeError(`weightedQuantile: weight ${i} is ${w}; weights must be finite and >= 0`);
-    if (w > 0) order.push(i), (total += w);
+    if (w > 0) {
+      order.push(i);
+      total += w;
+    }
   }
   if (order.length === 0) return Number.NaN;
   order.sort((a, b) => values[a]! - values[b]!);

@@ -61,9 +61,18 @@ export function createDeliveryStore(db: Db) {
     list(options: { beforeId?: number; limit: number; hookId?: string; state?: DeliveryState }): (DeliveryRow & { attemptLog: DeliveryAttemptRow[] })[] {
       const where: string[] = [];
       const args: (string | number)[] = [];
-      if (options.beforeId !== undefined) (where.push('id < ?'), args.push(options.beforeId));
-      if (options.hookId) (where.push('hook_id = ?'), args.push(options.hookId));
-      if (options.state) (where.push('state = ?'), args.push(options.state));
+      if (options.beforeId !== undefined) {
+        where.push('id < ?');
+        args.push(options.beforeId);
+      }
+      if (options.hookId) {
+        where.push('hook_id = ?');
+        args.push(options.hookId);
+      }
+      if (options.state) {
+        where.push('state = ?');
+        args.push(options.state);
+      }
       const rows = db
         .prepare(`SELECT ${COLUMNS} FROM deliveries ${where.length ? `WHERE ${where.join(' AND ')}` : ''} ORDER BY id DESC LIMIT ?`)
         .all(...args, options.limit) as DeliveryRow[];

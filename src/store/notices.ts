@@ -271,8 +271,14 @@ export function createNoticeStore(db: Db) {
     listNotices(options: { beforeId?: number; limit: number; objectId?: string }): NoticeRow[] {
       const where: string[] = [];
       const args: (string | number)[] = [];
-      if (options.beforeId !== undefined) (where.push('id < ?'), args.push(options.beforeId));
-      if (options.objectId !== undefined) (where.push('object_id = ?'), args.push(options.objectId));
+      if (options.beforeId !== undefined) {
+        where.push('id < ?');
+        args.push(options.beforeId);
+      }
+      if (options.objectId !== undefined) {
+        where.push('object_id = ?');
+        args.push(options.objectId);
+      }
       const sql = `SELECT ${NOTICE_COLUMNS} FROM notices ${where.length ? `WHERE ${where.join(' AND ')}` : ''} ORDER BY id DESC LIMIT ?`;
       return db.prepare(sql).all(...args, options.limit) as NoticeRow[];
     },

@@ -120,8 +120,14 @@ export function createObjectStore(db: Db) {
     listObjects(options: { afterId?: string; limit: number; state?: ObjectState }): ObjectRow[] {
       const where: string[] = [];
       const args: string[] = [];
-      if (options.afterId !== undefined) (where.push('id > ?'), args.push(options.afterId));
-      if (options.state !== undefined) (where.push('state = ?'), args.push(options.state));
+      if (options.afterId !== undefined) {
+        where.push('id > ?');
+        args.push(options.afterId);
+      }
+      if (options.state !== undefined) {
+        where.push('state = ?');
+        args.push(options.state);
+      }
       return (
         db
           .prepare(`SELECT ${OBJECT_COLUMNS} FROM objects ${where.length ? `WHERE ${where.join(' AND ')}` : ''} ORDER BY id LIMIT ?`)

@@ -511,10 +511,22 @@ export function createRequestStore(db: Db) {
     list(options: { state?: RequestState; siteId?: string; objectId?: string; before?: { createdAt: string; id: string }; limit: number }): RequestRow[] {
       const where: string[] = [];
       const args: (string | number)[] = [];
-      if (options.state) (where.push('state = ?'), args.push(options.state));
-      if (options.siteId) (where.push('site_id = ?'), args.push(options.siteId));
-      if (options.objectId) (where.push('object_id = ?'), args.push(options.objectId));
-      if (options.before) (where.push('(created_at < ? OR (created_at = ? AND id < ?))'), args.push(options.before.createdAt, options.before.createdAt, options.before.id));
+      if (options.state) {
+        where.push('state = ?');
+        args.push(options.state);
+      }
+      if (options.siteId) {
+        where.push('site_id = ?');
+        args.push(options.siteId);
+      }
+      if (options.objectId) {
+        where.push('object_id = ?');
+        args.push(options.objectId);
+      }
+      if (options.before) {
+        where.push('(created_at < ? OR (created_at = ? AND id < ?))');
+        args.push(options.before.createdAt, options.before.createdAt, options.before.id);
+      }
       return (
         db
           .prepare(`SELECT ${COLUMNS} FROM requests ${where.length ? `WHERE ${where.join(' AND ')}` : ''} ORDER BY created_at DESC, id DESC LIMIT ?`)

@@ -41,7 +41,7 @@ async function documentedApp(perMinute = 1000): Promise<{ app: ApiApp; paths: Pa
     service['bodyLimitBytes'] = 4096;
   });
   app = (await buildTestApp({ config })).app;
-  const doc = (await app.inject({ url: '/v1/openapi.json' })).json() as { paths: Paths };
+  const doc = (await app.inject({ url: '/v1/openapi.json' })).json<{ paths: Paths }>();
   return { app, paths: doc.paths };
 }
 
@@ -99,7 +99,7 @@ describe('the OpenAPI document', () => {
 
   it('describes shared shapes once, as components the routes refer to', async () => {
     const { app: a } = await documentedApp();
-    const doc = (await a.inject({ url: '/v1/openapi.json' })).json() as { components: { schemas: Record<string, unknown> } };
+    const doc = (await a.inject({ url: '/v1/openapi.json' })).json<{ components: { schemas: Record<string, unknown> } }>();
     for (const name of ['Error', 'Request', 'Plan', 'IntakeResult', 'Site', 'Observation', 'EphemerisRow']) expect(doc.components.schemas).toHaveProperty(name);
     const text = JSON.stringify(doc);
     expect(text).toContain('"$ref":"#/components/schemas/Request"');

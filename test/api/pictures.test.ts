@@ -48,7 +48,7 @@ const scheduler = { authorization: `Bearer ${DEMO_TOKENS.scheduler}` };
 async function queueJson(site: string): Promise<RequestJson[]> {
   const res = await app!.inject({ url: `/v1/queue?site=${site}&from=2027-03-04T00:00:00Z&to=2027-03-05T00:00:00Z&limit=500`, headers: scheduler });
   expect(res.statusCode).toBe(200);
-  return (res.json() as { items: RequestJson[] }).items;
+  return res.json<{ items: RequestJson[] }>().items;
 }
 
 const tonight = async (query = '?date=2027-03-03') => parseXml((await app!.inject({ url: `/v1/sites/lantern-ridge/tonight.svg${query}` })).body);

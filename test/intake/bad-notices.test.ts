@@ -62,7 +62,7 @@ describe('the bad-notice corpus', () => {
           payload: readFileSync(join(CORPUS, f)),
         });
         expect(res.statusCode, f).toBe(422);
-        const body = res.json() as { results: { reasons: Reason[] }[] };
+        const body = res.json<{ results: { reasons: Reason[] }[] }>();
         rejectedItems += body.results.length;
         expect(matches(body.results.flatMap((r) => r.reasons), manifest.cases[f]!), f).toBe(true);
       }

@@ -37,7 +37,7 @@ describe('feed polling', () => {
   it('stores the notices of a JSON array, then sends the ETag and gets 304', async () => {
     const seen: (string | undefined)[] = [];
     const url = await serveFeed(async (request, reply) => {
-      seen.push(request.headers['if-none-match'] as string | undefined);
+      seen.push(request.headers['if-none-match']);
       if (request.headers['if-none-match'] === '"v1"') return reply.status(304).send();
       return reply.header('etag', '"v1"').send([exampleNotice(), exampleNotice({ noticeId: 'ex-0002' })]);
     });

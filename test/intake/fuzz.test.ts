@@ -16,7 +16,7 @@ const mutatedNotice = fc
     value: fc.option(anyJson, { nil: undefined }),
   })
   .map(({ key, obsKey, where, value }) => {
-    const n = exampleNotice() as Record<string, unknown>;
+    const n = exampleNotice();
     if (where === 'top') {
       if (value === undefined) delete n[key];
       else Object.defineProperty(n, key, { value, enumerable: true, writable: true, configurable: true });

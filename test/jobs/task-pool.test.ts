@@ -22,7 +22,7 @@ function squarePool(options: { threads?: number; taskTimeoutMs?: number; waitMs?
     heapMb: options.heapMb ?? 256,
     ...(options.waitMs !== undefined ? { waitMs: options.waitMs } : {}),
   });
-  pools.push(pool as TaskPool<unknown, unknown>);
+  pools.push(pool);
   return pool;
 }
 

@@ -68,7 +68,7 @@ export function inventedEstimate(o: InventedObject, options: { members?: boolean
   for (let i = 0; i < count; i++) states.push(stateOf(o, at, 0.9 + (0.2 * i) / (count - 1), ((i * 7) % 11) / 10 - 0.5));
   return {
     ...base,
-    ephemeris: base.ephemeris,
+    ephemeris: (location, timesUtc, opts) => base.ephemeris(location, timesUtc, opts),
     memberPositions(location: GeodeticLocation, timeUtc: Date, maxMembers = states.length) {
       const places = ensemblePlaces(states.slice(0, maxMembers), location, [timeUtc]);
       return Array.from({ length: places.memberCount }, (_, j) => ({ raDeg: places.raDeg[j]!, decDeg: places.decDeg[j]! }));

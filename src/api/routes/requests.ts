@@ -344,7 +344,7 @@ export function requestRoutes(app: ApiApp, ctx: ApiContext): void {
         positions: positions.map((p, k) => ({
           id: idOf(p.t),
           t: p.t,
-          sigmaDistance: checked.verdicts[k]!.sigmaDistance === null ? null : Number(checked.verdicts[k]!.sigmaDistance!.toFixed(2)),
+          sigmaDistance: checked.verdicts[k]!.sigmaDistance === null ? null : Number(checked.verdicts[k]!.sigmaDistance.toFixed(2)),
           held: checked.verdicts[k]!.heldReason !== null,
           heldReason: checked.verdicts[k]!.heldReason,
         })),
@@ -374,7 +374,7 @@ export function requestRoutes(app: ApiApp, ctx: ApiContext): void {
       const r = store.requests.withdraw(params.id, `withdrawn by ${caller?.name ?? 'operator'}: ${body.reason}`, clock());
       if ('status' in r && r.status === 'not_found') throw new ApiError(404, 'not_found', `no request ${params.id}`);
       if ('status' in r && r.status === 'final') throw new ApiError(409, 'final_state', `request ${params.id} is already ${r.state}`, { state: r.state });
-      return toRequestView(r as Exclude<typeof r, { status: string }>);
+      return toRequestView(r);
     },
   });
   app.route({

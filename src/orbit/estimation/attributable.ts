@@ -100,7 +100,7 @@ export function fitAttributable(observations: readonly PreparedObservation[], op
   const n = observations.length;
   const used = observations.map((_, i) => !(options.exclude?.[i] ?? false));
   const w = observations.map((o) => 1 / (o.sigmaRad * o.sigmaRad));
-  let centre: Vec3 = [0, 0, 0];
+  const centre: Vec3 = [0, 0, 0];
   for (const o of observations) for (let k = 0; k < 3; k++) centre[k] = centre[k]! + o.unit[k]!;
   let frame = tangentFrame(centre);
   const maxFlags = options.leaveOneOut === false ? 0 : Math.floor(n / 3);

@@ -446,7 +446,10 @@ function weightByTracklet(
   const w = Float64Array.from(chi2, (c) => Math.exp(-(c - best) / 2));
   let sum = 0;
   let sum2 = 0;
-  for (const x of w) (sum += x), (sum2 += x * x);
+  for (const x of w) {
+    sum += x;
+    sum2 += x * x;
+  }
   const effective = (sum * sum) / sum2;
   if (!(effective >= MIN_EFFECTIVE_MEMBERS)) return null;
   const out = systematicResample(w, n, random.uniform()).map((m) => states[m]!);
@@ -568,7 +571,7 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
   let states: HeliocentricState[];
   let rangeAu: Float64Array;
   let rangingInfo: ShortArcEstimate['ranging'] = null;
-  let effectiveSampleSize = 0;
+  let effectiveSampleSize: number;
   let method: EstimateSummary['method'];
   // An orbit block with a tracklet: weight the block's default spread by the fit to the tracklet,
   // narrowing it 10x while too few members fit; if none of the spreads fits, the tracklet decides
@@ -619,7 +622,7 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
     attributable = judged.attributable;
     used = attributable.used;
     if (judged.flagged > 0) notes.push(`${judged.flagged} observation(s) fit no orbit with the others and were left out as outliers (chi-square of the best orbit above its 0.1 % point)`);
-    const sampled = ranging.sample(attributable!.covariance, members, random);
+    const sampled = ranging.sample(attributable.covariance, members, random);
     const drawn = sampled.members;
     epochTt = ranging.epochTt;
     states = drawn.map((d) => d.state);
@@ -645,7 +648,7 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
           ? 'range prior: population model alone (main belt, near-Earth objects and a floor for every bound orbit; docs/accuracy.md)'
           : `range prior: rho^${ranging.priorExponent ?? ''} power law (less informative)`,
     );
-    if (attributable!.degreesOfFreedom === 0) notes.push('the fit has no redundancy (as many parameters as measurements): the uncertainty rests on the stated sigmas alone');
+    if (attributable.degreesOfFreedom === 0) notes.push('the fit has no redundancy (as many parameters as measurements): the uncertainty rests on the stated sigmas alone');
   }
 
   // Absolute magnitudes (H-G; the orbit block's G when given, else 0.15).
@@ -754,7 +757,7 @@ export interface CoreEstimate extends ObjectEstimate {
 export function advanceCore(core: EnsembleCore, tt: number, perturbers: PerturberTable = new PerturberTable()): EnsembleCore {
   if (!Number.isFinite(tt)) throw new EstimationInputError('tt', tt, 'expected a finite TT (days since J2000.0)');
   const all = [core.nominal, ...core.states];
-  const moved: HeliocentricState[] = new Array(all.length);
+  const moved = new Array<HeliocentricState>(all.length);
   batchedStream(
     all,
     [tt],
@@ -826,7 +829,7 @@ export function estimateFromCore(core: EnsembleCore, perturbers: PerturberTable 
     }
     // Rows with the ensemble's own statistics (coarse and refined); the others interpolate between coarse rows.
     const known = coarseRows.map((rows) => {
-      const byRow: (Spread | undefined)[] = new Array(timesUtc.length);
+      const byRow = new Array<Spread | undefined>(timesUtc.length);
       coarse.forEach((i, j) => (byRow[i] = rows[j]!));
       return byRow;
     });

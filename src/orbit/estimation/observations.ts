@@ -29,8 +29,10 @@ const SAME_POSITION_RAD = 1e-9;
  * sorted by time.
  */
 export function prepareObservations(observations: readonly TrackletObservation[]): PreparedObservation[] {
-  if (!Array.isArray(observations) || observations.length < 2) {
-    throw new EstimationInputError('observations', Array.isArray(observations) ? observations.length : observations, 'a tracklet needs at least 2 observations');
+  // Checked without narrowing: Array.isArray would turn the readonly list's elements into `any`.
+  const isList: boolean = Array.isArray(observations);
+  if (!isList || observations.length < 2) {
+    throw new EstimationInputError('observations', isList ? observations.length : observations, 'a tracklet needs at least 2 observations');
   }
   const prepared = observations.map((o, index): PreparedObservation => {
     const field = `observations[${index}]`;

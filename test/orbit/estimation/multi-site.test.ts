@@ -25,7 +25,7 @@ describe('ephemeris for several sites at once', () => {
       { latDeg: 36.08, lonDeg: 138.24, heightM: 1420 },
     ];
     const times = [0, 3, 9, 20].map((h) => new Date(now.getTime() + h * 3600_000));
-    const together = estimate.ephemerisForSites!(sites, times);
+    const together = estimate.ephemerisForSites(sites, times);
     sites.forEach((site, i) => {
       const alone = estimate.ephemeris(site, times);
       alone.forEach((row, k) => {

@@ -54,7 +54,11 @@ describe('sky-plane spread of virtual orbits', () => {
       // ceil(p n)-th smallest (the inverse of the empirical distribution, src/stats' convention).
       const projected = offsets.map((_, m) => offsetArcsec(RA0, DEC0, ra[m]!, dec[m]!));
       let sxx = 0, sxy = 0, syy = 0;
-      for (const [x, y] of projected) (sxx += x * x), (sxy += x * y), (syy += y * y);
+      for (const [x, y] of projected) {
+        sxx += x * x;
+        sxy += x * y;
+        syy += y * y;
+      }
       sxx = sxx / n + 1e-6; syy = syy / n + 1e-6; sxy /= n;
       const det = sxx * syy - sxy * sxy;
       const d2 = projected.map(([x, y]) => (syy * x * x - 2 * sxy * x * y + sxx * y * y) / det).sort((a, b) => a - b);
