@@ -1,6 +1,7 @@
 // Import rules for src/ and test/reference/, checked by `npm run lint` (depcruise src test).
 // FLOORS is DEVELOPERS.md's import table ("may import") per src/ folder; each row becomes one
-// rule that names the folder. A folder may always import its own files and src/stats/.
+// rule that names the folder. A folder may always import its own files and the shared floors
+// src/domain/ (the types the floors exchange) and src/stats/.
 /** @type {Record<string, { may: string[]; typesOnly?: string[]; files?: string[] }>} */
 const FLOORS = {
   config: { may: [] },
@@ -16,13 +17,14 @@ const FLOORS = {
   jobs: { may: ['intake', 'planning', 'orbit', 'store', 'telemetry'], typesOnly: ['config'] },
   telemetry: { may: [] },
   stats: { may: [] },
+  domain: { may: [] },
 };
 
 /** Floors that everyone may import. */
-const SHARED = ['stats'];
+const SHARED = ['domain', 'stats'];
 
-/** The numeric floors: pure functions of their inputs and a clock, so no I/O and no service libraries. */
-const NUMERIC = ['sky', 'orbit', 'photometry', 'planning', 'stats'];
+/** The numeric floors and the shared ones: pure functions of their inputs and a clock, so no I/O and no service libraries. */
+const PURE = ['sky', 'orbit', 'photometry', 'planning', 'stats', 'domain'];
 
 const folders = (names) => `^src/(${names.join('|')})/`;
 
@@ -31,7 +33,7 @@ const floorRules = Object.entries(FLOORS).flatMap(([floor, rule]) => {
   const out = [
     {
       name: `${floor}-may-import-${[...rule.may, ...(rule.typesOnly ?? []).map((t) => `${t}-types`)].join('-') || 'nothing'}`,
-      comment: `src/${floor}/ may import ${[...rule.may, ...(rule.typesOnly ?? []).map((t) => `${t} (types only)`), ...(rule.files ?? [])].join(', ') || 'no other folder'} and src/stats/ (DEVELOPERS.md, "may import")`,
+      comment: `src/${floor}/ may import ${[...rule.may, ...(rule.typesOnly ?? []).map((t) => `${t} (types only)`), ...(rule.files ?? [])].join(', ') || 'no other folder'} and ${SHARED.map((s) => `src/${s}/`).join(', ')} (DEVELOPERS.md, "may import")`,
       severity: 'error',
       from: { path: `^src/${floor}/` },
       to: { path: '^src/', pathNot: [folders(allowed), ...(rule.files ?? [])] },
@@ -67,10 +69,10 @@ module.exports = {
       to: { path: '^src/server\\.ts$' },
     },
     {
-      name: 'numeric-floors-do-no-io',
-      comment: `${NUMERIC.join(', ')} are pure functions of their inputs and a clock: no files, network, threads, database, HTTP or logging (DEVELOPERS.md)`,
+      name: 'pure-floors-do-no-io',
+      comment: `${PURE.join(', ')} are pure functions of their inputs and a clock: no files, network, threads, database, HTTP or logging (DEVELOPERS.md)`,
       severity: 'error',
-      from: { path: folders(NUMERIC) },
+      from: { path: folders(PURE) },
       to: {
         path: [
           '^(node:)?(fs|fs/promises|net|http|https|http2|tls|dgram|dns|child_process|cluster|worker_threads|readline)$',

@@ -1,5 +1,6 @@
 import { z } from 'zod';
-import { REQUEST_KINDS, REQUEST_STATES, type RequestRow } from '../store/requests.js';
+import { REQUEST_KINDS } from '../domain/request-kind.js';
+import { REQUEST_STATES, type RequestRow } from '../store/requests.js';
 import { planSchema } from './plan-schema.js';
 
 /** Shared zod schemas of the HTTP API: inputs are validated with them and the OpenAPI document is built from them. */

@@ -2,7 +2,7 @@ import { readFileSync } from 'node:fs';
 import { resolve } from 'node:path';
 import { observerOf, parseNotice, type Notice } from '../intake/notice.js';
 import { decodePayload, depthExceededAt, MAX_JSON_DEPTH } from '../intake/payload.js';
-import type { TrackletObservation } from '../orbit/estimate-types.js';
+import type { TrackletObservation } from '../domain/tracklet.js';
 import { UsageError } from './io.js';
 
 /**

@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import type { GeodeticLocation } from '../domain/tracklet.js';
 
 /**
  * Configuration schemas: service settings, sites, telescopes and instruments.
@@ -27,7 +28,7 @@ export const locationSchema = z
     lonDeg: finite().min(-180).max(360),
     heightM: finite().min(-500).max(10_000),
   })
-  .strict();
+  .strict() satisfies z.ZodType<GeodeticLocation>;
 
 /** Minimum altitude over an azimuth range, for trees, domes and mountains. */
 export const horizonMaskPointSchema = z
@@ -389,6 +390,7 @@ export type Imager = z.infer<typeof imagerSchema>;
 export type Spectrograph = z.infer<typeof spectrographSchema>;
 export type Filter = z.infer<typeof filterSchema>;
 export type Telescope = z.infer<typeof telescopeSchema>;
-export type GeodeticLocation = z.infer<typeof locationSchema>;
+/** A site's place (the shared type of src/domain/, which the location schema produces). */
+export type { GeodeticLocation };
 export type FeedConfig = z.infer<typeof feedSchema>;
 export type WebhookConfig = z.infer<typeof webhookSchema>;

@@ -1,5 +1,6 @@
 import { z } from 'zod';
 import { toValidationIssues, type ValidationIssue } from '../config/issues.js';
+import type { OrbitBlock } from '../domain/orbit-block.js';
 import type { ObservationInput } from '../store/notices.js';
 import { DESIGNATION_RULE, identifier, isWellFormedText, NOTICE_ID_RULE, SENDER_RULE } from './identifiers.js';
 import { mergedTrackletIssues, sameTimeConflicts, type RulePosition } from './tracklet-rules.js';
@@ -63,7 +64,7 @@ export const observationSchema = z
   })
   .strict();
 
-/** Heliocentric ecliptic J2000 elements; angles deg, q au, epoch and tp ISO TT. */
+/** Heliocentric ecliptic J2000 elements; angles deg, q au, epoch and tp ISO TT (src/domain/orbit-block.ts). */
 export const noticeOrbitSchema = z
   .object({
     epoch: isoInstant(),
@@ -76,7 +77,7 @@ export const noticeOrbitSchema = z
     H: finite().min(-2).max(40).optional(),
     G: finite().min(-0.5).max(1.5).optional(),
   })
-  .strict();
+  .strict() satisfies z.ZodType<OrbitBlock>;
 
 /** Names another sender's designation as the same object: this notice's designation then joins that object. */
 export const noticeLinkSchema = z

@@ -4,7 +4,6 @@
  * comes back as a typed value (WorkerReply).
  */
 import type { Site } from '../config/schema.js';
-import type { NoticeOrbitBlock } from '../orbit/estimation/index.js';
 import { coreFromStoredBytes, storedCoreBytes } from '../orbit/estimation/index.js';
 import { assessObject, type AssessmentReuse, type RangePriorChoice } from '../planning/assess.js';
 import { createSkyTimelineCache, createTrackCache } from '../planning/reuse.js';
@@ -35,7 +34,7 @@ export function runAssessTask(task: AssessTask, reuse?: AssessmentReuse): Assess
   const a = assessObject({
     objectId: task.input.objectId,
     observations: task.input.observations,
-    orbit: (task.input.orbit as NoticeOrbitBlock | null) ?? null,
+    orbit: task.input.orbit,
     now: new Date(task.input.nowIso),
     sites: task.sites,
     horizonH: task.horizonH,

@@ -1,6 +1,8 @@
 import type { Config } from '../config/schema.js';
-import type { TrackletObservation } from '../orbit/estimate-types.js';
+import type { OrbitBlock } from '../domain/orbit-block.js';
+import type { TrackletObservation } from '../domain/tracklet.js';
 import type { Store } from '../store/index.js';
+import { StoredDataError } from '../store/objects.js';
 import type { KeptEstimate } from '../store/kept-estimates.js';
 import type { ReplanPolicy } from '../store/work.js';
 import type { NewRequest } from '../store/requests.js';
@@ -12,8 +14,8 @@ import type { TaskFailure, TaskResult } from './worker-task.js';
 export interface AssessInput {
   objectId: string;
   observations: TrackletObservation[];
-  /** The notice orbit block (ISO TT epoch and tp, degrees, au), when one was given. */
-  orbit: Record<string, unknown> | null;
+  /** The notice orbit block, when one was given (checked as the store read it back). */
+  orbit: OrbitBlock | null;
   nowIso: string;
   /** The object's estimate kept in the store (its key and bytes), if any: used when the data have not changed. */
   kept?: KeptEstimate | null;
@@ -164,7 +166,16 @@ export function createAssessmentRunner(deps: RunnerDeps) {
     const t0 = performance.now();
     const backlog = deps.firstLookBacklog ?? 0;
     const firstLook = backlog > 0 && store.work.waiting('new-data') >= backlog && !store.objects.assessedInFull(objectId);
-    const result = await deps.assessor({ ...assessInputFor(store, objectId, started), kept: store.keptEstimates.get(objectId), ...(firstLook ? { firstLook } : {}) });
+    let input: AssessInput;
+    try {
+      input = assessInputFor(store, objectId, started);
+    } catch (err) {
+      // Stored data that no longer fit their type fail this object's assessment, not the drain.
+      if (!(err instanceof StoredDataError)) throw err;
+      recordFailure(objectId, { kind: 'error', message: err.message }, dataKey);
+      return 'done';
+    }
+    const result = await deps.assessor({ ...input, kept: store.keptEstimates.get(objectId), ...(firstLook ? { firstLook } : {}) });
     if (!result.ok) {
       recordFailure(objectId, result.failure, dataKey);
       return result.failure.kind === 'busy' || result.failure.kind === 'unavailable' ? 'waits' : 'done';

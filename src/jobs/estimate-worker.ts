@@ -5,7 +5,7 @@
  */
 import type { GeodeticLocation } from '../config/schema.js';
 import type { EphemerisRow } from '../orbit/ephemeris.js';
-import { estimateObject, type NoticeOrbitBlock } from '../orbit/estimation/index.js';
+import { estimateObject } from '../orbit/estimation/index.js';
 import { seedForObject, type ObjectEstimate } from '../orbit/estimate-types.js';
 import { rangingFor, type RangePriorChoice } from '../planning/assess.js';
 import { isNumericRefusal } from '../planning/refusals.js';
@@ -38,7 +38,7 @@ export function createEstimateTaskHandler(): (task: EstimateTask) => EstimateAns
     const estimate = estimateObject({
       objectId: task.input.objectId,
       observations: task.input.observations,
-      orbit: (task.input.orbit as NoticeOrbitBlock | null) ?? undefined,
+      orbit: task.input.orbit ?? undefined,
       now: new Date(nowMs),
       members: task.members,
       seed: seedForObject(task.input.objectId),

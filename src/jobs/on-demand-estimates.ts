@@ -2,7 +2,8 @@ import type { GeodeticLocation } from '../config/schema.js';
 import type { EphemerisRow } from '../orbit/ephemeris.js';
 import type { RangePriorChoice } from '../planning/assess.js';
 import type { Store } from '../store/index.js';
-import { assessInputFor } from './assessment-runner.js';
+import { StoredDataError } from '../store/objects.js';
+import { assessInputFor, type AssessInput } from './assessment-runner.js';
 import type { EstimateAnswer, EstimateTask } from './estimate-worker.js';
 import { createTaskPool, type TaskPool } from './task-pool.js';
 import type { TaskFailure } from './worker-task.js';
@@ -80,7 +81,13 @@ export function createOnDemandEstimates(deps: {
   const ask = async (objectId: string, question: EstimateTask['ask']): Promise<EstimateAnswer | null> => {
     const object = deps.store.objects.getObject(objectId);
     if (!object) return null;
-    const input = assessInputFor(deps.store, objectId, deps.clock());
+    let input: AssessInput;
+    try {
+      input = assessInputFor(deps.store, objectId, deps.clock());
+    } catch (err) {
+      if (err instanceof StoredDataError) throw new OnDemandFailure({ kind: 'refused', message: err.message });
+      throw err;
+    }
     if (input.observations.length === 0 && !input.orbit) return null;
     const dataKey = deps.store.objects.dataKey(objectId);
     if (object.failure && (object.failure.kind === 'timeout' || object.failure.kind === 'crashed') && object.failure.dataKey === dataKey) {

@@ -8,17 +8,6 @@ import type { EphemerisRow } from './ephemeris.js';
  * Everything here is an estimate with its spread, never an impact prediction.
  */
 
-/** One astrometric position of a tracklet, as estimation takes it (degrees, arcsec, ISO UTC). */
-export interface TrackletObservation {
-  t: string;
-  raDeg: number;
-  decDeg: number;
-  sigmaArcsec: number;
-  mag: number | null;
-  band: string | null;
-  observer: GeodeticLocation;
-}
-
 export interface Percentiles {
   p5: number;
   p50: number;

@@ -1,3 +1,4 @@
+import type { RequestKind } from '../domain/request-kind.js';
 import type { NoiseRegime } from './ccd.js';
 import { PhotometryInputError, requireInRange, requireNonNegative, requirePositive } from './errors.js';
 
@@ -86,9 +87,6 @@ export interface NotFeasible {
   reason: string;
   figures: Record<string, number>;
 }
-
-/** The request kinds of the service. */
-export type RequestKind = 'photometry' | 'colours' | 'spectrum';
 
 /** An error thrown when the site's configuration lacks something a plan needs. */
 export class PlanConfigError extends Error {

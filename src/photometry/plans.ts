@@ -9,8 +9,8 @@ import {
   type ExposureStep,
   type NotFeasible,
   type ObservingConditions,
-  type RequestKind,
 } from './conditions.js';
+import type { RequestKind } from '../domain/request-kind.js';
 import { requireInRange, requireNonNegative, requirePositive } from './errors.js';
 import { imagingLimitingMagnitude, imagingLimits, imagingSetup, type ImagingOptions } from './imaging.js';
 import {

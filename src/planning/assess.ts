@@ -1,7 +1,9 @@
 import type { RangePriorChoice, Site } from '../config/schema.js';
-import { seedForObject, type EstimateSummary, type ObjectEstimate, type TrackletObservation } from '../orbit/estimate-types.js';
+import { seedForObject, type EstimateSummary, type ObjectEstimate } from '../orbit/estimate-types.js';
+import type { TrackletObservation } from '../domain/tracklet.js';
 import { FIRST_LOOK, firstLookNote, widenedTrackSource, type FirstLookInfo } from './first-look.js';
-import { estimateObject, type NoticeOrbitBlock, type PackedCore, type RangePriorKind } from '../orbit/estimation/index.js';
+import { estimateObject, type PackedCore, type RangePriorKind } from '../orbit/estimation/index.js';
+import type { OrbitBlock } from '../domain/orbit-block.js';
 import type { ScoreWeights } from './score.js';
 import { planObject, type ObjectPlan, type PlannedRequest } from './plan-object.js';
 import { TRACK_STEP_MIN } from './track.js';
@@ -12,7 +14,7 @@ import { approachStartFor, chainPhaseMs, estimateKey, type SkyTimelineCache, typ
 export interface AssessmentInput {
   objectId: string;
   observations: TrackletObservation[];
-  orbit: NoticeOrbitBlock | null;
+  orbit: OrbitBlock | null;
   now: Date;
   sites: Site[];
   horizonH: number;

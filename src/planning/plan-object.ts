@@ -3,7 +3,8 @@ import type { ObjectEstimate } from '../orbit/estimate-types.js';
 import type { EphemerisRow } from '../orbit/ephemeris.js';
 import { planExposure, type ExposurePlan, type PlanResult } from '../photometry/plans.js';
 import { DEFAULT_LIGHT_CURVE_BOUNDS_MIN, lightCurveLength, likelyDiameterM, type LightCurveLength } from '../photometry/cadence.js';
-import type { ObservingConditions, RequestKind } from '../photometry/conditions.js';
+import type { ObservingConditions } from '../photometry/conditions.js';
+import { REQUEST_KINDS, type RequestKind } from '../domain/request-kind.js';
 import { buildSkyTimeline, skyFromTimeline, type SkyTimeline } from '../sky/timeline.js';
 import { observableWindows, type ObservableWindow } from '../sky/windows.js';
 import { localNightOf } from '../sky/night.js';
@@ -34,7 +35,6 @@ import type { FirstLookInfo } from './first-look.js';
  * request window every 5 min.
  */
 
-export const REQUEST_KINDS: readonly RequestKind[] = ['photometry', 'colours', 'spectrum'];
 /** Ephemeris table spacing in a request, minutes. */
 export const TABLE_STEP_MIN = 5;
 /** Most pointings a search pattern may have before the object needs astrometry first (planning assumption: 3 x 3). */

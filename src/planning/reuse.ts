@@ -1,6 +1,6 @@
 import { createHash } from 'node:crypto';
 import type { Site } from '../config/schema.js';
-import type { TrackletObservation } from '../orbit/estimate-types.js';
+import type { TrackletObservation } from '../domain/tracklet.js';
 import { buildSkyTimeline, type SkyTimeline } from '../sky/timeline.js';
 import { CHAIN_PIECE_HOURS, TRACK_STEP_MS, type ChainedTrack } from './track-source.js';
 

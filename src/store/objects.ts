@@ -1,5 +1,12 @@
+import { orbitBlockFromJson, type OrbitBlock } from '../domain/orbit-block.js';
+import type { TrackletObservation } from '../domain/tracklet.js';
 import type { Db } from './database.js';
 import type { ObjectState, ObservationInput } from './notices.js';
+
+/** Data read back from the database that no longer fit their type (a changed format, or an edit by hand). */
+export class StoredDataError extends Error {
+  override readonly name = 'StoredDataError';
+}
 
 /** Why an object's last assessment or on-demand estimate failed (null after a success). */
 export interface ObjectFailure {
@@ -34,17 +41,6 @@ export interface ObjectName {
   designation: string;
   namedAt: string;
   link: { sender: string; designation: string } | null;
-}
-
-/** One observation of a tracklet with its observer, in the estimator's shape. */
-export interface TrackletRow {
-  t: string;
-  raDeg: number;
-  decDeg: number;
-  sigmaArcsec: number;
-  mag: number | null;
-  band: string | null;
-  observer: { latDeg: number; lonDeg: number; heightM: number };
 }
 
 export interface StoredObservation extends ObservationInput {
@@ -157,7 +153,7 @@ export function createObjectStore(db: Db) {
      * The tracklet in time order as the orbit estimator takes it (degrees, arcsec, metres): every
      * position except those held back (a possible misidentification) and not yet confirmed.
      */
-    tracklet(objectId: string): TrackletRow[] {
+    tracklet(objectId: string): TrackletObservation[] {
       return (usableOf.all(objectId) as StoredObservation[]).map((o) => ({
         t: o.t,
         raDeg: o.raDeg,
@@ -168,10 +164,16 @@ export function createObjectStore(db: Db) {
         observer: { latDeg: o.obsLatDeg, lonDeg: o.obsLonDeg, heightM: o.obsHeightM },
       }));
     },
-    /** The object's orbit block (from the latest notice that had one), parsed. */
-    orbitBlock(objectId: string): Record<string, unknown> | null {
+    /**
+     * The object's orbit block (from the latest notice that had one), checked as it is read back.
+     * Throws StoredDataError when the stored text is not an orbit block.
+     */
+    orbitBlock(objectId: string): OrbitBlock | null {
       const row = byId.get(objectId) as RawObjectRow | undefined;
-      return row?.orbit ? (JSON.parse(row.orbit) as Record<string, unknown>) : null;
+      if (!row?.orbit) return null;
+      const read = orbitBlockFromJson(row.orbit);
+      if (!read.ok) throw new StoredDataError(`object ${objectId}: ${read.message}; the next notice with an orbit block for it replaces the stored one`);
+      return read.block;
     },
     /** Every stored position of the object in time order, held ones included. */
     observations(objectId: string): StoredObservation[] {

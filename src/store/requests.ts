@@ -1,9 +1,8 @@
 import { createHash, randomBytes, timingSafeEqual } from 'node:crypto';
+import type { RequestKind } from '../domain/request-kind.js';
 import type { Db } from './database.js';
 
-export type RequestKind = 'photometry' | 'colours' | 'spectrum';
 export type RequestState = 'queued' | 'leased' | 'done' | 'failed' | 'lapsed' | 'superseded' | 'withdrawn';
-export const REQUEST_KINDS: readonly RequestKind[] = ['photometry', 'colours', 'spectrum'];
 export const REQUEST_STATES: readonly RequestState[] = ['queued', 'leased', 'done', 'failed', 'lapsed', 'superseded', 'withdrawn'];
 
 /** A request as the planner proposes it; `body` is stored as JSON and returned as given. */

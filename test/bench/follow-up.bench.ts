@@ -21,7 +21,7 @@
  */
 import type { GeodeticLocation } from '../../src/config/schema.js';
 import { ensemblePlaces } from '../../src/orbit/ephemeris.js';
-import type { TrackletObservation } from '../../src/orbit/estimate-types.js';
+import type { TrackletObservation } from '../../src/domain/tracklet.js';
 import { seedForObject } from '../../src/orbit/estimate-types.js';
 import { estimateObject } from '../../src/orbit/estimation/index.js';
 import { createRandom } from '../../src/orbit/estimation/random.js';

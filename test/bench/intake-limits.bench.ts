@@ -13,7 +13,7 @@ import { runAssessTask } from '../../src/jobs/assess-worker.js';
 import { MAX_OBSERVATIONS } from '../../src/intake/notice.js';
 import { MAX_ARC_DAYS, MAX_OBJECT_OBSERVATIONS } from '../../src/intake/tracklet-rules.js';
 import type { GeodeticLocation } from '../../src/config/schema.js';
-import type { TrackletObservation } from '../../src/orbit/estimate-types.js';
+import type { TrackletObservation } from '../../src/domain/tracklet.js';
 import { REFERENCE_SURVEY_SITE, referenceCases, referencePlacesFrom } from '../reference/cases.js';
 
 const mode = process.argv[2] ?? 'all';

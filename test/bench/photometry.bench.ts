@@ -5,7 +5,7 @@
  */
 import { loadConfig } from '../../src/config/load.js';
 import { planExposure } from '../../src/photometry/plans.js';
-import type { RequestKind } from '../../src/photometry/conditions.js';
+import type { RequestKind } from '../../src/domain/request-kind.js';
 
 const site = loadConfig({ env: {} }).sites[0]!;
 const kinds: RequestKind[] = ['photometry', 'colours', 'spectrum'];

@@ -34,7 +34,32 @@ const oneRequest = (score = 70): AssessOutput => ({
   ],
 });
 
+const ORBIT = { epoch: '2027-03-01T00:00:00Z', q: 0.91, e: 0.32, i: 7.5, node: 120.1, peri: 48.7, tp: '2027-02-10T12:00:00Z', H: 25.1, G: 0.15 };
+
 describe('assessment runner', () => {
+  it('hands the assessment the orbit block as the store reads it back', async () => {
+    const seen: AssessInput[] = [];
+    const { intake, runner } = setup(async (input) => (seen.push(input), oneRequest()));
+    intake.ingestJson(JSON.stringify(exampleNotice({ orbit: ORBIT })), 'test');
+    await runner.drain();
+    expect(seen[0]?.orbit).toEqual(ORBIT);
+  });
+
+  it('fails only the object whose stored orbit block no longer fits, naming the field', async () => {
+    const seen: string[] = [];
+    const { store, intake, runner } = setup(async (input) => (seen.push(input.objectId), oneRequest()));
+    intake.ingestJson(JSON.stringify(exampleNotice({ orbit: ORBIT })), 'test');
+    intake.ingestJson(JSON.stringify(exampleNotice({ noticeId: 'ex-0002', objectId: 'ZX27A02' })), 'test');
+    store.db.prepare('UPDATE objects SET orbit = ? WHERE id = ?').run(JSON.stringify({ ...ORBIT, q: 'near' }), 'ZX27A01');
+    await runner.drain();
+    expect(seen).toEqual(['ZX27A02']);
+    const failure = store.objects.getObject('ZX27A01')?.failure;
+    expect(failure).toMatchObject({ kind: 'error', stage: 'assessment' });
+    expect(failure?.message).toMatch(/^object ZX27A01: the orbit block does not fit its format \(q: /);
+    expect(store.work.get('ZX27A01')?.state).toBe('failed');
+    expect(store.work.get('ZX27A02')?.state).toBe('done');
+  });
+
   it('assesses waiting objects and queues their requests with the tracklet as input', async () => {
     const seen: AssessInput[] = [];
     const { store, intake, runner } = setup(async (input) => (seen.push(input), oneRequest()), true);

@@ -71,14 +71,23 @@ describe('import rules (npm run lint)', () => {
     expect(found).toEqual([{ from: 'src/photometry/snr.ts', to: 'src/config/schema.ts', rule: 'photometry-imports-only-types-of-config' }]);
   });
 
-  it('refuse the stats floor importing any other folder', async () => {
-    const found = await cruise({ ...storeFile, 'src/stats/index.ts': "import { openStore } from '../store/database.js';\nexport const z = openStore();\n" });
-    expect(found).toEqual([{ from: 'src/stats/index.ts', to: 'src/store/database.ts', rule: 'stats-may-import-nothing' }]);
+  it.each(['stats', 'domain'])('refuse the shared floor %s importing any other folder', async (shared) => {
+    const found = await cruise({ ...storeFile, [`src/${shared}/index.ts`]: "import { openStore } from '../store/database.js';\nexport const z = openStore();\n" });
+    expect(found).toEqual([{ from: `src/${shared}/index.ts`, to: 'src/store/database.ts', rule: `${shared}-may-import-nothing` }]);
+  });
+
+  it('let every floor import the shared floors', async () => {
+    const found = await cruise({
+      'src/domain/kind.ts': "export type Kind = 'a' | 'b';\n",
+      'src/store/requests.ts': "import type { Kind } from '../domain/kind.js';\nexport const k: Kind = 'a';\n",
+      'src/sky/night.ts': "import type { Kind } from '../domain/kind.js';\nexport const k: Kind = 'b';\n",
+    });
+    expect(found).toEqual([]);
   });
 
   it('refuse file access in a numeric floor', async () => {
     const found = await cruise({ 'src/orbit/table.ts': "import { readFileSync } from 'node:fs';\nexport const t = readFileSync;\n" });
-    expect(found).toEqual([{ from: 'src/orbit/table.ts', to: 'fs', rule: 'numeric-floors-do-no-io' }]);
+    expect(found).toEqual([{ from: 'src/orbit/table.ts', to: 'fs', rule: 'pure-floors-do-no-io' }]);
   });
 
   it('refuse a reference file importing the code it checks, except the one that runs it', async () => {

@@ -3,7 +3,7 @@ import { trackletOf } from '../../src/commands/notice-file.js';
 import { loadConfig } from '../../src/config/load.js';
 import { parseNotice } from '../../src/intake/notice.js';
 import { advanceCore, estimateFromCore, estimateObject } from '../../src/orbit/estimation/index.js';
-import type { TrackletObservation } from '../../src/orbit/estimate-types.js';
+import type { TrackletObservation } from '../../src/domain/tracklet.js';
 import { ttFromUtc } from '../../src/orbit/time.js';
 import { assessObject, type AssessmentInput } from '../../src/planning/assess.js';
 import { approachStartFor, createSkyTimelineCache, createTrackCache, estimateKey } from '../../src/planning/reuse.js';

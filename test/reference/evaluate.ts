@@ -8,7 +8,7 @@
 import type { GeodeticLocation } from '../../src/config/schema.js';
 import { estimateObject, type ShortArcEstimate } from '../../src/orbit/estimation/estimate.js';
 import type { RangingOptions } from '../../src/orbit/estimation/ranging.js';
-import type { TrackletObservation } from '../../src/orbit/estimate-types.js';
+import type { TrackletObservation } from '../../src/domain/tracklet.js';
 import { REFERENCE_FOLLOW_UP_SITE, REFERENCE_HORIZONS_H, REFERENCE_SURVEY_SITE, type ReferenceCase, type ReferencePopulation } from './cases.js';
 
 const RAD = Math.PI / 180;

@@ -4,7 +4,9 @@ import { median, quantiles, quantileSorted, systematicResample } from '../../sta
 import { ARCSEC_PER_RAD, GM_SUN_AU3_PER_DAY2, KM_PER_AU, RAD_PER_DEG } from '../constants.js';
 import { stateFromPerihelionElements, type HeliocentricState, type PerihelionElements } from '../elements.js';
 import { astrometricPlace, DEFAULT_SLOPE_G, ensemblePlaces, observerGeometry, rowsFromPlaces, type EnsemblePlaces, type EphemerisRow, type UncertaintyEllipse } from '../ephemeris.js';
-import type { EphemerisOptions, EstimateSummary, ObjectEstimate, Percentiles, ResidualRow, TrackletObservation } from '../estimate-types.js';
+import type { EphemerisOptions, EstimateSummary, ObjectEstimate, Percentiles, ResidualRow } from '../estimate-types.js';
+import type { OrbitBlock } from '../../domain/orbit-block.js';
+import type { TrackletObservation } from '../../domain/tracklet.js';
 import { EARTH_INDEX, PerturberTable } from '../perturbers.js';
 import { streamEnsemble } from '../propagate.js';
 import { ttFromTtIso, ttFromUtc, utcFromTt } from '../time.js';
@@ -17,23 +19,10 @@ import { systematicRanging, type RangingOptions, type RangingResult } from './ra
 import { skySpread } from './sky-spread.js';
 import { project, tangentFrame, unitFromRaDec } from './tangent.js';
 
-/** The notice's orbit block as estimation takes it: ISO TT epoch and tp, degrees, au. */
-export interface NoticeOrbitBlock {
-  readonly epoch: string;
-  readonly q: number;
-  readonly e: number;
-  readonly i: number;
-  readonly node: number;
-  readonly peri: number;
-  readonly tp: string;
-  readonly H?: number | undefined;
-  readonly G?: number | undefined;
-}
-
 export interface EstimateInput {
   readonly objectId: string;
   readonly observations: readonly TrackletObservation[];
-  readonly orbit?: NoticeOrbitBlock | undefined;
+  readonly orbit?: OrbitBlock | undefined;
   /** The injected clock: the close-approach search starts here (or at the last observation if later). */
   readonly now: Date;
   /** Virtual orbits in the ensemble; default 1000. */
@@ -371,7 +360,7 @@ function checkInput(input: EstimateInput): { members: number; seed: number } {
 }
 
 /** Draws elements around an orbit block with ORBIT_BLOCK_DEFAULT_SIGMA and returns states at the block's epoch. */
-function orbitBlockEnsemble(orbit: NoticeOrbitBlock, members: number, random: RandomSource, spreadScale = 1): { epochTt: number; nominal: HeliocentricState; states: HeliocentricState[] } {
+function orbitBlockEnsemble(orbit: OrbitBlock, members: number, random: RandomSource, spreadScale = 1): { epochTt: number; nominal: HeliocentricState; states: HeliocentricState[] } {
   const epochTt = ttFromTtIso('orbit.epoch', orbit.epoch);
   const base: PerihelionElements = { qAu: orbit.q, e: orbit.e, iDeg: orbit.i, nodeDeg: orbit.node, periDeg: orbit.peri, tpTt: ttFromTtIso('orbit.tp', orbit.tp) };
   const nominal = stateFromPerihelionElements(base, epochTt);

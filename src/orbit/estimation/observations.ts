@@ -1,5 +1,6 @@
 import type { GeodeticLocation } from '../../config/schema.js';
-import type { TrackletObservation } from '../estimate-types.js';
+import type {  } from '../estimate-types.js';
+import type { TrackletObservation } from '../../domain/tracklet.js';
 import { ARCSEC_PER_RAD, RAD_PER_DEG } from '../constants.js';
 import { EstimationInputError } from './errors.js';
 import { unitFromRaDec, type Vec3 } from './tangent.js';

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { EstimationInputError, fitAttributable, prepareObservations } from '../../../src/orbit/estimation/index.js';
-import type { TrackletObservation } from '../../../src/orbit/estimate-types.js';
+import type { TrackletObservation } from '../../../src/domain/tracklet.js';
 
 const SITE = { latDeg: 23.4, lonDeg: 45.2, heightM: 1800 }; // invented survey site
 const T0 = Date.parse('2027-05-10T21:00:00Z');
