@@ -9,7 +9,7 @@ import { assessObject, type AssessmentReuse, type RangePriorChoice } from '../pl
 import { createSkyTimelineCache, createTrackCache } from '../planning/reuse.js';
 import type { ScoreWeights } from '../planning/score.js';
 import type { AssessInput, AssessOutput } from './assessment-runner.js';
-import { isNumericRefusal } from '../planning/refusals.js';
+import { isInputRefusal } from '../domain/refusal.js';
 import { storedRequest } from './stored-request.js';
 import { workerTask } from './worker-task.js';
 
@@ -64,4 +64,4 @@ function workerReuse(mb: number | undefined): AssessmentReuse | undefined {
 }
 
 /** The entry the assessment pool runs. */
-export default workerTask((task: AssessTask) => runAssessTask(task, workerReuse(task.reuseMb)), isNumericRefusal);
+export default workerTask((task: AssessTask) => runAssessTask(task, workerReuse(task.reuseMb)), isInputRefusal);

@@ -8,7 +8,7 @@ import type { EphemerisRow } from '../orbit/ephemeris.js';
 import { estimateObject } from '../orbit/estimation/index.js';
 import { seedForObject, type ObjectEstimate } from '../orbit/estimate-types.js';
 import { rangingFor, type RangePriorChoice } from '../planning/assess.js';
-import { isNumericRefusal } from '../planning/refusals.js';
+import { isInputRefusal } from '../domain/refusal.js';
 import type { AssessInput } from './assessment-runner.js';
 import { workerTask } from './worker-task.js';
 
@@ -64,4 +64,4 @@ export function createEstimateTaskHandler(): (task: EstimateTask) => EstimateAns
 }
 
 /** The entry the on-demand pool runs: one handler per worker thread, with its own kept estimates. */
-export default workerTask(createEstimateTaskHandler(), isNumericRefusal);
+export default workerTask(createEstimateTaskHandler(), isInputRefusal);

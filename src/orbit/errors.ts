@@ -1,8 +1,10 @@
+import { InputRefusal } from '../domain/refusal.js';
+
 /**
  * Errors raised by the orbit functions. Each names the bad field, its value and
  * what was expected, so a caller can show it without a stack trace.
  */
-export class OrbitInputError extends Error {
+export class OrbitInputError extends InputRefusal {
   override readonly name = 'OrbitInputError';
   readonly field: string;
   readonly value: unknown;
@@ -17,7 +19,7 @@ export class OrbitInputError extends Error {
 }
 
 /** An iteration (Kepler's equation, light time) that did not converge; names the inputs that caused it. */
-export class OrbitConvergenceError extends Error {
+export class OrbitConvergenceError extends InputRefusal {
   override readonly name = 'OrbitConvergenceError';
 }
 

@@ -1,3 +1,4 @@
+import { InputRefusal } from '../domain/refusal.js';
 import { ellipseDistanceSquared, offsetArcsec } from './estimation/sky-spread.js';
 import type { EphemerisRow, UncertaintyEllipse } from './ephemeris.js';
 
@@ -18,7 +19,8 @@ export interface TablePlace {
   readonly unc: UncertaintyEllipse | null;
 }
 
-export class TablePlaceError extends Error {
+/** A table or a measured position the check cannot use (names the field). */
+export class TablePlaceError extends InputRefusal {
   override readonly name = 'TablePlaceError';
 }
 

@@ -1,8 +1,10 @@
+import { InputRefusal } from '../domain/refusal.js';
+
 /**
  * Errors raised by the photometry functions. Each names the bad field, its value
  * and what was expected, so a caller can show it without a stack trace.
  */
-export class PhotometryInputError extends Error {
+export class PhotometryInputError extends InputRefusal {
   override readonly name = 'PhotometryInputError';
   readonly field: string;
   readonly value: unknown;

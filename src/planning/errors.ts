@@ -1,5 +1,7 @@
+import { InputRefusal } from '../domain/refusal.js';
+
 /** A bad input to the planner: names the field, the value and why it was refused. */
-export class PlanningInputError extends Error {
+export class PlanningInputError extends InputRefusal {
   override readonly name = 'PlanningInputError';
   readonly field: string;
   readonly value: unknown;

@@ -1,5 +1,7 @@
+import { InputRefusal } from '../domain/refusal.js';
+
 /** A bad input to a sky computation: names the field, the value and why it was refused. */
-export class SkyInputError extends Error {
+export class SkyInputError extends InputRefusal {
   override readonly name = 'SkyInputError';
   readonly field: string;
   readonly value: unknown;

@@ -1,8 +1,10 @@
+import { InputRefusal } from '../../domain/refusal.js';
+
 /**
  * Errors of short-arc estimation. Each names the field, the value and why it
  * cannot be used, so a caller can show the message as it is.
  */
-export class EstimationInputError extends Error {
+export class EstimationInputError extends InputRefusal {
   override readonly name = 'EstimationInputError';
   readonly field: string;
   readonly value: unknown;
@@ -17,6 +19,6 @@ export class EstimationInputError extends Error {
 }
 
 /** Thrown when no orbit consistent with the tracklet was found (every ranging node excluded). */
-export class EstimationFailedError extends Error {
+export class EstimationFailedError extends InputRefusal {
   override readonly name = 'EstimationFailedError';
 }
