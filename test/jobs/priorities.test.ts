@@ -49,9 +49,21 @@ describe('work order in the runner', () => {
 
     now.t += 10 * 60_000;
     expect(runner.enqueueActive()).toBe(active.length);
+    // A queue of routine replans, all enqueued before the notice.
+    const queued = store.work.classFigures(clock());
+    expect(queued.routine.waiting).toBe(active.length);
+    expect(queued.urgent.waiting + queued['new-data'].waiting).toBe(0);
     // The notice arrives while the first replan runs.
-    onFirst = () => void intake.ingestJson(JSON.stringify(notice('ZX27F01', 11)), 'test');
+    let fresh: { enqueuedAt: string; priorityClass: string } | null = null;
+    onFirst = () => {
+      now.t += 1000;
+      intake.ingestJson(JSON.stringify(notice('ZX27F01', 11)), 'test');
+      fresh = store.work.get('ZX27F01');
+    };
     await runner.drain();
+    // It came last (first in, first out would assess it last) and went in the first class.
+    expect(fresh).toMatchObject({ priorityClass: 'new-data' });
+    expect(active.every((id) => store.work.get(id)!.enqueuedAt < fresh!.enqueuedAt)).toBe(true);
     expect(order).toHaveLength(active.length + 1);
     expect(order[1]).toBe('ZX27F01');
     expect(order.slice(2).every((id) => id.startsWith('ZX27R'))).toBe(true);
