@@ -8,22 +8,22 @@
  *      4 positions each) are sent at once to POST /v1/notices and assessed (this is itself a burst
  *      of N: the time until every object has its first requests, and until every first look is
  *      refined, is printed);
- *   2. replan cycles every 10 simulated minutes (the replan job's enqueue and drain):
- *      cycle 1 and 2 alone (CPU per replanned object, cycle time),
- *      cycle 3 with a random stream of new notices (a Poisson stream, --rate per minute) and
+ *   2. replan cycles every 10 simulated minutes (the replan job's enqueue and drain), as --plan
+ *      lists them: `clean` alone (CPU per replanned object from the last of them, cycle time),
+ *      `stream` with a random stream of new notices (a Poisson stream, --rate per minute) and
  *      GET /v1/queue under autocannon (4 connections, 10 s) from the cycle's start,
- *      cycle 4 with the stream and a burst of --burst notices at its start;
+ *      `burst` with the stream and a burst of --burst notices at its start;
  *   3. per new notice: from its POST to its first stored assessment ("notice to queued requests"),
  *      p50 / p99 / max for close approachers (the simulator's close-approacher and fast-flyby kinds)
  *      and for the others; the burst's close approachers apart;
- *   4. CPU (the whole process, every thread) per replanned object (cycle 2) and per new object
+ *   4. CPU (the whole process, every thread) per replanned object (the last clean cycle) and per new object
  *      (stream notices that arrive while nothing else runs, each measured alone), and the active
  *      objects one core sustains at 10-minute replans from those.
  * Time compression: within a cycle the simulated clock runs at the real rate; once the cycle's
  * work is done, the rest of its 10 minutes is skipped: the stream's later notices are sent one at a
  * time on an idle service, the clock set forward to each one's arrival.
  *
- *   npx tsx test/bench/night-load.bench.ts [--objects 100,500,2000] [--cycles 4] [--rate 4] [--burst 500] [--workers W]
+ *   npx tsx test/bench/night-load.bench.ts [--objects 100,500,2000] [--plan clean,clean,stream,burst] [--rate 4] [--burst 500] [--workers W]
  *   npx tsx test/bench/night-load.bench.ts --scale [--notices 40]   (worker scaling: 1 .. cores workers)
  */
 import autocannon from 'autocannon';
@@ -42,7 +42,7 @@ import { quantile } from './quantile.js';
 const { values } = parseArgs({
   options: {
     objects: { type: 'string', default: '100,500,2000' },
-    cycles: { type: 'string', default: '4' },
+    plan: { type: 'string', default: 'clean,clean,stream,burst' },
     rate: { type: 'string', default: '4' },
     burst: { type: 'string', default: '500' },
     workers: { type: 'string' },
@@ -208,7 +208,9 @@ async function night(n: number): Promise<void> {
   const b: BenchService = await startBenchService(workers, sim);
   const serial = { next: 0 };
   const seed = Number(values.seed);
-  const cycles = Number(values.cycles);
+  const plan = values.plan.split(',') as ('clean' | 'stream' | 'burst')[];
+  if (plan.some((k) => !['clean', 'stream', 'burst'].includes(k))) throw new Error(`--plan: expected cycles among clean, stream, burst; got ${values.plan}`);
+  const cycles = plan.length;
   const threads = workers ?? b.config.service.workers ?? Math.max(1, availableParallelism() - 1);
   console.log(`\n== ${n} active objects, ${threads} assessment worker(s), first look at ${b.config.planning.firstLookBacklog} waiting; ${stamp()}`);
   try {
@@ -234,7 +236,7 @@ async function night(n: number): Promise<void> {
     const streams: { offsetMs: number; sent: Sent }[][] = [];
     for (let c = 1; c <= cycles; c++) {
       const at: number[] = [];
-      if (c >= 3) for (let t = -Math.log(1 - random()) / rate; t < CYCLE_MS; t += -Math.log(1 - random()) / rate) at.push(t);
+      if (plan[c - 1] !== 'clean') for (let t = -Math.log(1 - random()) / rate; t < CYCLE_MS; t += -Math.log(1 - random()) / rate) at.push(t);
       const sent = inventNotices(start + (c - 1) * CYCLE_MS, at.length, seed + 100 + c, serial);
       // The simulator's kinds come in a fixed order: shuffle them over the arrivals.
       for (let i = sent.length - 1; i > 0; i--) {
@@ -244,7 +246,8 @@ async function night(n: number): Promise<void> {
       streams.push(at.map((offsetMs, i) => ({ offsetMs, sent: sent[i]! })));
     }
     const burstN = Number(values.burst);
-    const burst = cycles >= 4 && burstN > 0 ? inventNotices(start + 3 * CYCLE_MS, burstN, seed + 200, serial) : [];
+    const burstCycle = plan.indexOf('burst') + 1;
+    const burst = burstCycle > 0 && burstN > 0 ? inventNotices(start + (burstCycle - 1) * CYCLE_MS, burstN, seed + 200, serial) : [];
 
     const latency = { urgent: [] as number[], other: [] as number[], burstUrgent: [] as number[], burstOther: [] as number[] };
     const cpuNew: number[] = [];
@@ -257,7 +260,7 @@ async function night(n: number): Promise<void> {
       const t0c = performance.now();
       const replanned = b.service.assessment.runner.enqueueActive();
       void b.service.assessment.runner.drain();
-      const cannon = c === 3 ? hammer(b.service, b.config, 10) : null;
+      const cannon = plan[c - 1] === 'stream' ? hammer(b.service, b.config, 10) : null;
       const waits: Promise<void>[] = [];
       const seen = (s: Sent) => b.assessed.get(s.objectId)?.length ?? 0;
       /** Waits for the assessment after the `before`-th of a notice sent at `sentAt` (counted before it was sent). */
@@ -265,7 +268,7 @@ async function night(n: number): Promise<void> {
         waits.push(b.until(() => (b.assessed.get(s.objectId)?.length ?? 0) > before, false).then(() => void into.push(b.assessed.get(s.objectId)![before]!.atMs - sentAt)));
       };
       let burstS = Number.NaN;
-      if (c === 4 && burst.length > 0) {
+      if (c === burstCycle && burst.length > 0) {
         const before = burst.map(seen);
         const sentAt = performance.now();
         await b.post(burst.map((s) => s.notice));
@@ -306,16 +309,16 @@ async function night(n: number): Promise<void> {
       }
       await Promise.all(waits);
       const api = cannon ? await cannon : null;
-      if (c === 2) cpuPerReplan = cpuBusy / replanned;
+      if (plan[c - 1] === 'clean') cpuPerReplan = cpuBusy / replanned;
       console.log(
-        `cycle ${c} (${replanned} replans${stream.length ? `, stream of ${stream.length}: ${during} during the work, ${stream.length - during} after` : ''}${c === 4 && burst.length ? `, burst of ${burst.length}` : ''}): ` +
-          `replans done in ${replanS.toFixed(1)} s, all work in ${busyS.toFixed(1)} s, CPU ${cpuBusy.toFixed(1)} s (${f0((cpuBusy / replanned) * 1000)} ms per replan${c >= 3 ? ', new notices included' : ''})` +
+        `cycle ${c}, ${plan[c - 1]} (${replanned} replans${stream.length ? `, stream of ${stream.length}: ${during} during the work, ${stream.length - during} after` : ''}${c === burstCycle && burst.length ? `, burst of ${burst.length}` : ''}): ` +
+          `replans done in ${replanS.toFixed(1)} s, all work in ${busyS.toFixed(1)} s, CPU ${cpuBusy.toFixed(1)} s (${f0((cpuBusy / replanned) * 1000)} ms per replan${plan[c - 1] !== 'clean' ? ', new notices included' : ''})` +
           `${Number.isFinite(burstS) ? `; burst: every notice assessed in ${burstS.toFixed(1)} s` : ''}; ${stamp()}`,
       );
       if (api)
         console.log(`  GET /v1/queue meanwhile (autocannon, 4 connections, 10 s): p50 ${api.latency.p50} ms, p99 ${api.latency.p99} ms, ${f0(api.requests.average)} req/s, errors ${api.errors}, non-2xx ${api.non2xx}`);
     }
-    console.log(`notice to queued requests (POST to the first stored assessment), stream of ${Number(values.rate)}/min in cycles 3-${cycles}:`);
+    console.log(`notice to queued requests (POST to the first stored assessment), stream of ${Number(values.rate)}/min (${plan.join(', ')}):`);
     console.log(`  ${line('close approachers', latency.urgent)}`);
     console.log(`  ${line('others', latency.other)}`);
     if (burst.length) {
@@ -324,7 +327,7 @@ async function night(n: number): Promise<void> {
     }
     const newCpu = stats(cpuNew);
     console.log(
-      `CPU per replanned object (cycle 2, whole process): ${f0(cpuPerReplan * 1000)} ms; per new object (stream notices alone on an idle service): p50 ${f0(newCpu.p50 * 1000)} ms, mean ${f0((cpuNew.reduce((a, x) => a + x, 0) / Math.max(1, cpuNew.length)) * 1000)} ms (n ${newCpu.n})`,
+      `CPU per replanned object (the last clean cycle, whole process): ${f0(cpuPerReplan * 1000)} ms; per new object (stream notices alone on an idle service): p50 ${f0(newCpu.p50 * 1000)} ms, mean ${f0((cpuNew.reduce((a, x) => a + x, 0) / Math.max(1, cpuNew.length)) * 1000)} ms (n ${newCpu.n})`,
     );
     const meanNew = cpuNew.reduce((a, x) => a + x, 0) / Math.max(1, cpuNew.length);
     console.log(
