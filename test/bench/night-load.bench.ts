@@ -12,10 +12,13 @@
  *      lists them: `clean` alone (CPU per replanned object from the last of them, cycle time),
  *      `stream` with a random stream of new notices (a Poisson stream, --rate per minute) and
  *      GET /v1/queue under autocannon (4 connections, 10 s) from the cycle's start,
- *      `burst` with the stream and a burst of --burst notices at its start;
+ *      `burst` with the stream and a burst of --burst notices at its start: ordinary objects with
+ *      --burst-close close approachers in the middle of it; this cycle ends when every notice of the
+ *      burst and of the stream so far has its first requests (the refinements of first looks and
+ *      the replans still waiting are counted, not waited for), so it goes last in a plan;
  *   3. per new notice: from its POST to its first stored assessment ("notice to queued requests"),
  *      p50 / p99 / max for close approachers (the simulator's close-approacher and fast-flyby kinds)
- *      and for the others; the burst's close approachers apart;
+ *      and for the others, by cycle kind, the burst's own notices apart;
  *   4. CPU (the whole process, every thread) per replanned object (the last clean cycle) and per new object
  *      (stream notices that arrive while nothing else runs, each measured alone), and the active
  *      objects one core sustains at 10-minute replans from those.
@@ -23,7 +26,7 @@
  * work is done, the rest of its 10 minutes is skipped: the stream's later notices are sent one at a
  * time on an idle service, the clock set forward to each one's arrival.
  *
- *   npx tsx test/bench/night-load.bench.ts [--objects 100,500,2000] [--plan clean,clean,stream,burst] [--rate 4] [--burst 500] [--workers W]
+ *   npx tsx test/bench/night-load.bench.ts [--objects 100,500,2000] [--plan clean,stream,burst] [--rate 4] [--burst 500] [--burst-close 5] [--workers W]
  *   npx tsx test/bench/night-load.bench.ts --scale [--notices 40]   (worker scaling: 1 .. cores workers)
  */
 import autocannon from 'autocannon';
@@ -42,9 +45,10 @@ import { quantile } from './quantile.js';
 const { values } = parseArgs({
   options: {
     objects: { type: 'string', default: '100,500,2000' },
-    plan: { type: 'string', default: 'clean,clean,stream,burst' },
+    plan: { type: 'string', default: 'clean,stream,burst' },
     rate: { type: 'string', default: '4' },
     burst: { type: 'string', default: '500' },
+    'burst-close': { type: 'string', default: '5' },
     workers: { type: 'string' },
     scale: { type: 'boolean', default: false },
     notices: { type: 'string', default: '40' },
@@ -247,9 +251,23 @@ async function night(n: number): Promise<void> {
     }
     const burstN = Number(values.burst);
     const burstCycle = plan.indexOf('burst') + 1;
-    const burst = burstCycle > 0 && burstN > 0 ? inventNotices(start + (burstCycle - 1) * CYCLE_MS, burstN, seed + 200, serial) : [];
+    const burstClose = Math.min(burstN, Number(values['burst-close']));
+    const burst: Sent[] = [];
+    if (burstCycle > 0 && burstN > 0) {
+      const at = start + (burstCycle - 1) * CYCLE_MS;
+      burst.push(...inventNotices(at, burstN - burstClose, seed + 200, serial, ['ordinary', 'too-faint', 'too-far-south']));
+      // The close approachers in the middle of the burst, a few notices apart.
+      const close = inventNotices(at, burstClose, seed + 250, serial, URGENT_KINDS);
+      close.forEach((s, i) => burst.splice(Math.floor(burst.length / 2) + i * 3, 0, s));
+    }
 
-    const latency = { urgent: [] as number[], other: [] as number[], burstUrgent: [] as number[], burstOther: [] as number[] };
+    type Kinds = { urgent: number[]; other: number[] };
+    const latency: Record<'stream' | 'burst' | 'burstItself', Kinds> = {
+      stream: { urgent: [], other: [] },
+      burst: { urgent: [], other: [] },
+      burstItself: { urgent: [], other: [] },
+    };
+    const into = (kinds: Kinds, s: Sent) => (URGENT_KINDS.includes(s.kind) ? kinds.urgent : kinds.other);
     const cpuNew: number[] = [];
     let cpuPerReplan = Number.NaN;
     for (let c = 1; c <= cycles; c++) {
@@ -264,15 +282,25 @@ async function night(n: number): Promise<void> {
       const waits: Promise<void>[] = [];
       const seen = (s: Sent) => b.assessed.get(s.objectId)?.length ?? 0;
       /** Waits for the assessment after the `before`-th of a notice sent at `sentAt` (counted before it was sent). */
-      const track = (s: Sent, sentAt: number, into: number[], before: number) => {
-        waits.push(b.until(() => (b.assessed.get(s.objectId)?.length ?? 0) > before, false).then(() => void into.push(b.assessed.get(s.objectId)![before]!.atMs - sentAt)));
+      let pending = 0;
+      const track = (s: Sent, sentAt: number, list: number[], before: number) => {
+        pending += 1;
+        waits.push(
+          b.until(() => (b.assessed.get(s.objectId)?.length ?? 0) > before, false).then(() => {
+            pending -= 1;
+            list.push(b.assessed.get(s.objectId)![before]!.atMs - sentAt);
+          }),
+        );
       };
+      const kind = plan[c - 1]!;
+      const streamLatency = kind === 'burst' ? latency.burst : latency.stream;
+      let left = '';
       let burstS = Number.NaN;
       if (c === burstCycle && burst.length > 0) {
         const before = burst.map(seen);
         const sentAt = performance.now();
         await b.post(burst.map((s) => s.notice));
-        burst.forEach((s, i) => track(s, sentAt, URGENT_KINDS.includes(s.kind) ? latency.burstUrgent : latency.burstOther, before[i]!));
+        burst.forEach((s, i) => track(s, sentAt, into(latency.burstItself, s), before[i]!));
         void Promise.all(waits.slice()).then(() => (burstS = (performance.now() - sentAt) / 1000));
       }
       // The stream in real time while the cycle's work runs.
@@ -285,24 +313,29 @@ async function night(n: number): Promise<void> {
           const before = seen(s);
           const sentAt = performance.now();
           await b.post([s.notice]);
-          track(s, sentAt, URGENT_KINDS.includes(s.kind) ? latency.urgent : latency.other, before);
+          track(s, sentAt, into(streamLatency, s), before);
         }
         if (Number.isNaN(replanS) && b.replansDone()) replanS = (performance.now() - t0c) / 1000;
         if (!Number.isNaN(replanS) && b.idle()) break;
+        if (kind === 'burst' && Number.isFinite(burstS) && pending === 0) {
+          const f = b.service.store.work.classFigures(sim.clock());
+          left = `; then waiting: ${f['new-data'].waiting} new data, ${f.urgent.waiting + f.routine.waiting} replans and refinements`;
+          break;
+        }
         await sleep(20);
       }
       const busyS = (performance.now() - t0c) / 1000;
       const cpuBusy = cpuS(cpuC);
       const during = next;
-      // The rest of the 10 minutes, compressed: each later notice on an idle service.
-      for (; next < stream.length; next++) {
+      // The rest of the 10 minutes, compressed: each later notice on an idle service (none after a burst).
+      for (; kind !== 'burst' && next < stream.length; next++) {
         const { offsetMs, sent: s } = stream[next]!;
         sim.setForward(cycleStartSim + offsetMs);
         const before = seen(s);
         const cpuN = process.cpuUsage();
         const sentAt = performance.now();
         await b.post([s.notice]);
-        track(s, sentAt, URGENT_KINDS.includes(s.kind) ? latency.urgent : latency.other, before);
+        track(s, sentAt, into(streamLatency, s), before);
         await waits.at(-1);
         await b.until(b.idle);
         cpuNew.push(cpuS(cpuN));
@@ -311,19 +344,21 @@ async function night(n: number): Promise<void> {
       const api = cannon ? await cannon : null;
       if (plan[c - 1] === 'clean') cpuPerReplan = cpuBusy / replanned;
       console.log(
-        `cycle ${c}, ${plan[c - 1]} (${replanned} replans${stream.length ? `, stream of ${stream.length}: ${during} during the work, ${stream.length - during} after` : ''}${c === burstCycle && burst.length ? `, burst of ${burst.length}` : ''}): ` +
+        `cycle ${c}, ${plan[c - 1]} (${replanned} replans${stream.length ? `, stream of ${stream.length}: ${during} during the work, ${stream.length - during} ${kind === 'burst' ? 'not sent' : 'after'}` : ''}${c === burstCycle && burst.length ? `, burst of ${burst.length}` : ''}): ` +
           `replans done in ${replanS.toFixed(1)} s, all work in ${busyS.toFixed(1)} s, CPU ${cpuBusy.toFixed(1)} s (${f0((cpuBusy / replanned) * 1000)} ms per replan${plan[c - 1] !== 'clean' ? ', new notices included' : ''})` +
-          `${Number.isFinite(burstS) ? `; burst: every notice assessed in ${burstS.toFixed(1)} s` : ''}; ${stamp()}`,
+          `${Number.isFinite(burstS) ? `; burst: every notice assessed in ${burstS.toFixed(1)} s${left}` : ''}; ${stamp()}`,
       );
       if (api)
         console.log(`  GET /v1/queue meanwhile (autocannon, 4 connections, 10 s): p50 ${api.latency.p50} ms, p99 ${api.latency.p99} ms, ${f0(api.requests.average)} req/s, errors ${api.errors}, non-2xx ${api.non2xx}`);
     }
-    console.log(`notice to queued requests (POST to the first stored assessment), stream of ${Number(values.rate)}/min (${plan.join(', ')}):`);
-    console.log(`  ${line('close approachers', latency.urgent)}`);
-    console.log(`  ${line('others', latency.other)}`);
+    console.log(`notice to queued requests (POST to the first stored assessment), stream of ${Number(values.rate)}/min (cycles ${plan.join(', ')}):`);
+    console.log(`  ${line('stream, close approachers', latency.stream.urgent)}`);
+    console.log(`  ${line('stream, others', latency.stream.other)}`);
     if (burst.length) {
-      console.log(`  ${line(`burst of ${burst.length}, close approachers`, latency.burstUrgent)}`);
-      console.log(`  ${line(`burst of ${burst.length}, others`, latency.burstOther)}`);
+      console.log(`  ${line(`burst of ${burst.length}: its close approachers (in the middle)`, latency.burstItself.urgent)}`);
+      console.log(`  ${line(`burst of ${burst.length}: its others`, latency.burstItself.other)}`);
+      console.log(`  ${line('stream during the burst, close approachers', latency.burst.urgent)}`);
+      console.log(`  ${line('stream during the burst, others', latency.burst.other)}`);
     }
     const newCpu = stats(cpuNew);
     console.log(
