@@ -265,7 +265,7 @@ export const serviceSchema = z
     bodyLimitBytes: z.number().int().min(1024).max(64 * 1024 * 1024).default(4 * 1024 * 1024),
     /** Requests per minute allowed per token (or per address without one); 429 beyond. */
     rateLimitPerMinute: z.number().int().min(1).max(1_000_000).default(1200),
-    /** Worker threads for assessments; default: cores - 1, at least 1. */
+    /** Worker threads for assessments; default: cores - 1, at least 1 (docs/performance.md, "Worker threads"). */
     workers: z.number().int().min(1).max(64).optional(),
     /** Bounds on the work one object can cause (README "Bounded work"). */
     workLimits: z

@@ -14,6 +14,11 @@ export function assessWorkerUrl(): URL {
   return new URL(`./assess-worker${ext}`, import.meta.url);
 }
 
+/**
+ * Assessment workers unless `service.workers` says otherwise: all cores but one, which stays for
+ * the API thread (measured in docs/performance.md, "Worker threads": on two cores a second worker
+ * gained little and slowed the API and the replans, whose kept work lives in one worker).
+ */
 export function defaultWorkerCount(config: Config): number {
   return config.service.workers ?? Math.max(1, availableParallelism() - 1);
 }
