@@ -10,62 +10,17 @@ import { estimateObject, type ShortArcEstimate } from '../../src/orbit/estimatio
 import type { RangingOptions } from '../../src/orbit/estimation/ranging.js';
 import type { TrackletObservation } from '../../src/domain/tracklet.js';
 import { REFERENCE_FOLLOW_UP_SITE, REFERENCE_HORIZONS_H, REFERENCE_SURVEY_SITE, type ReferenceCase, type ReferencePopulation } from './cases.js';
+import { linearExtrapolation, linearNoiseFloor, separationArcsec, sigmaDistance, tangentOffsetArcsec } from './sky-geometry.js';
 
-const RAD = Math.PI / 180;
-const ARCSEC = 206_264.806_247;
-
-/** Offset of `to` from `from` on the tangent plane of `from` (gnomonic), arcsec east and north. */
-export function tangentOffsetArcsec(fromRaDeg: number, fromDecDeg: number, toRaDeg: number, toDecDeg: number): [number, number] {
-  const a0 = fromRaDeg * RAD, d0 = fromDecDeg * RAD, a = toRaDeg * RAD, d = toDecDeg * RAD;
-  const cosc = Math.sin(d0) * Math.sin(d) + Math.cos(d0) * Math.cos(d) * Math.cos(a - a0);
-  const x = (Math.cos(d) * Math.sin(a - a0)) / cosc;
-  const y = (Math.cos(d0) * Math.sin(d) - Math.sin(d0) * Math.cos(d) * Math.cos(a - a0)) / cosc;
-  return [x * ARCSEC, y * ARCSEC];
-}
-
-/** Angular separation, arcsec (haversine form). */
-export function separationArcsec(ra1Deg: number, dec1Deg: number, ra2Deg: number, dec2Deg: number): number {
-  const s = Math.sin(((dec2Deg - dec1Deg) * RAD) / 2) ** 2 + Math.cos(dec1Deg * RAD) * Math.cos(dec2Deg * RAD) * Math.sin(((ra2Deg - ra1Deg) * RAD) / 2) ** 2;
-  return 2 * Math.asin(Math.min(1, Math.sqrt(s))) * ARCSEC;
-}
-
-/** Distance in sigma of an offset (east, north) from the centre of an ellipse (1-sigma axes, pa east of north of the major axis). */
-export function sigmaDistance(ellipse: { major: number; minor: number; pa: number }, east: number, north: number): number {
-  const pa = ellipse.pa * RAD;
-  const u = east * Math.sin(pa) + north * Math.cos(pa);
-  const v = east * Math.cos(pa) - north * Math.sin(pa);
-  return Math.hypot(u / Math.max(ellipse.major, 1e-9), v / Math.max(ellipse.minor, 1e-9));
-}
-
-/**
- * Linear extrapolation of a tracklet: the weighted least-squares line through
- * its positions on the gnomonic plane at the first position, in time,
- * carried to `utcMs` (a straight line on that plane is a great circle).
- */
-export function linearExtrapolation(c: ReferenceCase, utcMs: number): { raDeg: number; decDeg: number } {
-  const o0 = c.observations[0]!;
-  const pts = c.observations.map((o) => ({ t: (Date.parse(o.t) - Date.parse(o0.t)) / 3_600_000, xy: tangentOffsetArcsec(o0.raDeg, o0.decDeg, o.raDeg, o.decDeg), w: 1 / o.sigmaArcsec ** 2 }));
-  const sw = pts.reduce((s, p) => s + p.w, 0);
-  const tm = pts.reduce((s, p) => s + p.w * p.t, 0) / sw;
-  const stt = pts.reduce((s, p) => s + p.w * (p.t - tm) ** 2, 0);
-  const fit = (k: 0 | 1) => {
-    const m = pts.reduce((s, p) => s + p.w * p.xy[k], 0) / sw;
-    const slope = pts.reduce((s, p) => s + p.w * (p.t - tm) * (p.xy[k] - m), 0) / stt;
-    return m + slope * ((utcMs - Date.parse(o0.t)) / 3_600_000 - tm);
-  };
-  const x = fit(0) / ARCSEC, y = fit(1) / ARCSEC;
-  const a0 = o0.raDeg * RAD, d0 = o0.decDeg * RAD;
-  const rho = Math.hypot(x, y), c0 = Math.atan(rho);
-  const dec = rho === 0 ? d0 : Math.asin(Math.cos(c0) * Math.sin(d0) + (y * Math.sin(c0) * Math.cos(d0)) / rho);
-  const ra = a0 + Math.atan2(x * Math.sin(c0), rho * Math.cos(d0) * Math.cos(c0) - y * Math.sin(d0) * Math.sin(c0));
-  return { raDeg: ((ra / RAD) % 360 + 360) % 360, decDeg: dec / RAD };
-}
+export { linearExtrapolation, separationArcsec, sigmaDistance, tangentOffsetArcsec };
 
 export interface ScoredHorizon {
   readonly site: 'followUp' | 'survey';
   readonly hours: number;
   readonly errorArcsec: number;
   readonly linearErrorArcsec: number;
+  /** The floor no estimator from these positions alone can beat (sky-geometry.ts), arcsec. */
+  readonly floorErrorArcsec: number;
   readonly sigmaDistance: number;
   readonly majorArcsec: number;
   /** |V predicted - V true| / magSigma; null when the estimate gives no magnitude. */
@@ -130,6 +85,7 @@ export function scoreCase(c: ReferenceCase, settings: EstimatorSettings = {}): S
   const times = REFERENCE_HORIZONS_H.map((h) => new Date(c.lastObservationMs + h * 3_600_000));
   const rows = estimate.ephemerisForSites(sites, times);
   const milliseconds = performance.now() - t0;
+  const floorOf = linearNoiseFloor(c);
   const horizons = c.truth.map((truth): ScoredHorizon => {
     const row = rows[truth.site === 'followUp' ? 0 : 1]![REFERENCE_HORIZONS_H.indexOf(truth.hours as (typeof REFERENCE_HORIZONS_H)[number])]!;
     const [east, north] = tangentOffsetArcsec(row.ra, row.dec, truth.raDeg, truth.decDeg);
@@ -140,6 +96,7 @@ export function scoreCase(c: ReferenceCase, settings: EstimatorSettings = {}): S
       hours: truth.hours,
       errorArcsec: separationArcsec(row.ra, row.dec, truth.raDeg, truth.decDeg),
       linearErrorArcsec: separationArcsec(linear.raDeg, linear.decDeg, truth.raDeg, truth.decDeg),
+      floorErrorArcsec: floorOf(truth),
       sigmaDistance: row.unc ? sigmaDistance(row.unc, east, north) : Infinity,
       majorArcsec: row.unc?.major ?? Infinity,
       magSigmas: magError === null || row.magSigma === null ? null : magError / Math.max(row.magSigma, 1e-6),
@@ -180,6 +137,7 @@ export interface HorizonFigures {
   readonly medianErrorArcsec: number;
   readonly p90ErrorArcsec: number;
   readonly medianLinearArcsec: number;
+  readonly medianFloorArcsec: number;
   readonly medianMajorArcsec: number;
   readonly majorOverError: number;
   readonly magInside3Sigma: number;
@@ -197,6 +155,7 @@ export function horizonFigures(scored: readonly ScoredCase[], hours: number): Ho
     medianErrorArcsec: median(err),
     p90ErrorArcsec: quantile(err, 0.9),
     medianLinearArcsec: median(rows.map((r) => r.linearErrorArcsec)),
+    medianFloorArcsec: median(rows.map((r) => r.floorErrorArcsec)),
     medianMajorArcsec: median(major),
     majorOverError: median(major) / median(err),
     magInside3Sigma: mags.length === 0 ? Number.NaN : mags.filter((r) => r.magSigmas! <= 3).length / mags.length,

@@ -4,7 +4,9 @@ import { integrate, Trajectory } from './integrator.js';
 import { placeOf } from './observe.js';
 import { referenceAstroTime, ttDaysOfUtc, ttMinusUtcSeconds } from './reference-time.js';
 import { earthState, KM_PER_AU } from './solar-system.js';
-import { tangentOffsetArcsec } from './evaluate.js';
+import { referencePlacesFrom, type ReferenceCase, type ReferenceTruthPoint } from './cases.js';
+import { loadFixture } from './fixture.js';
+import { linearNoiseFloor, seedOfCase, tangentOffsetArcsec } from './sky-geometry.js';
 import { meanVMagnitude } from './photometry.js';
 import { heliocentricStateOf } from './kepler.js';
 
@@ -84,5 +86,39 @@ describe('reference photometry and elements', () => {
     const s = heliocentricStateOf({ aAu: 2.5, e: 0, iDeg: 10, nodeDeg: 30, periDeg: 40, meanAnomalyDeg: 50 }, gm);
     expect(Math.hypot(s[0]!, s[1]!, s[2]!)).toBeCloseTo(2.5, 12);
     expect(Math.hypot(s[3]!, s[4]!, s[5]!)).toBeCloseTo(Math.sqrt(gm / 2.5), 12);
+  });
+});
+
+describe('the error floor of a prediction from positions alone', () => {
+  /**
+   * For slow movers (the ordinary population, where the floor decides the
+   * +24 h goal) the floor must be the straight-line fit of the noise itself,
+   * carried to +24 h: the linear propagation of a least-squares fit's errors
+   * (Bevington & Robinson, Data Reduction and Error Analysis, ch. 6), here
+   * computed from the offsets of each noisy position from its exact place.
+   */
+  it('equals the line fit of the positions noise carried to +24 h, within 0.1 %, for the ordinary cases', () => {
+    for (const c of loadFixture().filter((x) => x.population === 'ordinary')) {
+      const hours = c.observations.map((o) => Date.parse(o.t) / 3_600_000);
+      const exact = referencePlacesFrom(c.population, seedOfCase(c), c.observations[0]!.site, c.observations.map((o) => Date.parse(o.t)));
+      const noise = c.observations.map((o, k) => tangentOffsetArcsec(exact[k]!.raDeg, exact[k]!.decDeg, o.raDeg, o.decDeg));
+      const mean = hours.reduce((s, x) => s + x, 0) / hours.length;
+      const stt = hours.reduce((s, x) => s + (x - mean) ** 2, 0);
+      const at = (p: ReferenceTruthPoint) => p.utcMs / 3_600_000;
+      const line = (axis: 0 | 1, t: number) => {
+        const m = noise.reduce((s, d) => s + d[axis], 0) / noise.length;
+        return m + (noise.reduce((s, d, k) => s + (hours[k]! - mean) * (d[axis] - m), 0) / stt) * (t - mean);
+      };
+      const point = c.truth.find((p) => p.site === 'followUp' && p.hours === 24)!;
+      const expected = Math.hypot(line(0, at(point)), line(1, at(point)));
+      expect(Math.abs(linearNoiseFloor(c)(point) - expected)).toBeLessThan(0.001 * expected);
+    }
+  });
+
+  it('is zero (to 1 mas) for a tracklet whose positions carry no noise', () => {
+    const c = loadFixture()[0]!;
+    const exact = referencePlacesFrom(c.population, seedOfCase(c), c.observations[0]!.site, c.observations.map((o) => Date.parse(o.t)));
+    const noiseless: ReferenceCase = { ...c, observations: c.observations.map((o, k) => ({ ...o, raDeg: exact[k]!.raDeg, decDeg: exact[k]!.decDeg })) };
+    expect(linearNoiseFloor(noiseless)(c.truth.find((p) => p.hours === 24)!)).toBeLessThan(0.001);
   });
 });

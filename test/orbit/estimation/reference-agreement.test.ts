@@ -5,7 +5,7 @@ import { Trajectory } from '../../reference/integrator.js';
 import { placeOf } from '../../reference/observe.js';
 import { ttDaysOfUtc } from '../../reference/reference-time.js';
 import { earthState, KM_PER_AU, sunState } from '../../reference/solar-system.js';
-import { tangentOffsetArcsec } from '../../reference/evaluate.js';
+import { tangentOffsetArcsec } from '../../reference/sky-geometry.js';
 
 /**
  * The project's propagation and places against the independent reference
