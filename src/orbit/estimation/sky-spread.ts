@@ -15,8 +15,15 @@ import { project, tangentFrame, unitFromRaDec } from './tangent.js';
  * members a 2-D Gaussian's would, 1 - exp(-9/2) = 98.89 %. For a Gaussian
  * cloud the scale is 1; for a long or curved cloud (range-dominated
  * uncertainty) it grows until the ellipse covers the cloud, so the ellipse
- * stays honest at the cost of width across the cloud. The 99 % extent is the
- * ellipse of the same shape holding 99 % of the members.
+ * stays honest at the cost of width across the cloud. A few members far out
+ * in a heavy tail would otherwise set the shape (thin and long) while the bulk
+ * across it sets the scale, giving an ellipse far longer than the cloud needs;
+ * so the shape is taken again from the second moments of the members the
+ * ellipse holds (a trimmed covariance, in the spirit of Rousseeuw's
+ * minimum-volume ellipsoid, Rousseeuw & Leroy 1987, ch. 7), re-scaled to hold
+ * the same 98.89 %, twice, and the ellipse of least area is kept: every
+ * candidate holds 98.89 % of the members, so the choice costs no coverage.
+ * The 99 % extent is the ellipse of the same shape holding 99 % of the members.
  */
 export interface SkySpread {
   /** 1-sigma ellipse, arcsec, pa deg east of north (0-180) of the major axis. */
@@ -31,6 +38,8 @@ export interface SkySpread {
 export const GAUSSIAN_3SIGMA_CONTENT_2D = 1 - Math.exp(-4.5);
 /** Variance floor, arcsec^2 (1 mas), so identical members still give a finite ellipse. */
 const VARIANCE_FLOOR_ARCSEC2 = 1e-6;
+/** Re-shaping passes on the members inside the ellipse (see SkySpread). */
+const TRIM_PASSES = 2;
 
 function ellipseOf(a: number, b: number, c: number, scale: number): UncertaintyEllipse {
   const eig = symmetricEigen2(a * scale, b * scale, c * scale);
@@ -65,19 +74,43 @@ export function skySpread(nominalRaDeg: number, nominalDecDeg: number, raDeg: Ar
   sxx = sxx / count + VARIANCE_FLOOR_ARCSEC2;
   syy = syy / count + VARIANCE_FLOOR_ARCSEC2;
   sxy /= count;
-  const det = sxx * syy - sxy * sxy;
   const d2 = new Float64Array(count);
-  for (let m = 0; m < count; m++) {
-    const x = xs[m]!, y = ys[m]!;
-    d2[m] = (syy * x * x - 2 * sxy * x * y + sxx * y * y) / det;
+  /** Squared distances under (sxx, sxy, syy) into d2; the scale that makes 3 x the ellipse hold GAUSSIAN_3SIGMA_CONTENT_2D; its area's measure. */
+  const calibrate = (a: number, b: number, c: number) => {
+    const det = a * c - b * b;
+    for (let m = 0; m < count; m++) {
+      const x = xs[m]!, y = ys[m]!;
+      d2[m] = (c * x * x - 2 * b * x * y + a * y * y) / det;
+    }
+    // Both quantiles sit in the top 1.2 %: only that tail is put in order.
+    const tail = upperTail(d2, Math.min(GAUSSIAN_3SIGMA_CONTENT_2D, 0.99));
+    const covered = tail.quantile(GAUSSIAN_3SIGMA_CONTENT_2D);
+    const scale = Math.max(covered / 9, 1e-6);
+    return { a, b, c, covered, scale, extent: Math.max(tail.quantile(0.99), 1e-6), area: scale * Math.sqrt(det) };
+  };
+  let best = calibrate(sxx, sxy, syy);
+  let current = best;
+  /** Second moments of the members within squared distance `limit` of the current shape, re-calibrated; null when too few. */
+  const reshaped = (limit: number) => {
+    let a = 0, b = 0, c = 0, inside = 0;
+    for (let m = 0; m < count; m++) {
+      if (!(d2[m]! <= limit)) continue;
+      const x = xs[m]!, y = ys[m]!;
+      a += x * x; b += x * y; c += y * y; inside++;
+    }
+    return inside < 3 ? null : calibrate(a / inside + VARIANCE_FLOOR_ARCSEC2, b / inside, c / inside + VARIANCE_FLOOR_ARCSEC2);
+  };
+  for (let pass = 0; pass < TRIM_PASSES; pass++) {
+    // The members the current ellipse must hold, so the far 1.1 % no longer set its shape.
+    const next = reshaped(current.covered);
+    if (next === null) break;
+    current = next;
+    if (current.area < best.area) best = current;
   }
-  // Both quantiles sit in the top 1.2 %: only that tail is put in order.
-  const tail = upperTail(d2, Math.min(GAUSSIAN_3SIGMA_CONTENT_2D, 0.99));
-  const coverageScale = Math.max(tail.quantile(GAUSSIAN_3SIGMA_CONTENT_2D) / 9, 1e-6);
   return {
-    sigma: ellipseOf(sxx, sxy, syy, coverageScale),
-    extent99: ellipseOf(sxx, sxy, syy, Math.max(tail.quantile(0.99), 1e-6)),
-    coverageScale,
+    sigma: ellipseOf(best.a, best.b, best.c, best.scale),
+    extent99: ellipseOf(best.a, best.b, best.c, best.extent),
+    coverageScale: best.scale,
   };
 }
 
