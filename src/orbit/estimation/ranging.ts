@@ -59,9 +59,9 @@ export const DEFAULT_RANGE_PRIOR_EXPONENT = 0.5;
 
 /**
  * The range priors ranging offers: the default 'mixture' of the population
- * model with a broad component (MIXTURE_BROAD_WEIGHT of each tracklet's prior
- * mass: log-uniform distance, isotropic velocity relative to the Earth); the
- * population model alone ('population'); or rho^k ('powerLaw').
+ * model and the model of close encounters of any orbit (encounterDensity),
+ * added with weight MIXTURE_ENCOUNTER_LOG_WEIGHT; either alone ('population',
+ * 'encounter'); or rho^k ('powerLaw').
  */
 export type RangePriorKind = 'mixture' | 'population' | 'encounter' | 'powerLaw';
 
@@ -75,12 +75,11 @@ export type RangePriorKind = 'mixture' | 'population' | 'encounter' | 'powerLaw'
 export const DEFAULT_RANGE_PRIOR: RangePriorKind = 'mixture';
 
 /**
- * Share of the prior mass that the default mixture gives its broad component
- * (broadLogDensity: log-uniform distance, isotropic velocity relative to the
- * Earth), each component normalised over the tracklet's own admissible
- * region. Chosen on the reference generator's close-approach populations and
- * then frozen; checked on fresh cases of all three populations
- * (docs/accuracy.md).
+ * ln of the weight of the encounter component against the population model in
+ * the default mixture; the two densities are added as they are, not each
+ * normalised per tracklet (docs/accuracy.md says why). Chosen on the reference
+ * generator's close-approach populations and then frozen; checked on fresh
+ * cases of all three populations (docs/accuracy.md).
  */
 export const MIXTURE_ENCOUNTER_LOG_WEIGHT = -5;
 
