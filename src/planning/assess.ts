@@ -159,6 +159,7 @@ export function assessObject(input: AssessmentInput): Assessment {
     members,
     seed,
     approachStart,
+    ...(firstLook ? { proposals: FIRST_LOOK.proposals } : {}),
   });
   let track = input.reuse?.tracks.get(key);
   if (track === undefined && input.keptEstimate?.key === key) track = chainedTrackSource(input.keptEstimate.core, chainPhaseMs(seed));
@@ -171,7 +172,7 @@ export function assessObject(input: AssessmentInput): Assessment {
       now: approachStart,
       members,
       seed,
-      ranging: rangingFor(input.rangePrior),
+      ranging: firstLook ? { ...rangingFor(input.rangePrior), proposals: FIRST_LOOK.proposals } : rangingFor(input.rangePrior),
     });
     track = chainedTrackSource(estimate.core, chainPhaseMs(seed));
   }

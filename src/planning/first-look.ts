@@ -5,8 +5,11 @@ import type { TrackSource } from './track-source.js';
  * The first look: a cheaper assessment of a new object taken while new data
  * wait in a backlog, refined by the full assessment when the queue has room.
  * Fewer virtual orbits (`members`) make the estimate and above all the
- * propagated track cheaper, and it plans the next `horizonH` hours only; a
- * smaller sample misses some of the ensemble's spread, so every uncertainty
+ * propagated track cheaper, and it plans the next `horizonH` hours only. They
+ * are drawn from as many proposals as the full estimate's (`proposals`), so a
+ * tail of the posterior holding a few percent is sampled as well (with only
+ * two proposals per member such a tail was missed and the region came out too
+ * narrow: docs/performance.md). A smaller sample still misses some of the ensemble's spread, so every uncertainty
  * ellipse of the first look is widened by `widen`, chosen on the reference
  * generator so that no region a request can carry within that horizon is
  * narrower than the full estimate's 3-sigma region (test/bench/first-look.bench.ts,
@@ -14,7 +17,7 @@ import type { TrackSource } from './track-source.js';
  * widen the full ensemble several times, which no fixed factor follows). Its requests say so in their notes and
  * `assessment.firstLook`, and the full assessment revises them in place.
  */
-export const FIRST_LOOK = { members: 250, widen: 2, horizonH: 12 } as const;
+export const FIRST_LOOK = { members: 250, proposals: 2000, widen: 2, horizonH: 12 } as const;
 
 /** What the planner writes about a first look. */
 export interface FirstLookInfo {

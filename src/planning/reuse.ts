@@ -40,6 +40,8 @@ export interface EstimateKeyParts {
   members: number;
   seed: number;
   approachStart: Date;
+  /** Proposals of the sampling when not the default (a first look's). */
+  proposals?: number;
 }
 
 /** SHA-256 (hex) of the parts in a fixed order: equal keys, equal estimates. */
@@ -53,6 +55,7 @@ export function estimateKey(parts: EstimateKeyParts): string {
     parts.members,
     parts.seed,
     parts.approachStart.toISOString(),
+    ...(parts.proposals === undefined ? [] : [parts.proposals]),
   ]);
   return createHash('sha256').update(canonical).digest('hex');
 }

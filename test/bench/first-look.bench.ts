@@ -12,7 +12,7 @@
  * needed (median, p99, max over cases, horizons and sites; all and plannable), the time of each
  * estimate, and the plannable ellipses needing more than the factor checked.
  *
- *   npx tsx test/bench/first-look.bench.ts [members] [cases per population] [first seed] [factor to check] [range nodes|-] [rate nodes] [hours]
+ *   [PROPOSALS=n] npx tsx test/bench/first-look.bench.ts [members] [cases per population] [first seed] [factor to check] [range nodes|-] [rate nodes] [hours]
  *   defaults FIRST_LOOK's members, 20, 9001, FIRST_LOOK's factor, the estimator's grid, FIRST_LOOK's horizon. Cases are kept in $TMPDIR like the calibration bench's.
  */
 import { existsSync, readFileSync, writeFileSync } from 'node:fs';
@@ -30,6 +30,8 @@ const MEMBERS = Number(process.argv[2] ?? FIRST_LOOK.members);
 const PER_POPULATION = Number(process.argv[3] ?? 20);
 const FIRST_SEED = Number(process.argv[4] ?? 9001);
 const CHECK = Number(process.argv[5] ?? FIRST_LOOK.widen);
+/** Proposals of the cheaper estimate's sampling (FIRST_LOOK's; 0 for the default two per member). */
+const PROPOSALS = Number(process.env.PROPOSALS ?? FIRST_LOOK.proposals);
 const GRID = process.argv[6] === undefined || process.argv[6] === '-' ? {} : { rangeNodes: Number(process.argv[6]), rateNodes: Number(process.argv[7] ?? 10) };
 /** Horizons a first look plans over (its requests lie within FIRST_LOOK.horizonH); later ones are printed but not counted as plannable. */
 const MAX_HOURS = Number(process.argv[8] ?? FIRST_LOOK.horizonH);
@@ -45,7 +47,7 @@ function casesOf(population: ReferencePopulation): ReferenceCase[] {
   return cases;
 }
 
-console.log(`first-look bench: ${MEMBERS} virtual orbits${GRID.rangeNodes ? ` on a ${GRID.rangeNodes} x ${GRID.rateNodes} grid` : ''} against 1000, ${PER_POPULATION} cases per population from seed ${FIRST_SEED}; ${new Date().toISOString()}, load ${loadavg().map((x) => x.toFixed(2)).join(' ')}, ${cpus().length} cores`);
+console.log(`first-look bench: ${MEMBERS} virtual orbits from ${PROPOSALS || 2 * MEMBERS} proposals${GRID.rangeNodes ? ` on a ${GRID.rangeNodes} x ${GRID.rateNodes} grid` : ''} against 1000, ${PER_POPULATION} cases per population from seed ${FIRST_SEED}; ${new Date().toISOString()}, load ${loadavg().map((x) => x.toFixed(2)).join(' ')}, ${cpus().length} cores`);
 const sites = [REFERENCE_FOLLOW_UP_SITE, REFERENCE_SURVEY_SITE].map((s) => ({ latDeg: s.latDeg, lonDeg: s.lonDeg, heightM: s.heightM }));
 const all: number[] = [];
 const plannable: number[] = [];
@@ -65,7 +67,7 @@ for (const population of REFERENCE_POPULATIONS) {
     let full: ShortArcEstimate, cheap: ShortArcEstimate;
     try {
       full = timed(1000, timesFull);
-      cheap = timed(MEMBERS, timesCheap, GRID);
+      cheap = timed(MEMBERS, timesCheap, { ...GRID, proposals: PROPOSALS });
     } catch (err) {
       console.log(`  ${c.id}: no estimate (${(err as Error).message})`);
       continue;

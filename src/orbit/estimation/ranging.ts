@@ -95,6 +95,8 @@ export interface RangingOptions {
   readonly rangePriorExponent?: number;
   /** ln of the encounter component's weight against the population model in the 'mixture' prior; default MIXTURE_ENCOUNTER_LOG_WEIGHT. */
   readonly mixtureEncounterLogWeight?: number;
+  /** Proposals for the sampling inside the cells; default PROPOSALS_PER_MEMBER per virtual orbit, never fewer. A small ensemble drawn from as many proposals as a large one samples the posterior's tails as well. */
+  readonly proposals?: number;
   readonly rangeNodes?: number;
   readonly rateNodes?: number;
   readonly passes?: number;
@@ -497,6 +499,8 @@ export function systematicRanging(observations: readonly PreparedObservation[], 
   const k = options.rangePriorExponent ?? DEFAULT_RANGE_PRIOR_EXPONENT;
   if (!Number.isFinite(k)) throw new EstimationInputError('ranging.rangePriorExponent', k, 'expected a finite exponent k of the range prior rho^k');
   const encounterLogWeight = options.mixtureEncounterLogWeight ?? MIXTURE_ENCOUNTER_LOG_WEIGHT;
+  const proposals = options.proposals ?? 0;
+  if (!(Number.isInteger(proposals) && proposals >= 0 && proposals <= MAX_PROPOSALS)) throw new EstimationInputError('ranging.proposals', proposals, `expected a whole number of proposals from 0 to ${MAX_PROPOSALS}`);
   if (!Number.isFinite(encounterLogWeight)) throw new EstimationInputError('ranging.mixtureEncounterLogWeight', encounterLogWeight, 'expected a finite natural logarithm of the encounter component\'s weight');
   const model = priorModel(ctx, prior, k, encounterLogWeight);
   const rangeNodes = options.rangeNodes ?? 36;
@@ -583,12 +587,14 @@ export function systematicRanging(observations: readonly PreparedObservation[], 
     priorExponent: prior === 'powerLaw' ? k : null,
     mixtureEncounterLogWeight: prior === 'mixture' ? encounterLogWeight : null,
     stateOf: (params, rho, rate) => stateOf(ctx, params, rho, rate),
-    sample: (covariance, count, random) => sampleInsideCells(ctx, model, finalNodes, chiOffset, covariance, count, random),
+    sample: (covariance, count, random) => sampleInsideCells(ctx, model, finalNodes, chiOffset, covariance, count, Math.max(PROPOSALS_PER_MEMBER * count, proposals), random),
   };
 }
 
 /** Proposals per virtual orbit in the importance sampling inside the cells. */
 const PROPOSALS_PER_MEMBER = 2;
+/** Most proposals one sampling may ask for (each is a small orbit fit). */
+const MAX_PROPOSALS = 20_000;
 /** Gauss-Newton evaluations for a proposal's angles, started from its cell's fitted node (at most half a cell away). */
 const PROPOSAL_EVALUATIONS = 2;
 
@@ -614,9 +620,9 @@ function sampleInsideCells(
   chiOffset: number,
   covariance: readonly (readonly number[])[],
   count: number,
+  proposalCount: number,
   random: RandomSource,
 ): { members: VirtualOrbit[]; effectiveSampleSize: number; proposals: number } {
-  const proposalCount = PROPOSALS_PER_MEMBER * count;
   const cells = systematicResample(nodes.map((n) => n.weight), proposalCount, random.uniform());
   const points = cells.map((j) => {
     const n = nodes[j]!;
