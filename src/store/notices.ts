@@ -1,15 +1,10 @@
+import type { TrackletObservation } from '../domain/tracklet.js';
 import type { Db } from './database.js';
 import type { StoredObservation } from './objects.js';
 import { newDataStatement } from './work.js';
 
-/** An observation row ready to store (degrees, arcsec, metres; ISO UTC time). */
-export interface ObservationInput {
-  t: string;
-  raDeg: number;
-  decDeg: number;
-  sigmaArcsec: number;
-  mag: number | null;
-  band: string | null;
+/** An observation row ready to store: the tracklet observation with its observer in columns (degrees, metres). */
+export interface ObservationInput extends Omit<TrackletObservation, 'observer'> {
   obsLatDeg: number;
   obsLonDeg: number;
   obsHeightM: number;

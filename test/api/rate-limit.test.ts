@@ -1,4 +1,4 @@
-import { afterEach, describe, expect, it } from 'vitest';
+import { afterEach, describe, expect, it, vi } from 'vitest';
 import { RATE_LIMIT_KEYS } from '../../src/api/app.js';
 import type { ApiApp } from '../../src/api/http.js';
 import { buildTestApp, demoConfig, DEMO_TOKENS } from '../helpers.js';
@@ -10,6 +10,7 @@ import { buildTestApp, demoConfig, DEMO_TOKENS } from '../helpers.js';
  */
 let app: ApiApp | null = null;
 afterEach(async () => {
+  vi.useRealTimers();
   await app?.close();
   app = null;
 });
@@ -72,6 +73,17 @@ describe('rate limit', () => {
     for (let k = 0; k < PER_MINUTE + 1; k++) fresh.push((await get(a, undefined, '192.0.2.200')).statusCode);
     expect(fresh.slice(-1)).toEqual([429]);
   }, 120_000);
+
+  it('lets a caller in again once its minute is over, and not before', async () => {
+    vi.useFakeTimers({ toFake: ['Date'] });
+    vi.setSystemTime(new Date('2027-03-04T06:00:00Z'));
+    const a = await limitedApp();
+    for (let k = 0; k < PER_MINUTE; k++) expect((await get(a, `Bearer ${DEMO_TOKENS.reader}`)).statusCode).toBe(200);
+    vi.setSystemTime(new Date('2027-03-04T06:00:59Z'));
+    expect((await get(a, `Bearer ${DEMO_TOKENS.reader}`)).statusCode).toBe(429);
+    vi.setSystemTime(new Date('2027-03-04T06:01:00Z'));
+    expect((await get(a, `Bearer ${DEMO_TOKENS.reader}`)).statusCode).toBe(200);
+  });
 
   it('keeps liveness, readiness and metrics outside the limit', async () => {
     const a = await limitedApp(1);
