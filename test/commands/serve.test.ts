@@ -39,9 +39,10 @@ describe('nightjar serve', () => {
     writeFileSync(join(inbox, 'broken.json.part'), '{"format": "nightjar.notice.v1", "noticeId": ');
     const { renameSync } = await import('node:fs');
     renameSync(join(inbox, 'broken.json.part'), join(inbox, 'broken.json'));
+    // The reasons file is written first, then the file is moved beside it: wait for both.
     const rejected = await until('the malformed file in rejected/', () => {
       const files = existsSync(join(inbox, 'rejected')) ? readdirSync(join(inbox, 'rejected')) : [];
-      return files.some((f) => f.endsWith('_broken.json.reasons.json')) ? files : null;
+      return files.some((f) => f.endsWith('_broken.json.reasons.json')) && files.some((f) => f.endsWith('_broken.json')) ? files : null;
     });
     expect(rejected.some((f) => f.endsWith('_broken.json'))).toBe(true);
 
