@@ -236,6 +236,22 @@ export function createAssessmentRunner(deps: RunnerDeps) {
     return 'done';
   }
 
+  /**
+   * A fault outside the worker (the store refusing a write, say) while one object was handled: that
+   * object's work fails under the queue's rules and the drain goes on with the others, rather than
+   * the drain, and with it the service, stopping on an unhandled rejection.
+   */
+  function failedUnexpectedly(objectId: string, err: unknown): void {
+    const message = `assessment stopped by a fault in the service: ${err instanceof Error ? err.message : String(err)}`;
+    deps.log?.warn({ objectId, err }, 'assessment stopped by a fault in the service');
+    try {
+      recordFailure(objectId, { kind: 'error', message }, store.objects.dataKey(objectId));
+    } catch (inner) {
+      // The store itself is failing: the item stays running and is requeued at the next start.
+      deps.log?.warn({ objectId, err: inner }, 'could not record the failure');
+    }
+  }
+
   let draining: Promise<number> | null = null;
   let halted = false;
 
@@ -263,6 +279,7 @@ export function createAssessmentRunner(deps: RunnerDeps) {
               .then((outcome) => {
                 if (outcome === 'waits') workersDown = true;
               })
+              .catch((err: unknown) => failedUnexpectedly(item.objectId, err))
               .finally(() => inFlight.delete(p));
             inFlight.set(p, performance.now());
             handled += 1;

@@ -60,6 +60,23 @@ describe('assessment runner', () => {
     expect(store.work.get('ZX27A02')?.state).toBe('done');
   });
 
+  it('fails only the object whose results the store refuses, and goes on with the others', async () => {
+    const { store, intake, runner } = setup(async (input) => {
+      const out = oneRequest();
+      // A kind the requests table refuses (its CHECK constraint): the write fails in the runner, not in the worker.
+      return input.objectId === 'ZX27A01' ? { ...out, requests: out.requests.map((r) => ({ ...r, kind: 'unheard-of' as unknown as 'photometry' })) } : out;
+    });
+    intake.ingestJson(JSON.stringify(exampleNotice()), 'test');
+    intake.ingestJson(JSON.stringify(exampleNotice({ noticeId: 'ex-0002', objectId: 'ZX27A02' })), 'test');
+    await expect(runner.drain()).resolves.toBeGreaterThanOrEqual(2);
+    const failure = store.objects.getObject('ZX27A01')?.failure;
+    expect(failure).toMatchObject({ kind: 'error', stage: 'assessment' });
+    expect(failure?.message).toMatch(/^assessment stopped by a fault in the service: CHECK constraint failed/);
+    // Retried under the queue's rules (three attempts), then given up; the other object is done.
+    expect(store.work.get('ZX27A01')).toMatchObject({ state: 'failed', attempts: 3 });
+    expect(store.work.get('ZX27A02')?.state).toBe('done');
+  });
+
   it('assesses waiting objects and queues their requests with the tracklet as input', async () => {
     const seen: AssessInput[] = [];
     const { store, intake, runner } = setup(async (input) => (seen.push(input), oneRequest()), true);
