@@ -74,7 +74,7 @@ export function inventState(input: InventStateInput): HeliocentricState {
 }
 
 /** Mulberry32, a small seeded generator (public-domain; deterministic across platforms). */
-function seededRandom(seed: number): () => number {
+export function seededRandom(seed: number): () => number {
   let a = seed >>> 0;
   return () => {
     a = (a + 0x6d2b79f5) >>> 0;

@@ -38,7 +38,7 @@ import { parseArgs } from 'node:util';
 import pino from 'pino';
 import { loadConfig } from '../../src/config/load.js';
 import type { Config } from '../../src/config/schema.js';
-import { simulateNight, type SimulatedKind } from '../../src/planning/simulate.js';
+import { seededRandom, simulateNight, type SimulatedKind } from '../../src/planning/simulate.js';
 import { startService, type RunningService } from '../../src/server.js';
 import { quantile } from './quantile.js';
 
@@ -69,18 +69,6 @@ const cpuS = (since: NodeJS.CpuUsage) => {
   return (d.user + d.system) / 1e6;
 };
 const URGENT_KINDS: readonly SimulatedKind[] = ['close-approacher', 'fast-flyby'];
-
-/** Mulberry32 (public domain): the stream's arrival times and kinds, the same in every run. */
-function seeded(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 /** A simulated clock: runs at the real rate from where it was last set; only moves forward. */
 function simClock(startMs: number) {
@@ -234,7 +222,7 @@ async function night(n: number): Promise<void> {
     );
 
     // The stream and the burst, invented before the cycles (their cost stays out of the figures).
-    const random = seeded(seed + 7);
+    const random = seededRandom(seed + 7);
     const start = Math.ceil(sim.nowMs() / CYCLE_MS) * CYCLE_MS;
     const rate = Number(values.rate) / 60_000;
     const streams: { offsetMs: number; sent: Sent }[][] = [];
