@@ -9,7 +9,7 @@
  */
 import { estimateObject } from '../../src/orbit/estimation/index.js';
 import { REFERENCE_FOLLOW_UP_SITE, REFERENCE_POPULATIONS, referenceCase, type ReferenceCase, type ReferencePopulation } from '../reference/cases.js';
-import { trackletOf } from '../reference/evaluate.js';
+import { trackletOf } from '../orbit/estimation/reference-scorer.js';
 
 const quantile = (values: number[], p: number): number => {
   const s = [...values].sort((a, b) => a - b);

@@ -21,7 +21,7 @@ import { join } from 'node:path';
 import type { ShortArcEstimate } from '../../src/orbit/estimation/index.js';
 import { FIRST_LOOK } from '../../src/planning/first-look.js';
 import { REFERENCE_FOLLOW_UP_SITE, REFERENCE_HORIZONS_H, REFERENCE_POPULATIONS, REFERENCE_SURVEY_SITE, referenceCases, type ReferenceCase, type ReferencePopulation } from '../reference/cases.js';
-import { runEstimate } from '../reference/evaluate.js';
+import { runEstimate } from '../orbit/estimation/reference-scorer.js';
 import { quantile } from './quantile.js';
 import { coverFactor, PLANNABLE_MAJOR_ARCSEC } from '../planning/region-cover.js';
 

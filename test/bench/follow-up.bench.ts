@@ -28,7 +28,7 @@ import { createRandom } from '../../src/orbit/estimation/random.js';
 import { ellipseDistanceSquared, offsetArcsec } from '../../src/orbit/estimation/sky-spread.js';
 import { REFERENCE_SURVEY_SITE, referenceCases, referencePlacesFrom, type ReferenceCase } from '../reference/cases.js';
 import { altitudes, type ReferenceSite } from '../reference/observe.js';
-import { trackletOf } from '../reference/evaluate.js';
+import { trackletOf } from '../orbit/estimation/reference-scorer.js';
 import { quantile } from './quantile.js';
 
 const perKind = Number(process.argv[2] ?? 10);

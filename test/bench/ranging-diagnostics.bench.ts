@@ -17,7 +17,7 @@ import { prepareObservations } from '../../src/orbit/estimation/observations.js'
 import { systematicRanging, type RangingResult } from '../../src/orbit/estimation/ranging.js';
 import { ttFromUtc } from '../../src/orbit/time.js';
 import { REFERENCE_POPULATIONS, referenceCases, referenceTruthStates } from '../reference/cases.js';
-import { runEstimate, tangentOffsetArcsec, trackletOf } from '../reference/evaluate.js';
+import { runEstimate, tangentOffsetArcsec, trackletOf } from '../orbit/estimation/reference-scorer.js';
 import { ttDaysOfUtc } from '../reference/reference-time.js';
 
 const perPopulation = Number(process.argv[2] ?? 20);

@@ -15,7 +15,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { RangingOptions } from '../../src/orbit/estimation/ranging.js';
 import { REFERENCE_HORIZONS_H, REFERENCE_POPULATIONS, referenceCases, type ReferenceCase, type ReferencePopulation } from '../reference/cases.js';
-import { ESTIMATOR_BAR, horizonFigures, median, rangeCoverage, scoreCase, type ScoredCase } from '../reference/evaluate.js';
+import { ESTIMATOR_BAR, horizonFigures, median, rangeCoverage, scoreCase, type ScoredCase } from '../orbit/estimation/reference-scorer.js';
 
 const GENERATOR_VERSION = 2;
 const perPopulation = Number(process.argv[2] ?? 60);

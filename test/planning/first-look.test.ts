@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { FIRST_LOOK } from '../../src/planning/first-look.js';
 import { REFERENCE_FOLLOW_UP_SITE, REFERENCE_HORIZONS_H, REFERENCE_POPULATIONS, REFERENCE_SURVEY_SITE } from '../reference/cases.js';
-import { runEstimate } from '../reference/evaluate.js';
+import { runEstimate } from '../orbit/estimation/reference-scorer.js';
 import { loadFixture } from '../reference/fixture.js';
 import { coverFactor, PLANNABLE_MAJOR_ARCSEC } from './region-cover.js';
 

@@ -11,8 +11,8 @@ import { earthState, GM_SUN, KM_PER_AU, sunState } from './solar-system.js';
  * by this folder's own dynamics (integrator.ts), observed from an invented
  * survey site as a tracklet with noise, and seen again from an invented
  * follow-up site on another continent and from the survey site at fixed
- * horizons. Nothing here imports the project's code; evaluate.ts is the one
- * file of this folder that calls the estimator.
+ * horizons. Nothing in this folder imports the project's code (a lint rule);
+ * test/orbit/estimation/reference-scorer.ts runs the estimator on its cases.
  *
  * Populations, each scored separately:
  * - 'encounter': close approaches of random geometry: speed relative to the

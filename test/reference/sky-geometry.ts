@@ -1,7 +1,7 @@
 /**
  * Sky geometry of the reference scorer, and the floor of the +24 h error: the
- * formulas of this folder, importing nothing from src/ (evaluate.ts scores the
- * estimator with them).
+ * formulas of this folder, importing nothing from src/
+ * (test/orbit/estimation/reference-scorer.ts scores the estimator with them).
  */
 import { referencePlacesFrom, type ReferenceCase, type ReferencePopulation, type ReferenceTruthPoint } from './cases.js';
 

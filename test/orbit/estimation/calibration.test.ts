@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { REFERENCE_HORIZONS_H, REFERENCE_POPULATIONS, referenceCase } from '../../reference/cases.js';
-import { ESTIMATOR_BAR, horizonFigures, median, rangeCoverage, scoreCase, type ScoredCase } from '../../reference/evaluate.js';
+import { ESTIMATOR_BAR, horizonFigures, median, rangeCoverage, scoreCase, type ScoredCase } from './reference-scorer.js';
 import { FIXTURE_CASES_PER_POPULATION, FIXTURE_FIRST_SEED, loadFixture } from '../../reference/fixture.js';
 
 /**

@@ -5,7 +5,7 @@ import { ephemerisFromElements } from '../../../src/orbit/ephemeris.js';
 import { ttFromTtIso } from '../../../src/orbit/time.js';
 import { KM_PER_AU } from '../../../src/orbit/constants.js';
 import { REFERENCE_FOLLOW_UP_SITE, referenceCase, type ReferenceCase, type ReferencePopulation } from '../../reference/cases.js';
-import { trackletOf } from '../../reference/evaluate.js';
+import { trackletOf } from './reference-scorer.js';
 
 /** A reference case (test/reference/, independent truth) by its id, with its tracklet as the estimator takes it. */
 function reference(population: ReferencePopulation, seed: number): ReferenceCase & { tracklet: ReturnType<typeof trackletOf> } {

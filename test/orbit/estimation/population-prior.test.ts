@@ -18,7 +18,7 @@ import {
 } from '../../../src/orbit/estimation/index.js';
 import { createRandom } from '../../../src/orbit/estimation/random.js';
 import { referenceCase } from '../../reference/cases.js';
-import { trackletOf } from '../../reference/evaluate.js';
+import { trackletOf } from './reference-scorer.js';
 import { GM_SUN_AU3_PER_DAY2 } from '../../../src/orbit/constants.js';
 import { stateFromClassical } from '../../../src/orbit/elements.js';
 import { eccentricAnomalyFromMean, trueFromEccentricAnomaly } from '../../../src/orbit/kepler.js';

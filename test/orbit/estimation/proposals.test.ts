@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { estimateObject } from '../../../src/orbit/estimation/estimate.js';
 import { loadFixture } from '../../reference/fixture.js';
-import { trackletOf } from '../../reference/evaluate.js';
+import { trackletOf } from './reference-scorer.js';
 
 /** The sampling inside the ranging cells draws its virtual orbits from a number of proposals a caller may raise (a first look does). */
 describe('proposals of the sampling inside the ranging cells', () => {

@@ -1,16 +1,17 @@
 /**
- * Scores the short-arc estimator on reference cases. This is the one file of
- * test/reference/ that imports the project (the estimator it scores); the
- * truths come from cases.ts, which imports nothing from src/. The offsets,
+ * Scores the short-arc estimator on reference cases. It sits beside the
+ * estimator's tests, not in test/reference/, so that the reference (truths,
+ * geometry, floor) imports nothing of the project at all; the truths come from
+ * test/reference/cases.ts. The offsets,
  * sigma distances and the linear extrapolation are computed here with this
  * file's own formulas.
  */
-import type { GeodeticLocation } from '../../src/config/schema.js';
-import { estimateObject, type ShortArcEstimate } from '../../src/orbit/estimation/estimate.js';
-import type { RangingOptions } from '../../src/orbit/estimation/ranging.js';
-import type { TrackletObservation } from '../../src/domain/tracklet.js';
-import { REFERENCE_FOLLOW_UP_SITE, REFERENCE_HORIZONS_H, REFERENCE_SURVEY_SITE, type ReferenceCase, type ReferencePopulation } from './cases.js';
-import { linearExtrapolation, linearNoiseFloor, separationArcsec, sigmaDistance, tangentOffsetArcsec } from './sky-geometry.js';
+import type { GeodeticLocation } from '../../../src/config/schema.js';
+import { estimateObject, type ShortArcEstimate } from '../../../src/orbit/estimation/estimate.js';
+import type { RangingOptions } from '../../../src/orbit/estimation/ranging.js';
+import type { TrackletObservation } from '../../../src/domain/tracklet.js';
+import { REFERENCE_FOLLOW_UP_SITE, REFERENCE_HORIZONS_H, REFERENCE_SURVEY_SITE, type ReferenceCase, type ReferencePopulation } from '../../reference/cases.js';
+import { linearExtrapolation, linearNoiseFloor, separationArcsec, sigmaDistance, tangentOffsetArcsec } from '../../reference/sky-geometry.js';
 
 export { linearExtrapolation, separationArcsec, sigmaDistance, tangentOffsetArcsec };
 
