@@ -18,6 +18,16 @@ import { FIXTURE_CASES_PER_POPULATION, FIXTURE_FIRST_SEED, loadFixture } from '.
  * at the bar itself.
  */
 const fixture = loadFixture();
+/** Each population's cases scored once (1000 virtual orbits, seed 1), for every test that reads them. */
+const scoredCases = new Map<string, ScoredCase[]>();
+const scoredOf = (population: string): ScoredCase[] => {
+  let scored = scoredCases.get(population);
+  if (scored === undefined) {
+    scored = fixture.filter((c) => c.population === population).map((c) => scoreCase(c, { members: 1000, seed: 1 }));
+    scoredCases.set(population, scored);
+  }
+  return scored;
+};
 
 it('keeps the fixture equal to what the reference generator gives for its first case', () => {
   const first = fixture[0]!;
@@ -29,8 +39,7 @@ it('keeps the fixture equal to what the reference generator gives for its first 
 });
 
 describe.each(REFERENCE_POPULATIONS.map((p) => [p]))('calibration subset: %s', (population) => {
-  const cases = fixture.filter((c) => c.population === population);
-  const scored: ScoredCase[] = cases.map((c) => scoreCase(c, { members: 1000, seed: 1 }));
+  const scored = scoredOf(population);
   const rows = scored.flatMap((s) => s.horizons);
 
   it(`uses ${FIXTURE_CASES_PER_POPULATION} reference cases`, () => {
@@ -67,7 +76,7 @@ describe.each(REFERENCE_POPULATIONS.map((p) => [p]))('calibration subset: %s', (
  * What the estimator can do there is reach that floor.
  */
 it('predicts ordinary objects at +24 h within 1.5 times the floor that the positions noise leaves', () => {
-  const scored = fixture.filter((c) => c.population === 'ordinary').map((c) => scoreCase(c, { members: 1000, seed: 1 }));
+  const scored = scoredOf('ordinary');
   const f = horizonFigures(scored, 24);
   expect(f.medianErrorArcsec).toBeLessThanOrEqual(1.5 * f.medianFloorArcsec);
 });
