@@ -47,7 +47,8 @@ export interface EstimateKeyParts {
 /** SHA-256 (hex) of the parts in a fixed order: equal keys, equal estimates. */
 export function estimateKey(parts: EstimateKeyParts): string {
   const canonical = JSON.stringify([
-    'estimate-v1',
+    // The estimator's version: raised whenever the same inputs give another estimate (v2: the encounter window of 10 days), so a kept estimate of an older estimator is not reused.
+    'estimate-v2',
     parts.objectId,
     parts.observations.map((o) => [o.t, o.raDeg, o.decDeg, o.sigmaArcsec, o.mag, o.band, o.observer.latDeg, o.observer.lonDeg, o.observer.heightM]),
     parts.orbit ?? null,

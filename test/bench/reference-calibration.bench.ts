@@ -1,7 +1,11 @@
 /**
  * The short-arc estimator against the independent reference generator (test/reference/).
  * Run: npx tsx test/bench/reference-calibration.bench.ts [cases per population] [first seed] [prior]
- *   defaults 60, 1, the estimator's default prior; prior: 'mixture', 'mixture:<broad weight>', 'population', 'powerLaw' or a number k (rho^k).
+ *   defaults 60, 1, the estimator's default prior; prior: 'mixture', 'mixture:<encounter ln weight>',
+ *   'mixture:<encounter ln weight>:<encounter window, days>', 'population', 'encounter', 'powerLaw' or a number k (rho^k).
+ * Pooled: in place of the count and first seed, a list of sets <count>@<first seed>, e.g.
+ *   npx tsx test/bench/reference-calibration.bench.ts 40@1,40@11001,100@21001,80@31001,60@41001 - [prior]
+ *   scores every set and prints the figures of all of them together (the second argument is ignored).
  * Cases are generated once and kept in $TMPDIR/nightjar-reference-cases-v<version>-<population>-<seed>-<count>.json
  * (generation takes 1-4 s a case); delete those files to regenerate.
  * Prints, per population and horizon (+1 ... +48 h after the last position, the follow-up and the
@@ -18,21 +22,27 @@ import { REFERENCE_HORIZONS_H, REFERENCE_POPULATIONS, referenceCases, type Refer
 import { ESTIMATOR_BAR, horizonFigures, median, rangeCoverage, scoreCase, type ScoredCase } from '../orbit/estimation/reference-scorer.js';
 
 const GENERATOR_VERSION = 2;
-const perPopulation = Number(process.argv[2] ?? 60);
-const firstSeed = Number(process.argv[3] ?? 1);
+/** The case sets to score together: [count, first seed] each. */
+const sets: [number, number][] = (process.argv[2] ?? '60').includes('@')
+  ? process.argv[2]!.split(',').map((part) => part.split('@').map(Number) as [number, number])
+  : [[Number(process.argv[2] ?? 60), Number(process.argv[3] ?? 1)]];
+for (const [count, seed] of sets) if (!(Number.isInteger(count) && count > 0 && Number.isInteger(seed))) throw new Error(`case set ${count}@${seed}: expected a whole count and first seed`);
 const priorArg = process.argv[4];
 const only = process.env.POPULATIONS?.split(',') as ReferencePopulation[] | undefined;
 
 function rangingOf(arg: string | undefined): RangingOptions {
   if (arg === undefined) return {};
   if (arg === 'population' || arg === 'powerLaw' || arg === 'mixture' || arg === 'encounter') return { rangePrior: arg };
-  if (arg.startsWith('mixture:')) return { rangePrior: 'mixture', mixtureEncounterLogWeight: Number(arg.slice('mixture:'.length)) };
+  if (arg.startsWith('mixture:')) {
+    const [weight, windowDays] = arg.slice('mixture:'.length).split(':').map(Number);
+    return { rangePrior: 'mixture', mixtureEncounterLogWeight: weight, ...(windowDays === undefined ? {} : { encounterWindowDays: windowDays }) };
+  }
   const k = Number(arg);
   if (!Number.isFinite(k)) throw new Error(`prior = ${arg}: expected 'mixture', 'mixture:<weight>', 'population', 'powerLaw' or a number k`);
   return { rangePrior: 'powerLaw', rangePriorExponent: k };
 }
 
-function casesOf(population: ReferencePopulation): ReferenceCase[] {
+function casesOf(population: ReferencePopulation, perPopulation: number, firstSeed: number): ReferenceCase[] {
   const file = join(tmpdir(), `nightjar-reference-cases-v${GENERATOR_VERSION}-${population}-${firstSeed}-${perPopulation}.json`);
   if (existsSync(file)) return JSON.parse(readFileSync(file, 'utf8')) as ReferenceCase[];
   const t0 = performance.now();
@@ -48,7 +58,7 @@ const pct = (x: number): string => `${(100 * x).toFixed(1)} %`;
 const ranging = rangingOf(priorArg);
 const allScored: ScoredCase[] = [];
 for (const population of REFERENCE_POPULATIONS.filter((p) => !only || only.includes(p))) {
-  const cases = casesOf(population);
+  const cases = sets.flatMap(([count, seed]) => casesOf(population, count, seed));
   const scored = cases.map((c) => scoreCase(c, { members: 1000, seed: 1, ranging }));
   allScored.push(...scored);
   console.log(`\n### ${population} (${scored.length} cases, both sites pooled${priorArg ? `, prior ${priorArg}` : ''})`);
@@ -89,5 +99,6 @@ for (const population of REFERENCE_POPULATIONS.filter((p) => !only || only.inclu
   for (const s of scored) pit[Math.min(4, Math.floor(s.rangeQuantile * 5))]!++;
   console.log(`truth's quantile in the range posterior, by fifths (even when calibrated): ${pit.join(' / ')}`);
   const rangeMisses = scored.filter((s) => !(s.rangeAu.p5 <= s.trueRangeAu && s.trueRangeAu <= s.rangeAu.p95));
+  console.log(`cases outside 3σ at some horizon: ${scored.filter((s) => s.horizons.some((h) => h.sigmaDistance > 3)).length} of ${scored.length}`);
   if (rangeMisses.length) console.log(`range outside 5-95 %: ${rangeMisses.map((s) => `${s.id} truth ${s.trueRangeAu.toFixed(4)} [${s.rangeAu.p5.toFixed(4)}, ${s.rangeAu.p95.toFixed(4)}]`).join('; ')}`);
 }
