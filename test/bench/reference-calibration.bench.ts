@@ -6,6 +6,8 @@
  * Pooled: in place of the count and first seed, a list of sets <count>@<first seed>, e.g.
  *   npx tsx test/bench/reference-calibration.bench.ts 40@1,40@11001,100@21001,80@31001,60@41001 - [prior]
  *   scores every set and prints the figures of all of them together (the second argument is ignored).
+ * Each population ends with the chance that a fresh set of BOOTSTRAP_SIZE (env, default 100) such cases
+ * meets each cell of the bar, by the bootstrap.
  * Cases are generated once and kept in $TMPDIR/nightjar-reference-cases-v<version>-<population>-<seed>-<count>.json
  * (generation takes 1-4 s a case); delete those files to regenerate.
  * Prints, per population and horizon (+1 ... +48 h after the last position, the follow-up and the
@@ -19,6 +21,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { RangingOptions } from '../../src/orbit/estimation/ranging.js';
 import { REFERENCE_HORIZONS_H, REFERENCE_POPULATIONS, referenceCases, type ReferenceCase, type ReferencePopulation } from '../reference/cases.js';
+import { referenceRandom } from '../reference/random.js';
 import { ESTIMATOR_BAR, horizonFigures, median, rangeCoverage, scoreCase, type ScoredCase } from '../orbit/estimation/reference-scorer.js';
 
 const GENERATOR_VERSION = 2;
@@ -34,8 +37,8 @@ function rangingOf(arg: string | undefined): RangingOptions {
   if (arg === undefined) return {};
   if (arg === 'population' || arg === 'powerLaw' || arg === 'mixture' || arg === 'encounter') return { rangePrior: arg };
   if (arg.startsWith('mixture:')) {
-    const [weight, windowDays] = arg.slice('mixture:'.length).split(':').map(Number);
-    return { rangePrior: 'mixture', mixtureEncounterLogWeight: weight, ...(windowDays === undefined ? {} : { encounterWindowDays: windowDays }) };
+    const [weight, windowDays] = arg.slice('mixture:'.length).split(':');
+    return { rangePrior: 'mixture', mixtureEncounterLogWeight: Number(weight), ...(windowDays === undefined ? {} : { encounterWindowDays: Number(windowDays) }) };
   }
   const k = Number(arg);
   if (!Number.isFinite(k)) throw new Error(`prior = ${arg}: expected 'mixture', 'mixture:<weight>', 'population', 'powerLaw' or a number k`);
@@ -51,6 +54,41 @@ function casesOf(population: ReferencePopulation, perPopulation: number, firstSe
   writeFileSync(file, JSON.stringify(cases));
   return cases;
 }
+
+/** Whether a set of scored cases meets each cell of the bar. */
+function barCells(scored: readonly ScoredCase[]): Record<'coverage' | 'range' | 'sharpness' | 'nominalVsLinear' | 'magnitudes', boolean> {
+  const figures = REFERENCE_HORIZONS_H.map((h) => horizonFigures(scored, h));
+  const h24 = figures[REFERENCE_HORIZONS_H.indexOf(24)]!;
+  return {
+    coverage: Math.min(...figures.map((f) => f.inside3Sigma)) >= ESTIMATOR_BAR.inside3Sigma,
+    range: rangeCoverage(scored) >= ESTIMATOR_BAR.rangeCoverage,
+    sharpness: Math.max(...figures.map((f) => f.majorOverError)) <= ESTIMATOR_BAR.maxMajorOverError,
+    nominalVsLinear: h24.medianErrorArcsec / h24.medianLinearArcsec <= ESTIMATOR_BAR.maxNominalOverLinearAt24h,
+    magnitudes: Math.min(...figures.map((f) => f.magInside3Sigma)) >= ESTIMATOR_BAR.magInside3Sigma,
+  };
+}
+
+/**
+ * How often a fresh set of `size` cases would meet each cell, estimated by
+ * the bootstrap (Efron & Tibshirani 1993, An Introduction to the Bootstrap,
+ * ch. 6): sets of `size` drawn with replacement from the scored cases, each
+ * scored against the bar. It says how far a cell stands from its threshold
+ * in the units that matter (a cell met 55 % of the time is a coin toss on the
+ * next set), not how the estimator would do on cases unlike these.
+ */
+function chanceOfMeeting(scored: readonly ScoredCase[], size: number, resamples: number): Record<keyof ReturnType<typeof barCells>, number> {
+  const random = referenceRandom(20_261_202);
+  const met = { coverage: 0, range: 0, sharpness: 0, nominalVsLinear: 0, magnitudes: 0 };
+  for (let r = 0; r < resamples; r++) {
+    const sample = Array.from({ length: size }, () => scored[Math.floor(random.uniform() * scored.length)]!);
+    const cells = barCells(sample);
+    for (const key of Object.keys(met) as (keyof typeof met)[]) if (cells[key]) met[key]++;
+  }
+  for (const key of Object.keys(met) as (keyof typeof met)[]) met[key] /= resamples;
+  return met;
+}
+const BOOTSTRAP_SIZE = Number(process.env.BOOTSTRAP_SIZE ?? 100);
+const BOOTSTRAP_RESAMPLES = 2000;
 
 const fmt = (x: number): string => (!Number.isFinite(x) ? String(x) : x >= 100 ? x.toFixed(0) : x >= 10 ? x.toFixed(1) : x.toFixed(2));
 const pct = (x: number): string => `${(100 * x).toFixed(1)} %`;
@@ -99,6 +137,11 @@ for (const population of REFERENCE_POPULATIONS.filter((p) => !only || only.inclu
   for (const s of scored) pit[Math.min(4, Math.floor(s.rangeQuantile * 5))]!++;
   console.log(`truth's quantile in the range posterior, by fifths (even when calibrated): ${pit.join(' / ')}`);
   const rangeMisses = scored.filter((s) => !(s.rangeAu.p5 <= s.trueRangeAu && s.trueRangeAu <= s.rangeAu.p95));
+  const chance = chanceOfMeeting(scored, BOOTSTRAP_SIZE, BOOTSTRAP_RESAMPLES);
+  console.log(
+    `chance that a set of ${BOOTSTRAP_SIZE} such cases meets each cell (bootstrap, ${BOOTSTRAP_RESAMPLES} resamples of these ${scored.length}): ` +
+      `coverage ${pct(chance.coverage)}, range ${pct(chance.range)}, sharpness ${pct(chance.sharpness)}, nominal vs linear ${pct(chance.nominalVsLinear)}, magnitudes ${pct(chance.magnitudes)}`,
+  );
   console.log(`cases outside 3σ at some horizon: ${scored.filter((s) => s.horizons.some((h) => h.sigmaDistance > 3)).length} of ${scored.length}`);
   if (rangeMisses.length) console.log(`range outside 5-95 %: ${rangeMisses.map((s) => `${s.id} truth ${s.trueRangeAu.toFixed(4)} [${s.rangeAu.p5.toFixed(4)}, ${s.rangeAu.p95.toFixed(4)}]`).join('; ')}`);
 }

@@ -90,7 +90,7 @@ afterAll(async () => {
 });
 
 describe('the queue software over a simulated night', () => {
-  it('sees stable ids across replans, the uncertainty shrink after each outcome, sized light curves, and a bad outcome refused', async () => {
+  it('sees stable ids across replans, the uncertainty shrink with the outcomes, sized light curves, and a bad outcome refused', async () => {
     // The survey's discovery notice: four positions 15 min apart, the last 20 min ago.
     const discovery = {
       format: 'nightjar.notice.v1',
@@ -174,7 +174,16 @@ describe('the queue software over a simulated night', () => {
     // Outcomes were reported and each shrank the uncertainty the next night.
     expect(outcomes).toBeGreaterThanOrEqual(3);
     if (process.env['NIGHT_DEBUG']) console.log(`outcomes ${outcomes}; 1-sigma major the next night: ${uncertainty.map((u) => u.toFixed(1)).join(' > ')} arcsec; ids ${JSON.stringify([...idsByKind].map(([k, v]) => [k, [...v]]))}; durations ${[...new Set(durations)].join(', ')}`);
-    for (let k = 1; k < uncertainty.length; k++) expect(uncertainty[k], `after outcome ${k}: ${uncertainty.join(' > ')}`).toBeLessThan(uncertainty[k - 1]!);
+    // Two new positions (outcomes 1, 3, ...: a second site and a longer arc) shrink the region. One more position
+    // 40 min after the last may add too little to beat the Monte Carlo scatter of a 200-member ellipse, whose
+    // 98.89 % point rests on its outermost two or three members: relative SD 8-18 % of the 1-sigma major axis
+    // over 20 seeds on five ordinary fixture cases (measured once), so the difference of two such estimates
+    // has SD of about 0.1 x sqrt(2) - 0.25 x sqrt(2); it may grow by at most 30 % (about two of those).
+    for (let k = 1; k < uncertainty.length; k++) {
+      const limit = k % 2 === 1 ? uncertainty[k - 1]! : 1.3 * uncertainty[k - 1]!;
+      expect(uncertainty[k], `after outcome ${k}: ${uncertainty.join(', ')}`).toBeLessThan(limit);
+    }
+    expect(uncertainty[uncertainty.length - 1]!, `over the night: ${uncertainty.join(', ')}`).toBeLessThan(uncertainty[0]! / 4);
     // One id per kind all night: replans revised the requests in place.
     expect([...idsByKind.keys()].length).toBeGreaterThan(0);
     for (const [kind, ids] of idsByKind) expect(ids.size, `${kind}: ${[...ids].join(', ')}`).toBe(1);
@@ -190,5 +199,6 @@ describe('the queue software over a simulated night', () => {
     // The bad outcome was refused with its reason.
     expect(refusals).toHaveLength(1);
     expect(refusals[0]).toMatch(/body\.observedAt: 2031-03-04T06:00:00Z is in the future/);
-  });
+    // A whole simulated night of replans, about 5 s on 2 cores: a guard against a hang, not a speed check.
+  }, 60_000);
 });
