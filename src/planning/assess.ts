@@ -151,6 +151,8 @@ export function assessObject(input: AssessmentInput): Assessment {
   const members = firstLook?.members ?? input.members;
   const seed = input.seed ?? seedForObject(input.objectId);
   const approachStart = approachStartFor(input.observations, input.now);
+  // A first look draws its fewer members from as many proposals as the full estimate (first-look.ts).
+  const proposals = firstLook ? FIRST_LOOK.proposals : undefined;
   const key = estimateKey({
     objectId: input.objectId,
     observations: input.observations,
@@ -159,7 +161,7 @@ export function assessObject(input: AssessmentInput): Assessment {
     members,
     seed,
     approachStart,
-    ...(firstLook ? { proposals: FIRST_LOOK.proposals } : {}),
+    ...(proposals === undefined ? {} : { proposals }),
   });
   let track = input.reuse?.tracks.get(key);
   if (track === undefined && input.keptEstimate?.key === key) track = chainedTrackSource(input.keptEstimate.core, chainPhaseMs(seed));
@@ -172,7 +174,7 @@ export function assessObject(input: AssessmentInput): Assessment {
       now: approachStart,
       members,
       seed,
-      ranging: firstLook ? { ...rangingFor(input.rangePrior), proposals: FIRST_LOOK.proposals } : rangingFor(input.rangePrior),
+      ranging: { ...rangingFor(input.rangePrior), ...(proposals === undefined ? {} : { proposals }) },
     });
     track = chainedTrackSource(estimate.core, chainPhaseMs(seed));
   }

@@ -1,6 +1,7 @@
 import { createHash } from 'node:crypto';
 import type { Site } from '../config/schema.js';
 import type { TrackletObservation } from '../domain/tracklet.js';
+import { ESTIMATOR_VERSION } from '../orbit/estimation/index.js';
 import { buildSkyTimeline, type SkyTimeline } from '../sky/timeline.js';
 import { CHAIN_PIECE_HOURS, TRACK_STEP_MS, type ChainedTrack } from './track-source.js';
 
@@ -47,8 +48,7 @@ export interface EstimateKeyParts {
 /** SHA-256 (hex) of the parts in a fixed order: equal keys, equal estimates. */
 export function estimateKey(parts: EstimateKeyParts): string {
   const canonical = JSON.stringify([
-    // The estimator's version: raised whenever the same inputs give another estimate (v2: the encounter window of 10 days), so a kept estimate of an older estimator is not reused.
-    'estimate-v2',
+    `estimate-v${ESTIMATOR_VERSION}`,
     parts.objectId,
     parts.observations.map((o) => [o.t, o.raDeg, o.decDeg, o.sigmaArcsec, o.mag, o.band, o.observer.latDeg, o.observer.lonDeg, o.observer.heightM]),
     parts.orbit ?? null,

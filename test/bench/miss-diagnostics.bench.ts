@@ -8,14 +8,10 @@
  * quantile among the virtual orbits; and, among the virtual orbits within 10 % of the truth's
  * range, the 5-50-95 % range rate and the truth's quantile in it.
  */
-import { ensemblePlaces, observerGeometry } from '../../src/orbit/ephemeris.js';
 import { fitAttributable } from '../../src/orbit/estimation/attributable.js';
 import { prepareObservations } from '../../src/orbit/estimation/observations.js';
-import type { HeliocentricState } from '../../src/orbit/elements.js';
-import { ttFromUtc } from '../../src/orbit/time.js';
-import { REFERENCE_POPULATIONS, referenceCase, referenceTruthStates, type ReferencePopulation } from '../reference/cases.js';
-import { ttDaysOfUtc } from '../reference/reference-time.js';
-import { runEstimate, tangentOffsetArcsec, trackletOf } from '../orbit/estimation/reference-scorer.js';
+import { REFERENCE_POPULATIONS, referenceCase, type ReferencePopulation } from '../reference/cases.js';
+import { rangeAndRateOf, runEstimate, trackletChiSquareOf, trackletOf, truthStateAt } from '../orbit/estimation/reference-scorer.js';
 
 for (const id of process.argv.slice(2)) {
   const [population, seedText] = id.split('-') as [ReferencePopulation, string];
@@ -25,19 +21,9 @@ for (const id of process.argv.slice(2)) {
   if (c === null) { console.log(`${id}: no case for this seed`); continue; }
   const tracklet = trackletOf(c);
   const attributable = fitAttributable(prepareObservations(tracklet), { leaveOneOut: false });
-  const [truth] = referenceTruthStates(population, seed, [ttDaysOfUtc(attributable.epochMs)]);
-  const state: HeliocentricState = { tt: ttFromUtc(new Date(attributable.epochMs)), x: truth![0]!, y: truth![1]!, z: truth![2]!, vx: truth![3]!, vy: truth![4]!, vz: truth![5]! };
-  const places = ensemblePlaces([state], tracklet[0]!.observer, tracklet.map((o) => new Date(o.t)));
-  const chi = tracklet.reduce((sum, o, k) => {
-    const [e, n] = tangentOffsetArcsec(places.raDeg[k]!, places.decDeg[k]!, o.raDeg, o.decDeg);
-    return sum + (e * e + n * n) / o.sigmaArcsec ** 2;
-  }, 0);
-  const g = observerGeometry(tracklet[0]!.observer, new Date(attributable.epochMs));
-  const rangeAndRate = (s: HeliocentricState) => {
-    const d = [s.x - g.position.x, s.y - g.position.y, s.z - g.position.z], w = [s.vx - g.velocity.x, s.vy - g.velocity.y, s.vz - g.velocity.z];
-    const rho = Math.hypot(d[0]!, d[1]!, d[2]!);
-    return { rho, rate: (d[0]! * w[0]! + d[1]! * w[1]! + d[2]! * w[2]!) / rho };
-  };
+  const state = truthStateAt(c, attributable.epochMs);
+  const chi = trackletChiSquareOf(c, state);
+  const rangeAndRate = rangeAndRateOf(c, attributable.epochMs);
   const t = rangeAndRate(state);
   const estimate = runEstimate(c);
   const members = estimate.virtualOrbits.map(rangeAndRate);

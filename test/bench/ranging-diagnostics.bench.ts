@@ -10,15 +10,12 @@
  *   - Gauss-Newton convergence: the median range and the least chi-square with 3 against 8
  *     evaluations per node.
  */
-import { ensemblePlaces, observerGeometry } from '../../src/orbit/ephemeris.js';
 import { fitAttributable } from '../../src/orbit/estimation/attributable.js';
 import { chiSquareAt999 } from '../../src/orbit/estimation/estimate.js';
 import { prepareObservations } from '../../src/orbit/estimation/observations.js';
 import { systematicRanging, type RangingResult } from '../../src/orbit/estimation/ranging.js';
-import { ttFromUtc } from '../../src/orbit/time.js';
-import { REFERENCE_POPULATIONS, referenceCases, referenceTruthStates } from '../reference/cases.js';
-import { runEstimate, tangentOffsetArcsec, trackletOf } from '../orbit/estimation/reference-scorer.js';
-import { ttDaysOfUtc } from '../reference/reference-time.js';
+import { REFERENCE_POPULATIONS, referenceCases } from '../reference/cases.js';
+import { rangeAndRateOf, runEstimate, trackletChiSquareOf, trackletOf, truthStateAt } from '../orbit/estimation/reference-scorer.js';
 
 const perPopulation = Number(process.argv[2] ?? 20);
 const firstSeed = Number(process.argv[3] ?? 5001);
@@ -44,24 +41,15 @@ for (const population of REFERENCE_POPULATIONS) {
     const tracklet = trackletOf(c);
     const observations = prepareObservations(tracklet);
     const attributable = fitAttributable(observations, { leaveOneOut: false });
-    const [truth] = referenceTruthStates(c.population, Number(c.id.split('-')[1]), [ttDaysOfUtc(attributable.epochMs)]);
-    const state = { tt: ttFromUtc(new Date(attributable.epochMs)), x: truth![0]!, y: truth![1]!, z: truth![2]!, vx: truth![3]!, vy: truth![4]!, vz: truth![5]! };
-    const places = ensemblePlaces([state], tracklet[0]!.observer, tracklet.map((o) => new Date(o.t)));
-    const chi = tracklet.reduce((sum, o, k) => {
-      const [e, n] = tangentOffsetArcsec(places.raDeg[k]!, places.decDeg[k]!, o.raDeg, o.decDeg);
-      return sum + (e * e + n * n) / o.sigmaArcsec ** 2;
-    }, 0);
+    const truth = truthStateAt(c, attributable.epochMs);
+    const chi = trackletChiSquareOf(c, truth);
     chiRatios.push(chi / (2 * tracklet.length));
     if (chi > (CHI2_99[2 * tracklet.length] ?? chiSquareAt999(2 * tracklet.length))) chiHigh++;
     const flaggedByLine = fitAttributable(observations).used.filter((u) => !u).length;
     lineFlags += flaggedByLine;
     if (flaggedByLine > 0) lineCases++;
     orbitFlags += runEstimate(c, { members: 200 }).summary.residuals.filter((r) => r.outlier).length;
-    const g = observerGeometry(tracklet[0]!.observer, new Date(attributable.epochMs));
-    const d = [truth![0]! - g.position.x, truth![1]! - g.position.y, truth![2]! - g.position.z];
-    const w = [truth![3]! - g.velocity.x, truth![4]! - g.velocity.y, truth![5]! - g.velocity.z];
-    const rho = Math.hypot(d[0]!, d[1]!, d[2]!);
-    const rhoDot = (d[0]! * w[0]! + d[1]! * w[1]! + d[2]! * w[2]!) / rho;
+    const { rho, rate: rhoDot } = rangeAndRateOf(c, attributable.epochMs)(truth);
     const r3 = systematicRanging(observations, attributable);
     const r8 = systematicRanging(observations, attributable, { evaluations: 8 });
     if (r3.nodes.some((n) => Math.abs(Math.log(rho / n.rangeAu)) <= n.logRangeWidth / 2 && Math.abs(rhoDot - n.rangeRateAuPerDay) <= n.rateWidth / 2)) inside++;

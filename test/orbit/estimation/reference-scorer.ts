@@ -7,10 +7,14 @@
  * file's own formulas.
  */
 import type { GeodeticLocation } from '../../../src/config/schema.js';
+import type { HeliocentricState } from '../../../src/orbit/elements.js';
+import { ensemblePlaces, observerGeometry } from '../../../src/orbit/ephemeris.js';
+import { ttFromUtc } from '../../../src/orbit/time.js';
 import { estimateObject, type ShortArcEstimate } from '../../../src/orbit/estimation/estimate.js';
 import type { RangingOptions } from '../../../src/orbit/estimation/ranging.js';
 import type { TrackletObservation } from '../../../src/domain/tracklet.js';
-import { REFERENCE_FOLLOW_UP_SITE, REFERENCE_HORIZONS_H, REFERENCE_SURVEY_SITE, type ReferenceCase, type ReferencePopulation } from '../../reference/cases.js';
+import { REFERENCE_FOLLOW_UP_SITE, REFERENCE_HORIZONS_H, REFERENCE_SURVEY_SITE, referenceTruthStates, type ReferenceCase, type ReferencePopulation } from '../../reference/cases.js';
+import { ttDaysOfUtc } from '../../reference/reference-time.js';
 import { linearExtrapolation, linearNoiseFloor, separationArcsec, sigmaDistance, tangentOffsetArcsec } from '../../reference/sky-geometry.js';
 
 export { linearExtrapolation, separationArcsec, sigmaDistance, tangentOffsetArcsec };
@@ -56,6 +60,32 @@ const asLocation = (s: { latDeg: number; lonDeg: number; heightM: number }): Geo
 
 export function trackletOf(c: ReferenceCase): TrackletObservation[] {
   return c.observations.map((o) => ({ t: o.t, raDeg: o.raDeg, decDeg: o.decDeg, sigmaArcsec: o.sigmaArcsec, mag: o.mag, band: o.band, observer: asLocation(o.site) }));
+}
+
+/** The truth's heliocentric state (EQJ, au, au/day) at a UTC instant (ms), from the reference's own integration, as the project's state type. */
+export function truthStateAt(c: ReferenceCase, epochMs: number): HeliocentricState {
+  const [s] = referenceTruthStates(c.population, Number(c.id.split('-')[1]), [ttDaysOfUtc(epochMs)]);
+  return { tt: ttFromUtc(new Date(epochMs)), x: s![0]!, y: s![1]!, z: s![2]!, vx: s![3]!, vy: s![4]!, vz: s![5]! };
+}
+
+/** Chi-square of a state against the case's tracklet: its places by the project's ephemeris from the tracklet's site, offsets over the stated sigma. */
+export function trackletChiSquareOf(c: ReferenceCase, state: HeliocentricState): number {
+  const tracklet = trackletOf(c);
+  const places = ensemblePlaces([state], tracklet[0]!.observer, tracklet.map((o) => new Date(o.t)));
+  return tracklet.reduce((sum, o, k) => {
+    const [e, n] = tangentOffsetArcsec(places.raDeg[k]!, places.decDeg[k]!, o.raDeg, o.decDeg);
+    return sum + (e * e + n * n) / o.sigmaArcsec ** 2;
+  }, 0);
+}
+
+/** A state's topocentric range (au) and range rate (au/day) from the tracklet's site at a UTC instant (ms). */
+export function rangeAndRateOf(c: ReferenceCase, epochMs: number): (s: HeliocentricState) => { rho: number; rate: number } {
+  const g = observerGeometry(asLocation(c.observations[0]!.site), new Date(epochMs));
+  return (s) => {
+    const d = [s.x - g.position.x, s.y - g.position.y, s.z - g.position.z], w = [s.vx - g.velocity.x, s.vy - g.velocity.y, s.vz - g.velocity.z];
+    const rho = Math.hypot(d[0]!, d[1]!, d[2]!);
+    return { rho, rate: (d[0]! * w[0]! + d[1]! * w[1]! + d[2]! * w[2]!) / rho };
+  };
 }
 
 /** The truth's range at an epoch inside the tracklet, linear between the observation times. */
