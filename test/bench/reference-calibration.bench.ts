@@ -55,6 +55,13 @@ function casesOf(population: ReferencePopulation, perPopulation: number, firstSe
   return cases;
 }
 
+/** The lowest effective sample size and its cases (the three lowest). */
+function lowestSampled(scored: readonly ScoredCase[]): string {
+  const sampled = scored.filter((s) => s.effectiveSampleSize !== null).sort((a, b) => a.effectiveSampleSize! - b.effectiveSampleSize!);
+  if (sampled.length === 0) return 'none';
+  return `${sampled[0]!.effectiveSampleSize!.toFixed(0)} (${sampled.slice(0, 3).map((s) => `${s.id} ${s.effectiveSampleSize!.toFixed(0)}`).join(', ')})`;
+}
+
 /** Whether a set of scored cases meets each cell of the bar. */
 function barCells(scored: readonly ScoredCase[]): Record<'coverage' | 'range' | 'sharpness' | 'nominalVsLinear' | 'magnitudes', boolean> {
   const figures = REFERENCE_HORIZONS_H.map((h) => horizonFigures(scored, h));
@@ -116,7 +123,7 @@ for (const population of REFERENCE_POPULATIONS.filter((p) => !only || only.inclu
   console.log(
     `range inside 5-95 %: ${pct(range)}; +24 h nominal / linear ${nominalOverLinear.toFixed(2)} (floor / linear ${floorOverLinear.toFixed(2)}); ` +
       `time per case (estimate + 12 rows) median ${median(scored.map((s) => s.milliseconds)).toFixed(0)} ms, max ${Math.max(...scored.map((s) => s.milliseconds)).toFixed(0)} ms; ` +
-      `effective sample size median ${median(scored.map((s) => s.effectiveSampleSize ?? Number.NaN)).toFixed(0)}, lowest ${Math.min(...scored.map((s) => s.effectiveSampleSize ?? Infinity)).toFixed(0)} (of 2000 proposals); ` +
+      `effective sample size median ${median(scored.map((s) => s.effectiveSampleSize ?? Number.NaN)).toFixed(0)}, lowest ${lowestSampled(scored)} (of 2000 proposals), ${scored.filter((s) => (s.effectiveSampleSize ?? Infinity) < 100).length} cases below 100; ` +
       `positions flagged as outliers ${scored.reduce((n, s) => n + s.outliers, 0)} in ${scored.filter((s) => s.outliers > 0).length} cases`,
   );
   const verdict = [

@@ -61,10 +61,11 @@ export const DEFAULT_MEMBERS = 1000;
 /**
  * The estimator's version: raised whenever the same inputs give another
  * estimate (2: the encounter window of the range prior went from 15 to 10
- * days), so that an estimate kept under an older estimator is not reused
+ * days; 3: proposals shaped like the encounter component's peak in
+ * range-rate, and that peak's mass in a cell integrated in asinh), so that an estimate kept under an older estimator is not reused
  * (estimateKey in src/planning/reuse.ts).
  */
-export const ESTIMATOR_VERSION = 2;
+export const ESTIMATOR_VERSION = 3;
 export const CLOSE_APPROACH_WINDOW_DAYS = 10;
 /** Median minimum distance below which `closeApproach` is set, au (contract: about 20 lunar distances). */
 export const CLOSE_APPROACH_AU = 0.05;

@@ -385,8 +385,12 @@ function logAdd(a: number, b: number): number {
  */
 interface PriorModel {
   readonly kind: RangePriorKind;
+  /** The encounter component's window on the time to the closest approach, days. */
+  readonly windowDays: number;
   logCell(params: readonly number[], g: GridNode): number;
   logDensity(params: readonly number[], rho: number, rate: number): number;
+  /** The encounter component's share of the prior's mass in a cell (0 without that component). */
+  encounterShare(params: readonly number[], g: GridNode): number;
 }
 
 /**
@@ -423,7 +427,7 @@ const KM_S_IN_AU_PER_DAY = SECONDS_PER_DAY / KM_PER_AU;
  * The cell integrals only steer the grid's refinement and the proposals; the
  * virtual orbits are weighted by the density at their own points.
  */
-const ENCOUNTER_RATE_STEPS = 4;
+const ENCOUNTER_RATE_STEPS = 16;
 
 /** Soft window: about 1 inside [lo, hi], falling as the fourth power outside. */
 function softWindow(x: number, lo: number, hi: number): number {
@@ -442,7 +446,7 @@ function relativeVelocityParts(ctx: Context, params: readonly number[], rho: num
 }
 
 /** The encounter component's density per d(ln rho) d(rhoDot) (unnormalised), from the parts of the relative velocity. */
-function encounterDensity(rho: number, rate: number, d: number, c: number, windowDays: number): number {
+export function encounterDensity(rho: number, rate: number, d: number, c: number, windowDays: number): number {
   const radial = rate + d;
   const v2 = radial * radial + c * c;
   const v = Math.sqrt(v2);
@@ -464,15 +468,60 @@ function encounterLogDensity(ctx: Context, params: readonly number[], rho: numbe
   return Math.log(encounterDensity(rho, rate, d, c, windowDays));
 }
 
-/** ln of the encounter component's integral over a node's cell (midpoint rule: PRIOR_CELL_POINTS in ln rho, ENCOUNTER_RATE_STEPS in rhoDot). */
+/**
+ * Half-width in range-rate (au/day) of the encounter density's peak at one
+ * range. In rhoDot the density is a Lorentzian 1 / (radial^2 + c^2) centred
+ * on radial = rhoDot + d = 0, cut by the window on the time to the closest
+ * approach |tau| = rho |radial| / v^2, which leaves |radial| below about
+ * window x c^2 / rho near the peak. For a slow object far away (0.3 au at
+ * 1.4 km/s) that cut is some 50 times narrower than c, and far narrower than
+ * a cell. The two scales are combined as 1 / h^2 = 1 / c^2 + 1 / s^2.
+ */
+function encounterPeakWidth(rho: number, c: number, windowDays: number): number {
+  const s = (windowDays * c * c) / rho;
+  return 1 / Math.sqrt(1 / (c * c) + 1 / (s * s));
+}
+
+/**
+ * Bounds of the rate interval [lo, hi] in w = asinh((rhoDot + d) / h), h the
+ * peak's half-width (encounterPeakWidth), with d(rhoDot) = sqrt(radial^2 + h^2) dw.
+ * In w the peak is about one unit wide and the tails, which fall as a power of
+ * |radial| and may rise again where fast approaches enter the window, spread
+ * over ln |radial|; so a midpoint rule in w follows a peak far narrower than
+ * its cell as well as the tails, and a uniform draw in w is a proposal with a
+ * peak like the density's and tails (1 / |radial|) heavier than its.
+ */
+function peakBounds(lo: number, hi: number, d: number, h: number): { wLo: number; wHi: number } {
+  return { wLo: Math.asinh((lo + d) / h), wHi: Math.asinh((hi + d) / h) };
+}
+
+/**
+ * The encounter density (unnormalised, per d(ln rho) d(rhoDot)) integrated
+ * over rhoDot from lo to hi at one range, by the midpoint rule with `steps`
+ * points in w (peakBounds). d and c as in relativeVelocityParts; rates in au/day.
+ */
+export function encounterRateIntegral(rho: number, lo: number, hi: number, d: number, c: number, windowDays: number, steps = ENCOUNTER_RATE_STEPS): number {
+  if (!(c > 0)) return 0;
+  const h = encounterPeakWidth(rho, c, windowDays);
+  const { wLo, wHi } = peakBounds(lo, hi, d, h);
+  const dw = (wHi - wLo) / steps;
+  let total = 0;
+  for (let b = 0; b < steps; b++) {
+    const radial = h * Math.sinh(wLo + (b + 0.5) * dw);
+    total += encounterDensity(rho, radial - d, d, c, windowDays) * Math.hypot(radial, h) * dw;
+  }
+  return total;
+}
+
+/** ln of the encounter component's integral over a node's cell: midpoint rule in ln rho (PRIOR_CELL_POINTS) and encounterRateIntegral in rhoDot. */
 function encounterLogCell(ctx: Context, params: readonly number[], g: GridNode, windowDays: number): number {
   let total = 0;
   for (let a = 0; a < PRIOR_CELL_POINTS; a++) {
     const rho = g.rho * Math.exp(((a + 0.5) / PRIOR_CELL_POINTS - 0.5) * g.logWidth);
     const { d, c } = relativeVelocityParts(ctx, params, rho);
-    for (let b = 0; b < ENCOUNTER_RATE_STEPS; b++) total += encounterDensity(rho, g.rate + ((b + 0.5) / ENCOUNTER_RATE_STEPS - 0.5) * g.rateWidth, d, c, windowDays);
+    total += encounterRateIntegral(rho, g.rate - g.rateWidth / 2, g.rate + g.rateWidth / 2, d, c, windowDays);
   }
-  return Math.log(total / (PRIOR_CELL_POINTS * ENCOUNTER_RATE_STEPS)) + Math.log(g.logWidth * g.rateWidth);
+  return Math.log(total / PRIOR_CELL_POINTS) + Math.log(g.logWidth);
 }
 
 function priorModel(ctx: Context, kind: RangePriorKind, k: number, encounterLogWeight: number, windowDays: number): PriorModel {
@@ -483,6 +532,7 @@ function priorModel(ctx: Context, kind: RangePriorKind, k: number, encounterLogW
   const logPopDensity = (params: readonly number[], rho: number, rate: number): number => populationLogPrior(stateOf(ctx, params, rho, rate), ctx.reference.position, rho, ctx.meanV) + Math.log(rho);
   return {
     kind,
+    windowDays,
     logCell(params, g) {
       if (kind === 'powerLaw') return (k + 1) * Math.log(g.rho) + Math.log(g.logWidth * g.rateWidth);
       if (kind === 'population') return populationLogCell(ctx, params, g);
@@ -495,6 +545,13 @@ function priorModel(ctx: Context, kind: RangePriorKind, k: number, encounterLogW
       if (kind === 'population') return logPopDensity(params, rho, rate);
       if (kind === 'encounter') return encounterLogDensity(ctx, params, rho, rate, windowDays);
       return logAdd(logPopDensity(params, rho, rate), encounterLogWeight + encounterLogDensity(ctx, params, rho, rate, windowDays));
+    },
+    encounterShare(params, g) {
+      if (kind === 'encounter') return 1;
+      if (kind !== 'mixture') return 0;
+      const encounter = encounterLogWeight + encounterLogCell(ctx, params, g, windowDays);
+      const share = Math.exp(encounter - logAdd(populationLogCell(ctx, params, g), encounter));
+      return Number.isFinite(share) ? share : 0;
     },
   };
 }
@@ -604,6 +661,14 @@ export function systematicRanging(observations: readonly PreparedObservation[], 
 const PROPOSALS_PER_MEMBER = 2;
 /** Most proposals one sampling may ask for (each is a small orbit fit). */
 const MAX_PROPOSALS = 20_000;
+/**
+ * Bounds on the share of a cell's proposals drawn from the encounter
+ * component's peak in range-rate (peakBounds) rather than
+ * uniformly: the share is that component's part of the cell's prior mass,
+ * kept inside these bounds so that neither shape is ever left out
+ * (defensive importance sampling, Hesterberg 1995, Technometrics 37, 185).
+ */
+const PEAK_SHARE = { min: 0.1, max: 0.9 } as const;
 /** Gauss-Newton evaluations for a proposal's angles, started from its cell's fitted node (at most half a cell away). */
 const PROPOSAL_EVALUATIONS = 2;
 
@@ -633,22 +698,37 @@ function sampleInsideCells(
   random: RandomSource,
 ): { members: VirtualOrbit[]; effectiveSampleSize: number; proposals: number } {
   const cells = systematicResample(nodes.map((n) => n.weight), proposalCount, random.uniform());
+  // Each cell used: the share of its proposals drawn from the encounter peak (the rest uniform), kept between the defensive bounds.
+  const peakShare = new Map<number, number>();
+  for (const j of cells) {
+    if (peakShare.has(j)) continue;
+    const n = nodes[j]!;
+    const share = model.encounterShare(n.params, { rho: n.rangeAu, rate: n.rangeRateAuPerDay, logWidth: n.logRangeWidth, rateWidth: n.rateWidth });
+    peakShare.set(j, share > 0 ? Math.min(Math.max(share, PEAK_SHARE.min), PEAK_SHARE.max) : 0);
+  }
   const points = cells.map((j) => {
     const n = nodes[j]!;
-    return {
-      rho: n.rangeAu * Math.exp((random.uniform() - 0.5) * n.logRangeWidth),
-      rate: n.rangeRateAuPerDay + (random.uniform() - 0.5) * n.rateWidth,
-    };
+    const rho = n.rangeAu * Math.exp((random.uniform() - 0.5) * n.logRangeWidth);
+    const lo = n.rangeRateAuPerDay - n.rateWidth / 2, hi = n.rangeRateAuPerDay + n.rateWidth / 2;
+    const beta = peakShare.get(j)!;
+    const pick = random.uniform(), at = random.uniform();
+    const { d, c } = beta > 0 ? relativeVelocityParts(ctx, n.params, rho) : { d: 0, c: 0 };
+    const h = c > 0 ? encounterPeakWidth(rho, c, model.windowDays) : 0;
+    const bounds = h > 0 ? peakBounds(lo, hi, d, h) : null;
+    const drawn = bounds !== null && pick < beta ? h * Math.sinh(bounds.wLo + at * (bounds.wHi - bounds.wLo)) - d : lo + at * n.rateWidth;
+    const rate = Math.min(Math.max(drawn, lo), hi);
+    // Density per d(ln rho) d(rhoDot) of this proposal: the cell's weight over its ln rho width, times the rate mixture.
+    const peaked = bounds !== null && bounds.wHi > bounds.wLo ? 1 / ((bounds.wHi - bounds.wLo) * Math.hypot(rate + d, h)) : 0;
+    const rateDensity = bounds !== null ? (1 - beta) / n.rateWidth + beta * peaked : 1 / n.rateWidth;
+    return { rho, rate, logProposal: Math.log(n.weight) - Math.log(n.logRangeWidth) + Math.log(rateDensity) };
   });
   const fitted = fitNodes(ctx, points, PROPOSAL_EVALUATIONS + 1, { start: cells.map((j) => nodes[j]!.params) });
   const logW = points.map((p, i) => {
-    const n = nodes[cells[i]!]!;
     const chi = fitted.chiSquare[i]!;
     if (!Number.isFinite(chi)) return -Infinity;
     const logTarget = -(chi - chiOffset) / 2 + model.logDensity(fitted.params[i]!, p.rho, p.rate);
-    // The node's weight was exp(-(chi_node - offset)/2) x prior cell mass, normalised; its density over the cell is that / area.
-    const logProposal = Math.log(n.weight) - Math.log(n.logRangeWidth * n.rateWidth);
-    return logTarget - logProposal;
+    // The node's weight was exp(-(chi_node - offset)/2) x prior cell mass, normalised; the proposal spreads it over the cell.
+    return logTarget - p.logProposal;
   });
   const top = Math.max(...logW);
   if (!Number.isFinite(top)) throw new EstimationFailedError('no sampled orbit inside the ranging cells fits the tracklet');
