@@ -62,10 +62,11 @@ export const DEFAULT_MEMBERS = 1000;
  * The estimator's version: raised whenever the same inputs give another
  * estimate (2: the encounter window of the range prior went from 15 to 10
  * days; 3: proposals shaped like the encounter component's peak in
- * range-rate, and that peak's mass in a cell integrated in asinh), so that an estimate kept under an older estimator is not reused
+ * range-rate, and that peak's mass in a cell integrated in asinh; 4: a
+ * second round of proposals when the first's effective sample size is low), so that an estimate kept under an older estimator is not reused
  * (estimateKey in src/planning/reuse.ts).
  */
-export const ESTIMATOR_VERSION = 3;
+export const ESTIMATOR_VERSION = 4;
 export const CLOSE_APPROACH_WINDOW_DAYS = 10;
 /** Median minimum distance below which `closeApproach` is set, au (contract: about 20 lunar distances). */
 export const CLOSE_APPROACH_AU = 0.05;
@@ -627,7 +628,7 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
     const centre = drawn[robustCentreIndex(rangeAu.map(Math.log), Float64Array.from(drawn.map((d) => d.rangeRateAuPerDay)))]!;
     nominal = ranging.stateOf(centre.fittedParams, centre.rangeAu, centre.rangeRateAuPerDay);
     effectiveSampleSize = sampled.effectiveSampleSize;
-    notes.push(`virtual orbits sampled inside the ranging cells: ${sampled.proposals} proposals, effective sample size ${Math.round(sampled.effectiveSampleSize)}`);
+    notes.push(`virtual orbits sampled inside the ranging cells: ${sampled.proposals} proposals${sampled.rounds === 2 ? ' in two rounds (the second around the heaviest of the first, whose effective sample size was low)' : ''}, effective sample size ${Math.round(sampled.effectiveSampleSize)}`);
     if (blockNominalFits && blockDrawn !== null) {
       // The block's place as the nominal, moved to the ranging epoch so it propagates with the cloud.
       const target = epochTt;

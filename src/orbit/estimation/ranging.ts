@@ -120,6 +120,14 @@ export interface RangingNode {
   weight: number;
 }
 
+/** The virtual orbits drawn from the ranging posterior, with the importance sampling's effective sample size, its proposals and rounds (2 when a second round was drawn around the heaviest proposals). */
+export interface SampledOrbits {
+  readonly members: VirtualOrbit[];
+  readonly effectiveSampleSize: number;
+  readonly proposals: number;
+  readonly rounds: 1 | 2;
+}
+
 export interface RangingResult {
   readonly epochTt: number;
   readonly nodes: readonly RangingNode[];
@@ -137,7 +145,7 @@ export interface RangingResult {
    * sampling inside the cells, sampleInsideCells), with the attributable's
    * angle covariance; reports the proposals' effective sample size.
    */
-  readonly sample: (covariance: readonly (readonly number[])[], count: number, random: RandomSource) => { members: VirtualOrbit[]; effectiveSampleSize: number; proposals: number };
+  readonly sample: (covariance: readonly (readonly number[])[], count: number, random: RandomSource) => SampledOrbits;
 }
 
 /** A virtual orbit drawn from the ranging posterior. */
@@ -677,15 +685,18 @@ const PROPOSAL_EVALUATIONS = 2;
  * importance sampling inside the grid's cells (e.g. Robert & Casella 2004,
  * Monte Carlo Statistical Methods, 2nd ed., ch. 3; in ranging, the
  * continuous-sampling idea of Muinonen et al. 2006, CMDA 94, 305):
- * proposals pick a cell with its posterior weight and a point uniform in the
- * cell in (ln rho, rhoDot); the point's angles are fitted by Gauss-Newton
- * from the cell's node, and its weight is target / proposal =
- * exp(-chi^2/2) x prior density at the point / (the cell's node weight /
- * the cell's area). `count` members are then drawn by systematic resampling
- * of those weights (Kitagawa 1996, J. Comput. Graph. Stat. 5, 1), each
- * with the attributable's Gaussian angle noise (its covariance, the angles'
- * uncertainty at fixed range and range-rate) added to its fitted angles.
- * The effective sample size (sum w)^2 / sum w^2 of the proposals is returned.
+ * proposals pick a cell with its posterior weight and a point in the cell
+ * (cellProposal); the point's angles are fitted by Gauss-Newton from the
+ * cell's node, and its weight is target / proposal = exp(-chi^2/2) x prior
+ * density at the point / the proposal's density there. When the effective
+ * sample size is below REFINE_BELOW of the proposals, as many again are drawn
+ * from Gaussian kernels on the heaviest (kernelsAround) and every point is
+ * weighted against the mean of the two proposals. `count` members are then
+ * drawn by systematic resampling of the weights (Kitagawa 1996, J. Comput.
+ * Graph. Stat. 5, 1), each with the attributable's Gaussian angle noise (its
+ * covariance, the angles' uncertainty at fixed range and range-rate) added to
+ * its fitted angles. The effective sample size (sum w)^2 / sum w^2 of all the
+ * proposals is returned.
  */
 function sampleInsideCells(
   ctx: Context,
@@ -696,40 +707,37 @@ function sampleInsideCells(
   count: number,
   proposalCount: number,
   random: RandomSource,
-): { members: VirtualOrbit[]; effectiveSampleSize: number; proposals: number } {
+): SampledOrbits {
   const cells = systematicResample(nodes.map((n) => n.weight), proposalCount, random.uniform());
-  // Each cell used: the share of its proposals drawn from the encounter peak (the rest uniform), kept between the defensive bounds.
-  const peakShare = new Map<number, number>();
-  for (const j of cells) {
-    if (peakShare.has(j)) continue;
-    const n = nodes[j]!;
-    const share = model.encounterShare(n.params, { rho: n.rangeAu, rate: n.rangeRateAuPerDay, logWidth: n.logRangeWidth, rateWidth: n.rateWidth });
-    peakShare.set(j, share > 0 ? Math.min(Math.max(share, PEAK_SHARE.min), PEAK_SHARE.max) : 0);
+  const inCells = cellProposal(ctx, model, nodes);
+  const first = cells.map((j) => inCells.draw(j, random));
+  const firstFit = fitNodes(ctx, first, PROPOSAL_EVALUATIONS + 1, { start: cells.map((j) => nodes[j]!.params) });
+  const logTargetOf = (p: { rho: number; rate: number }, params: readonly number[], chi: number): number =>
+    Number.isFinite(chi) ? -(chi - chiOffset) / 2 + model.logDensity(params, p.rho, p.rate) : -Infinity;
+  let points: { rho: number; rate: number }[] = first;
+  let fittedParams: number[][] = firstFit.params;
+  let logTarget = first.map((p, i) => logTargetOf(p, firstFit.params[i]!, firstFit.chiSquare[i]!));
+  let logW = logTarget.map((l, i) => l - first[i]!.logProposal);
+  if (effectiveSize(logW) < REFINE_BELOW * proposalCount) {
+    // A second round around the heavy proposals; both rounds weighted against their mixture.
+    const kernels = kernelsAround(first, cells.map((j) => nodes[j]!), logW, firstFit.params);
+    const centres = systematicResample(kernels.map((k) => k.weight), proposalCount, random.uniform());
+    const second = centres.map((k) => {
+      const kernel = kernels[k]!;
+      return { rho: Math.exp(kernel.logRho + kernel.sdLogRho * random.normal()), rate: kernel.rate + kernel.sdRate * random.normal() };
+    });
+    const secondFit = fitNodes(ctx, second, PROPOSAL_EVALUATIONS + 1, { start: centres.map((k) => kernels[k]!.params) });
+    const secondTarget = second.map((p, i) => logTargetOf(p, secondFit.params[i]!, secondFit.chiSquare[i]!));
+    points = [...first, ...second];
+    fittedParams = [...firstFit.params, ...secondFit.params];
+    logTarget = [...logTarget, ...secondTarget];
+    const logFirst = [...first.map((p) => p.logProposal), ...second.map((p) => inCells.logDensity(p.rho, p.rate))];
+    logW = points.map((p, i) => {
+      const logSecond = kernelLogDensity(kernels, p.rho, p.rate);
+      // Deterministic mixture: equal numbers from each round, so the mixture is their mean.
+      return logTarget[i]! - (logAdd(logFirst[i]!, logSecond) - Math.LN2);
+    });
   }
-  const points = cells.map((j) => {
-    const n = nodes[j]!;
-    const rho = n.rangeAu * Math.exp((random.uniform() - 0.5) * n.logRangeWidth);
-    const lo = n.rangeRateAuPerDay - n.rateWidth / 2, hi = n.rangeRateAuPerDay + n.rateWidth / 2;
-    const beta = peakShare.get(j)!;
-    const pick = random.uniform(), at = random.uniform();
-    const { d, c } = beta > 0 ? relativeVelocityParts(ctx, n.params, rho) : { d: 0, c: 0 };
-    const h = c > 0 ? encounterPeakWidth(rho, c, model.windowDays) : 0;
-    const bounds = h > 0 ? peakBounds(lo, hi, d, h) : null;
-    const drawn = bounds !== null && pick < beta ? h * Math.sinh(bounds.wLo + at * (bounds.wHi - bounds.wLo)) - d : lo + at * n.rateWidth;
-    const rate = Math.min(Math.max(drawn, lo), hi);
-    // Density per d(ln rho) d(rhoDot) of this proposal: the cell's weight over its ln rho width, times the rate mixture.
-    const peaked = bounds !== null && bounds.wHi > bounds.wLo ? 1 / ((bounds.wHi - bounds.wLo) * Math.hypot(rate + d, h)) : 0;
-    const rateDensity = bounds !== null ? (1 - beta) / n.rateWidth + beta * peaked : 1 / n.rateWidth;
-    return { rho, rate, logProposal: Math.log(n.weight) - Math.log(n.logRangeWidth) + Math.log(rateDensity) };
-  });
-  const fitted = fitNodes(ctx, points, PROPOSAL_EVALUATIONS + 1, { start: cells.map((j) => nodes[j]!.params) });
-  const logW = points.map((p, i) => {
-    const chi = fitted.chiSquare[i]!;
-    if (!Number.isFinite(chi)) return -Infinity;
-    const logTarget = -(chi - chiOffset) / 2 + model.logDensity(fitted.params[i]!, p.rho, p.rate);
-    // The node's weight was exp(-(chi_node - offset)/2) x prior cell mass, normalised; the proposal spreads it over the cell.
-    return logTarget - p.logProposal;
-  });
   const top = Math.max(...logW);
   if (!Number.isFinite(top)) throw new EstimationFailedError('no sampled orbit inside the ranging cells fits the tracklet');
   const w = logW.map((l) => (Number.isFinite(l) ? Math.exp(l - top) : 0));
@@ -739,7 +747,7 @@ function sampleInsideCells(
   const chosen = systematicResample(w, count, random.uniform());
   const members = chosen.map((i): VirtualOrbit => {
     const z = [random.normal(), random.normal(), random.normal(), random.normal()];
-    const base = fitted.params[i]!;
+    const base = fittedParams[i]!;
     const params = base.map((p, a) => p + chol[a]!.reduce((s, l, b) => s + l * z[b]!, 0));
     const { rho, rate } = points[i]!;
     return { state: stateOf(ctx, params, rho, rate), rangeAu: rho, rangeRateAuPerDay: rate, fittedParams: base };
@@ -749,7 +757,138 @@ function sampleInsideCells(
     const s = Math.floor(random.uniform() * (m + 1));
     [members[m], members[s]] = [members[s]!, members[m]!];
   }
-  return { members, effectiveSampleSize: (sum * sum) / sum2, proposals: proposalCount };
+  return { members, effectiveSampleSize: (sum * sum) / sum2, proposals: points.length, rounds: points.length > proposalCount ? 2 : 1 };
+}
+
+/**
+ * The proposal inside the cells: a cell by its node's weight, ln rho uniform
+ * in it, rhoDot uniform or, for the encounter component's share of the cell's
+ * prior mass (within PEAK_SHARE), uniform in w about that component's peak
+ * (peakBounds). `logDensity` is the proposal's density per d(ln rho) d(rhoDot)
+ * at any point (-Infinity outside every cell); rows of cells do not overlap,
+ * nor do the cells of a row.
+ */
+function cellProposal(
+  ctx: Context,
+  model: PriorModel,
+  nodes: readonly RangingNode[],
+): { draw: (j: number, random: RandomSource) => { rho: number; rate: number; logProposal: number }; logDensity: (rho: number, rate: number) => number } {
+  const shares = new Map<number, number>();
+  const shareOf = (j: number): number => {
+    let share = shares.get(j);
+    if (share === undefined) {
+      const n = nodes[j]!;
+      const raw = model.encounterShare(n.params, { rho: n.rangeAu, rate: n.rangeRateAuPerDay, logWidth: n.logRangeWidth, rateWidth: n.rateWidth });
+      share = raw > 0 ? Math.min(Math.max(raw, PEAK_SHARE.min), PEAK_SHARE.max) : 0;
+      shares.set(j, share);
+    }
+    return share;
+  };
+  const peakOf = (j: number, rho: number): { d: number; h: number; wLo: number; wHi: number } | null => {
+    const n = nodes[j]!;
+    const { d, c } = relativeVelocityParts(ctx, n.params, rho);
+    const h = c > 0 ? encounterPeakWidth(rho, c, model.windowDays) : 0;
+    if (!(h > 0)) return null;
+    const { wLo, wHi } = peakBounds(n.rangeRateAuPerDay - n.rateWidth / 2, n.rangeRateAuPerDay + n.rateWidth / 2, d, h);
+    return wHi > wLo ? { d, h, wLo, wHi } : null;
+  };
+  const logDensityIn = (j: number, rho: number, rate: number): number => {
+    const n = nodes[j]!;
+    const beta = shareOf(j);
+    const peak = beta > 0 ? peakOf(j, rho) : null;
+    const rateDensity = peak !== null ? (1 - beta) / n.rateWidth + beta / ((peak.wHi - peak.wLo) * Math.hypot(rate + peak.d, peak.h)) : 1 / n.rateWidth;
+    return Math.log(n.weight) - Math.log(n.logRangeWidth) + Math.log(rateDensity);
+  };
+  return {
+    draw(j, random) {
+      const n = nodes[j]!;
+      const rho = n.rangeAu * Math.exp((random.uniform() - 0.5) * n.logRangeWidth);
+      const lo = n.rangeRateAuPerDay - n.rateWidth / 2, hi = n.rangeRateAuPerDay + n.rateWidth / 2;
+      const beta = shareOf(j);
+      const pick = random.uniform(), at = random.uniform();
+      const peak = beta > 0 ? peakOf(j, rho) : null;
+      const drawn = peak !== null && pick < beta ? peak.h * Math.sinh(peak.wLo + at * (peak.wHi - peak.wLo)) - peak.d : lo + at * n.rateWidth;
+      const rate = Math.min(Math.max(drawn, lo), hi);
+      return { rho, rate, logProposal: logDensityIn(j, rho, rate) };
+    },
+    logDensity(rho, rate) {
+      const logRho = Math.log(rho);
+      for (let j = 0; j < nodes.length; j++) {
+        const n = nodes[j]!;
+        if (n.weight > 0 && Math.abs(logRho - Math.log(n.rangeAu)) <= n.logRangeWidth / 2 && Math.abs(rate - n.rangeRateAuPerDay) <= n.rateWidth / 2) return logDensityIn(j, rho, rate);
+      }
+      return -Infinity;
+    },
+  };
+}
+
+/** (sum w)^2 / sum w^2 of weights given as logarithms. */
+function effectiveSize(logW: readonly number[]): number {
+  const top = Math.max(...logW);
+  if (!Number.isFinite(top)) return 0;
+  let sum = 0, sum2 = 0;
+  for (const l of logW) {
+    const w = Number.isFinite(l) ? Math.exp(l - top) : 0;
+    sum += w;
+    sum2 += w * w;
+  }
+  return (sum * sum) / sum2;
+}
+
+/**
+ * A second round of proposals is drawn when the first's effective sample size
+ * is below this fraction of its proposals: the posterior then has structure
+ * finer than the cells (a sharp edge of the population model), and a few
+ * proposals carry the weight.
+ */
+const REFINE_BELOW = 0.1;
+/** The second round's Gaussian kernels: standard deviations this fraction of the widths of the cell a heavy proposal came from. */
+const KERNEL_FRACTION = 0.25;
+/** Kernels are placed on the heaviest proposals holding all but this fraction of the weight. */
+const KERNEL_WEIGHT_LEFT_OUT = 1e-6;
+
+interface Kernel {
+  readonly logRho: number;
+  readonly rate: number;
+  readonly sdLogRho: number;
+  readonly sdRate: number;
+  readonly weight: number;
+  readonly params: readonly number[];
+}
+
+/**
+ * Gaussian kernels in (ln rho, rhoDot) on the first round's heaviest
+ * proposals, weighted by their importance weights: the second round of an
+ * adaptive importance sampling (population Monte Carlo, Cappe et al. 2004,
+ * J. Comput. Graph. Stat. 13, 907), whose points are weighted with the first
+ * round's against the mixture of both proposals (deterministic mixture
+ * weights, Owen & Zhou 2000, JASA 95, 135), so neither round's gaps bias the
+ * result.
+ */
+function kernelsAround(points: readonly { rho: number; rate: number }[], cellsOf: readonly RangingNode[], logW: readonly number[], params: readonly (readonly number[])[]): Kernel[] {
+  const top = Math.max(...logW);
+  const order = logW.map((l, i) => ({ w: Number.isFinite(l) ? Math.exp(l - top) : 0, i })).filter((x) => x.w > 0).sort((a, b) => b.w - a.w);
+  const total = order.reduce((sum, x) => sum + x.w, 0);
+  const kernels: Kernel[] = [];
+  let held = 0;
+  for (const { w, i } of order) {
+    if (held >= total * (1 - KERNEL_WEIGHT_LEFT_OUT)) break;
+    held += w;
+    const cell = cellsOf[i]!;
+    kernels.push({ logRho: Math.log(points[i]!.rho), rate: points[i]!.rate, sdLogRho: KERNEL_FRACTION * cell.logRangeWidth, sdRate: KERNEL_FRACTION * cell.rateWidth, weight: w, params: params[i]! });
+  }
+  return kernels.map((k) => ({ ...k, weight: k.weight / held }));
+}
+
+/** ln of the kernels' mixture density per d(ln rho) d(rhoDot) at a point. */
+function kernelLogDensity(kernels: readonly Kernel[], rho: number, rate: number): number {
+  const logRho = Math.log(rho);
+  let total = 0;
+  for (const k of kernels) {
+    const a = (logRho - k.logRho) / k.sdLogRho, b = (rate - k.rate) / k.sdRate;
+    total += (k.weight * Math.exp(-0.5 * (a * a + b * b))) / (2 * Math.PI * k.sdLogRho * k.sdRate);
+  }
+  return Math.log(total);
 }
 
 /** Sub-points per axis at which the population prior is averaged over a node's cell. */

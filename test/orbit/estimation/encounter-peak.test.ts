@@ -43,3 +43,18 @@ describe('the virtual orbits of a posterior with a narrow encounter peak', () =>
     expect(estimate.ranging!.effectiveSampleSize).toBeGreaterThan(200);
   });
 });
+
+describe('a posterior with structure finer than its cells', () => {
+  // An ordinary object 2.6 au away (reference case ordinary-21154): the population model's density changes steeply inside a cell near the main belt's edge.
+  const c = referenceCases('ordinary', 1, 21154)[0]!;
+  const estimate = () => estimateObject({ objectId: c.id, observations: trackletOf(c), now: new Date(c.lastObservationMs), members: 1000, seed: 1 });
+
+  it('is sampled in a second round around the heaviest proposals, which the notes say', () => {
+    expect(c.id).toBe('ordinary-21154');
+    expect(estimate().summary.notes.join(' ')).toContain('4000 proposals in two rounds');
+  });
+
+  it('then comes from many proposals (effective sample size above 500; it was 7 with one round)', () => {
+    expect(estimate().ranging!.effectiveSampleSize).toBeGreaterThan(500);
+  });
+});
