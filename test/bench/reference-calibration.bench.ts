@@ -123,7 +123,7 @@ for (const population of REFERENCE_POPULATIONS.filter((p) => !only || only.inclu
   console.log(
     `range inside 5-95 %: ${pct(range)}; +24 h nominal / linear ${nominalOverLinear.toFixed(2)} (floor / linear ${floorOverLinear.toFixed(2)}); ` +
       `time per case (estimate + 12 rows) median ${median(scored.map((s) => s.milliseconds)).toFixed(0)} ms, max ${Math.max(...scored.map((s) => s.milliseconds)).toFixed(0)} ms; ` +
-      `effective sample size median ${median(scored.map((s) => s.effectiveSampleSize ?? Number.NaN)).toFixed(0)}, lowest ${lowestSampled(scored)} (of 2000 proposals), ${scored.filter((s) => (s.effectiveSampleSize ?? Infinity) < 100).length} cases below 100; ` +
+      `effective sample size median ${median(scored.map((s) => s.effectiveSampleSize ?? Number.NaN)).toFixed(0)}, lowest ${lowestSampled(scored)} (of 2000 proposals; 4000 when a second round was drawn), ${scored.filter((s) => (s.effectiveSampleSize ?? Infinity) < 100).length} cases below 100; ` +
       `positions flagged as outliers ${scored.reduce((n, s) => n + s.outliers, 0)} in ${scored.filter((s) => s.outliers > 0).length} cases`,
   );
   const verdict = [

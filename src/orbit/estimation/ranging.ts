@@ -792,6 +792,12 @@ function cellProposal(
     const { wLo, wHi } = peakBounds(n.rangeRateAuPerDay - n.rateWidth / 2, n.rangeRateAuPerDay + n.rateWidth / 2, d, h);
     return wHi > wLo ? { d, h, wLo, wHi } : null;
   };
+  // Rows of cells (one range each) with the cells that carry weight, for finding the cell of a point.
+  const byRange = new Map<number, number[]>();
+  nodes.forEach((n, j) => {
+    if (n.weight > 0) byRange.set(n.rangeAu, [...(byRange.get(n.rangeAu) ?? []), j]);
+  });
+  const rows = [...byRange.entries()].map(([rangeAu, cells]) => ({ logRho: Math.log(rangeAu), halfWidth: nodes[cells[0]!]!.logRangeWidth / 2, cells }));
   const logDensityIn = (j: number, rho: number, rate: number): number => {
     const n = nodes[j]!;
     const beta = shareOf(j);
@@ -813,9 +819,12 @@ function cellProposal(
     },
     logDensity(rho, rate) {
       const logRho = Math.log(rho);
-      for (let j = 0; j < nodes.length; j++) {
-        const n = nodes[j]!;
-        if (n.weight > 0 && Math.abs(logRho - Math.log(n.rangeAu)) <= n.logRangeWidth / 2 && Math.abs(rate - n.rangeRateAuPerDay) <= n.rateWidth / 2) return logDensityIn(j, rho, rate);
+      for (const row of rows) {
+        if (Math.abs(logRho - row.logRho) > row.halfWidth) continue;
+        for (const j of row.cells) {
+          const n = nodes[j]!;
+          if (Math.abs(rate - n.rangeRateAuPerDay) <= n.rateWidth / 2) return logDensityIn(j, rho, rate);
+        }
       }
       return -Infinity;
     },
@@ -844,8 +853,9 @@ function effectiveSize(logW: readonly number[]): number {
 const REFINE_BELOW = 0.1;
 /** The second round's Gaussian kernels: standard deviations this fraction of the widths of the cell a heavy proposal came from. */
 const KERNEL_FRACTION = 0.25;
-/** Kernels are placed on the heaviest proposals holding all but this fraction of the weight. */
-const KERNEL_WEIGHT_LEFT_OUT = 1e-6;
+/** Kernels are placed on the heaviest proposals holding all but this fraction of the weight, at most MAX_KERNELS of them. */
+const KERNEL_WEIGHT_LEFT_OUT = 1e-3;
+const MAX_KERNELS = 500;
 
 interface Kernel {
   readonly logRho: number;
@@ -872,7 +882,7 @@ function kernelsAround(points: readonly { rho: number; rate: number }[], cellsOf
   const kernels: Kernel[] = [];
   let held = 0;
   for (const { w, i } of order) {
-    if (held >= total * (1 - KERNEL_WEIGHT_LEFT_OUT)) break;
+    if (held >= total * (1 - KERNEL_WEIGHT_LEFT_OUT) || kernels.length >= MAX_KERNELS) break;
     held += w;
     const cell = cellsOf[i]!;
     kernels.push({ logRho: Math.log(points[i]!.rho), rate: points[i]!.rate, sdLogRho: KERNEL_FRACTION * cell.logRangeWidth, sdRate: KERNEL_FRACTION * cell.rateWidth, weight: w, params: params[i]! });
