@@ -67,6 +67,12 @@ export const DEFAULT_MEMBERS = 1000;
  * (estimateKey in src/planning/reuse.ts).
  */
 export const ESTIMATOR_VERSION = 4;
+/**
+ * Below this effective sample size the estimate's notes warn that few
+ * distinct orbits carry the weight (the pooled reference cases all stay above
+ * 200 after the second round of proposals; docs/accuracy.md).
+ */
+export const FEW_ORBITS_BELOW = 50;
 export const CLOSE_APPROACH_WINDOW_DAYS = 10;
 /** Median minimum distance below which `closeApproach` is set, au (contract: about 20 lunar distances). */
 export const CLOSE_APPROACH_AU = 0.05;
@@ -629,6 +635,11 @@ export function estimateObject(input: EstimateInput): ShortArcEstimate {
     nominal = ranging.stateOf(centre.fittedParams, centre.rangeAu, centre.rangeRateAuPerDay);
     effectiveSampleSize = sampled.effectiveSampleSize;
     notes.push(`virtual orbits sampled inside the ranging cells: ${sampled.proposals} proposals${sampled.rounds === 2 ? ' in two rounds (the second around the heaviest of the first, whose effective sample size was low)' : ''}, effective sample size ${Math.round(sampled.effectiveSampleSize)}`);
+    if (effectiveSampleSize < FEW_ORBITS_BELOW) {
+      notes.push(
+        `only about ${Math.max(1, Math.round(effectiveSampleSize))} distinct orbits carry the virtual orbits' weight: the region's size is itself uncertain and may be too small; check that the positions belong to one object, or add positions`,
+      );
+    }
     if (blockNominalFits && blockDrawn !== null) {
       // The block's place as the nominal, moved to the ranging epoch so it propagates with the cloud.
       const target = epochTt;
