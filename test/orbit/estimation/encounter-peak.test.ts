@@ -1,16 +1,9 @@
 import { describe, expect, it } from 'vitest';
 import { estimateObject } from '../../../src/orbit/estimation/estimate.js';
-import { encounterDensity, encounterRateIntegral } from '../../../src/orbit/estimation/ranging.js';
+import { encounterRateIntegral } from '../../../src/orbit/estimation/ranging.js';
+import { ENCOUNTER_PEAK_CELLS, midpointInRate } from './encounter-peak-cells.js';
 import { referenceCases } from '../../reference/cases.js';
 import { trackletOf } from './reference-scorer.js';
-
-/** Brute force: the midpoint rule in range-rate itself with two million points (au/day). */
-function bruteForce(rho: number, lo: number, hi: number, d: number, c: number, windowDays: number): number {
-  const n = 2_000_000, width = (hi - lo) / n;
-  let total = 0;
-  for (let i = 0; i < n; i++) total += encounterDensity(rho, lo + (i + 0.5) * width, d, c, windowDays) * width;
-  return total;
-}
 
 /**
  * The encounter component's mass in a ranging cell is integrated over the
@@ -19,16 +12,9 @@ function bruteForce(rho: number, lo: number, hi: number, d: number, c: number, w
  * cells (the largest difference measured, 1.2 %, is the 1 au cell).
  */
 describe('the encounter component integrated over a range-rate cell', () => {
-  const cells = [
-    { name: 'a slow object 0.3 au away keeping pace with the Earth (a peak some 50 times narrower than the cell)', rho: 0.3, d: 0.000202, c: 0.00079, lo: -0.00185, hi: 0.00083 },
-    { name: 'a fast approach 0.02 au away', rho: 0.02, d: 0.001, c: 0.004, lo: -0.01, hi: -0.005 },
-    { name: 'a slow object 0.05 au away whose fast approaches enter the window again in the tails', rho: 0.05, d: -0.002, c: 0.0005, lo: -0.003, hi: 0.004 },
-    { name: 'an object 1 au away', rho: 1, d: 0.0001, c: 0.002, lo: -0.004, hi: 0.004 },
-    { name: 'an object 0.005 au away', rho: 0.005, d: 0.003, c: 0.01, lo: -0.02, hi: 0 },
-  ];
-  for (const cell of cells) {
+  for (const cell of ENCOUNTER_PEAK_CELLS) {
     it(`agrees with the brute-force integral within 1.5 % for ${cell.name}`, () => {
-      const exact = bruteForce(cell.rho, cell.lo, cell.hi, cell.d, cell.c, 10);
+      const exact = midpointInRate(cell, 10);
       expect(Math.abs(encounterRateIntegral(cell.rho, cell.lo, cell.hi, cell.d, cell.c, 10) / exact - 1)).toBeLessThan(0.015);
     });
   }
