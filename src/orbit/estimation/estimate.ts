@@ -63,7 +63,8 @@ export const DEFAULT_MEMBERS = 1000;
  * estimate (2: the encounter window of the range prior went from 15 to 10
  * days; 3: proposals shaped like the encounter component's peak in
  * range-rate, and that peak's mass in a cell integrated in asinh; 4: a
- * second round of proposals when the first's effective sample size is low), so that an estimate kept under an older estimator is not reused
+ * second round of proposals when the first's effective sample size is
+ * low), so that an estimate kept under an older estimator is not reused
  * (estimateKey in src/planning/reuse.ts).
  */
 export const ESTIMATOR_VERSION = 4;

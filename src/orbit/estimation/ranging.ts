@@ -116,6 +116,8 @@ export interface RangingNode {
   /** Fitted (xi0, eta0, xiDot, etaDot) in the attributable's frame, rad and rad/day. */
   readonly params: readonly number[];
   readonly chiSquare: number;
+  /** The encounter component's share of the prior's mass in the node's cell (0 without that component). */
+  readonly encounterShare: number;
   /** Normalised posterior weight (sums to 1 over the pass). */
   weight: number;
 }
@@ -395,10 +397,9 @@ interface PriorModel {
   readonly kind: RangePriorKind;
   /** The encounter component's window on the time to the closest approach, days. */
   readonly windowDays: number;
-  logCell(params: readonly number[], g: GridNode): number;
+  /** ln of the prior's mass in a cell, and the encounter component's share of it (0 without that component). */
+  cellMass(params: readonly number[], g: GridNode): { log: number; encounterShare: number };
   logDensity(params: readonly number[], rho: number, rate: number): number;
-  /** The encounter component's share of the prior's mass in a cell (0 without that component). */
-  encounterShare(params: readonly number[], g: GridNode): number;
 }
 
 /**
@@ -541,11 +542,14 @@ function priorModel(ctx: Context, kind: RangePriorKind, k: number, encounterLogW
   return {
     kind,
     windowDays,
-    logCell(params, g) {
-      if (kind === 'powerLaw') return (k + 1) * Math.log(g.rho) + Math.log(g.logWidth * g.rateWidth);
-      if (kind === 'population') return populationLogCell(ctx, params, g);
-      if (kind === 'encounter') return encounterLogCell(ctx, params, g, windowDays);
-      return logAdd(populationLogCell(ctx, params, g), encounterLogWeight + encounterLogCell(ctx, params, g, windowDays));
+    cellMass(params, g) {
+      if (kind === 'powerLaw') return { log: (k + 1) * Math.log(g.rho) + Math.log(g.logWidth * g.rateWidth), encounterShare: 0 };
+      if (kind === 'population') return { log: populationLogCell(ctx, params, g), encounterShare: 0 };
+      if (kind === 'encounter') return { log: encounterLogCell(ctx, params, g, windowDays), encounterShare: 1 };
+      const encounter = encounterLogWeight + encounterLogCell(ctx, params, g, windowDays);
+      const log = logAdd(populationLogCell(ctx, params, g), encounter);
+      const share = Math.exp(encounter - log);
+      return { log, encounterShare: Number.isFinite(share) ? share : 0 };
     },
     logDensity(params, rho, rate) {
       if (!admissible(rho, rate)) return -Infinity;
@@ -553,13 +557,6 @@ function priorModel(ctx: Context, kind: RangePriorKind, k: number, encounterLogW
       if (kind === 'population') return logPopDensity(params, rho, rate);
       if (kind === 'encounter') return encounterLogDensity(ctx, params, rho, rate, windowDays);
       return logAdd(logPopDensity(params, rho, rate), encounterLogWeight + encounterLogDensity(ctx, params, rho, rate, windowDays));
-    },
-    encounterShare(params, g) {
-      if (kind === 'encounter') return 1;
-      if (kind !== 'mixture') return 0;
-      const encounter = encounterLogWeight + encounterLogCell(ctx, params, g, windowDays);
-      const share = Math.exp(encounter - logAdd(populationLogCell(ctx, params, g), encounter));
-      return Number.isFinite(share) ? share : 0;
     },
   };
 }
@@ -620,7 +617,8 @@ export function systematicRanging(observations: readonly PreparedObservation[], 
     }
     const passMin = Math.min(...fitted.chiSquare);
     // Log weight: likelihood x the prior's integral over the node's cell.
-    const logWeights = grid.map((g, j) => -(fitted.chiSquare[j]! - passMin) / 2 + model.logCell(fitted.params[j]!, g));
+    const masses = grid.map((g, j) => model.cellMass(fitted.params[j]!, g));
+    const logWeights = grid.map((_, j) => -(fitted.chiSquare[j]! - passMin) / 2 + masses[j]!.log);
     const maxLog = Math.max(...logWeights.filter((w) => !Number.isNaN(w)));
     const candidate: RangingNode[] = grid.map((g, j) => ({
       rangeAu: g.rho,
@@ -629,6 +627,7 @@ export function systematicRanging(observations: readonly PreparedObservation[], 
       rateWidth: g.rateWidth,
       params: fitted.params[j]!,
       chiSquare: fitted.chiSquare[j]!,
+      encounterShare: masses[j]!.encounterShare,
       weight: Number.isFinite(maxLog) && Number.isFinite(logWeights[j]!) ? Math.exp(logWeights[j]! - maxLog) : 0,
     }));
     const total = candidate.reduce((s, n) => s + n.weight, 0);
@@ -741,8 +740,6 @@ function sampleInsideCells(
   const top = Math.max(...logW);
   if (!Number.isFinite(top)) throw new EstimationFailedError('no sampled orbit inside the ranging cells fits the tracklet');
   const w = logW.map((l) => (Number.isFinite(l) ? Math.exp(l - top) : 0));
-  const sum = w.reduce((a, b) => a + b, 0);
-  const sum2 = w.reduce((a, b) => a + b * b, 0);
   const chol = cholesky(covariance);
   const chosen = systematicResample(w, count, random.uniform());
   const members = chosen.map((i): VirtualOrbit => {
@@ -757,7 +754,7 @@ function sampleInsideCells(
     const s = Math.floor(random.uniform() * (m + 1));
     [members[m], members[s]] = [members[s]!, members[m]!];
   }
-  return { members, effectiveSampleSize: (sum * sum) / sum2, proposals: points.length, rounds: points.length > proposalCount ? 2 : 1 };
+  return { members, effectiveSampleSize: effectiveSize(logW), proposals: points.length, rounds: points.length > proposalCount ? 2 : 1 };
 }
 
 /**
@@ -773,16 +770,10 @@ function cellProposal(
   model: PriorModel,
   nodes: readonly RangingNode[],
 ): { draw: (j: number, random: RandomSource) => { rho: number; rate: number; logProposal: number }; logDensity: (rho: number, rate: number) => number } {
-  const shares = new Map<number, number>();
+  // The share of a cell's proposals drawn about the peak: the encounter component's share of the cell's mass, within PEAK_SHARE.
   const shareOf = (j: number): number => {
-    let share = shares.get(j);
-    if (share === undefined) {
-      const n = nodes[j]!;
-      const raw = model.encounterShare(n.params, { rho: n.rangeAu, rate: n.rangeRateAuPerDay, logWidth: n.logRangeWidth, rateWidth: n.rateWidth });
-      share = raw > 0 ? Math.min(Math.max(raw, PEAK_SHARE.min), PEAK_SHARE.max) : 0;
-      shares.set(j, share);
-    }
-    return share;
+    const raw = nodes[j]!.encounterShare;
+    return raw > 0 ? Math.min(Math.max(raw, PEAK_SHARE.min), PEAK_SHARE.max) : 0;
   };
   const peakOf = (j: number, rho: number): { d: number; h: number; wLo: number; wHi: number } | null => {
     const n = nodes[j]!;
