@@ -8,7 +8,7 @@
  */
 import type { GeodeticLocation } from '../../../src/config/schema.js';
 import type { HeliocentricState } from '../../../src/orbit/elements.js';
-import { ensemblePlaces, observerGeometry } from '../../../src/orbit/ephemeris.js';
+import { ensemblePlaces, ensemblePlacesForSites, observerGeometry } from '../../../src/orbit/ephemeris.js';
 import { ttFromUtc } from '../../../src/orbit/time.js';
 import { estimateObject, type ShortArcEstimate } from '../../../src/orbit/estimation/estimate.js';
 import type { RangingOptions } from '../../../src/orbit/estimation/ranging.js';
@@ -32,6 +32,14 @@ export interface ScoredHorizon {
   readonly magSigmas: number | null;
   readonly magErrorMag: number | null;
   readonly magSigma: number | null;
+  /**
+   * Distances (arcsec) from the nominal of DRAWS_PER_ROW virtual orbits taken
+   * at a stride through the ensemble (a systematic sample of the posterior),
+   * and how many of them lie inside its 3-sigma ellipse: what the row's figures
+   * would be if the truth were a draw from the posterior itself.
+   */
+  readonly drawDistancesArcsec: readonly number[];
+  readonly drawsInside3Sigma: number;
 }
 
 export interface ScoredCase {
@@ -108,6 +116,9 @@ export function runEstimate(c: ReferenceCase, settings: EstimatorSettings = {}):
   });
 }
 
+/** Virtual orbits per row placed as if each were the truth (ScoredHorizon.drawDistancesArcsec). */
+const DRAWS_PER_ROW = 20;
+
 /** Runs the estimator on one case and scores its ephemeris from both sites at every horizon. */
 export function scoreCase(c: ReferenceCase, settings: EstimatorSettings = {}): ScoredCase {
   const t0 = performance.now();
@@ -117,9 +128,16 @@ export function scoreCase(c: ReferenceCase, settings: EstimatorSettings = {}): S
   const rows = estimate.ephemerisForSites(sites, times);
   const milliseconds = performance.now() - t0;
   const floorOf = linearNoiseFloor(c);
+  const stride = Math.max(1, Math.floor(estimate.virtualOrbits.length / DRAWS_PER_ROW));
+  const draws = estimate.virtualOrbits.filter((_, i) => i % stride === 0).slice(0, DRAWS_PER_ROW);
+  const drawPlaces = ensemblePlacesForSites(draws, sites, times);
   const horizons = c.truth.map((truth): ScoredHorizon => {
-    const row = rows[truth.site === 'followUp' ? 0 : 1]![REFERENCE_HORIZONS_H.indexOf(truth.hours as (typeof REFERENCE_HORIZONS_H)[number])]!;
+    const siteIndex = truth.site === 'followUp' ? 0 : 1;
+    const timeIndex = REFERENCE_HORIZONS_H.indexOf(truth.hours as (typeof REFERENCE_HORIZONS_H)[number]);
+    const row = rows[siteIndex]![timeIndex]!;
     const [east, north] = tangentOffsetArcsec(row.ra, row.dec, truth.raDeg, truth.decDeg);
+    const places = drawPlaces[siteIndex]!;
+    const drawOffsets = draws.map((_, j) => tangentOffsetArcsec(row.ra, row.dec, places.raDeg[timeIndex * draws.length + j]!, places.decDeg[timeIndex * draws.length + j]!));
     const linear = linearExtrapolation(c, truth.utcMs);
     const magError = row.mag === null ? null : Math.abs(row.mag - truth.vMag);
     return {
@@ -133,6 +151,8 @@ export function scoreCase(c: ReferenceCase, settings: EstimatorSettings = {}): S
       magSigmas: magError === null || row.magSigma === null ? null : magError / Math.max(row.magSigma, 1e-6),
       magErrorMag: magError,
       magSigma: row.magSigma,
+      drawDistancesArcsec: drawOffsets.map(([e, n]) => Math.hypot(e, n)),
+      drawsInside3Sigma: row.unc ? drawOffsets.filter(([e, n]) => sigmaDistance(row.unc!, e, n) <= 3).length : 0,
     };
   });
   const epochMs = estimate.attributable?.epochMs ?? c.meanEpochMs;
@@ -172,6 +192,10 @@ export interface HorizonFigures {
   readonly medianMajorArcsec: number;
   readonly majorOverError: number;
   readonly magInside3Sigma: number;
+  /** Median 1-sigma major over the median distance of the posterior's own draws: the ratio if the truth were such a draw (a calibrated posterior). */
+  readonly majorOverDrawDistance: number;
+  /** Fraction of the posterior's own draws inside the 3-sigma ellipse (the ellipse's scale: 98.89 % by construction, less its sampling noise). */
+  readonly drawsInside3Sigma: number;
 }
 
 export function horizonFigures(scored: readonly ScoredCase[], hours: number): HorizonFigures {
@@ -190,6 +214,8 @@ export function horizonFigures(scored: readonly ScoredCase[], hours: number): Ho
     medianMajorArcsec: median(major),
     majorOverError: median(major) / median(err),
     magInside3Sigma: mags.length === 0 ? Number.NaN : mags.filter((r) => r.magSigmas! <= 3).length / mags.length,
+    majorOverDrawDistance: median(major) / median(rows.flatMap((r) => r.drawDistancesArcsec)),
+    drawsInside3Sigma: rows.reduce((n, r) => n + r.drawsInside3Sigma, 0) / rows.reduce((n, r) => n + r.drawDistancesArcsec.length, 0),
   };
 }
 
