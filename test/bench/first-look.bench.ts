@@ -15,17 +15,15 @@
  *   [PROPOSALS=n] npx tsx test/bench/first-look.bench.ts [members] [cases per population] [first seed] [factor to check] [range nodes|-] [rate nodes] [hours]
  *   defaults FIRST_LOOK's members, 20, 9001, FIRST_LOOK's factor, the estimator's grid, FIRST_LOOK's horizon. Cases are kept in $TMPDIR like the calibration bench's.
  */
-import { existsSync, readFileSync, writeFileSync } from 'node:fs';
-import { cpus, loadavg, tmpdir } from 'node:os';
-import { join } from 'node:path';
+import { cpus, loadavg } from 'node:os';
 import type { ShortArcEstimate } from '../../src/orbit/estimation/index.js';
 import { FIRST_LOOK } from '../../src/planning/first-look.js';
-import { REFERENCE_FOLLOW_UP_SITE, REFERENCE_HORIZONS_H, REFERENCE_POPULATIONS, REFERENCE_SURVEY_SITE, referenceCases, type ReferenceCase, type ReferencePopulation } from '../reference/cases.js';
+import { REFERENCE_FOLLOW_UP_SITE, REFERENCE_HORIZONS_H, REFERENCE_POPULATIONS, REFERENCE_SURVEY_SITE, type ReferenceCase, type ReferencePopulation } from '../reference/cases.js';
 import { runEstimate } from '../orbit/estimation/reference-scorer.js';
+import { cachedReferenceCases } from './reference-case-cache.js';
 import { quantile } from './quantile.js';
 import { coverFactor, PLANNABLE_MAJOR_ARCSEC } from '../planning/region-cover.js';
 
-const GENERATOR_VERSION = 2;
 const MEMBERS = Number(process.argv[2] ?? FIRST_LOOK.members);
 const PER_POPULATION = Number(process.argv[3] ?? 20);
 const FIRST_SEED = Number(process.argv[4] ?? 9001);
@@ -37,15 +35,7 @@ const GRID = process.argv[6] === undefined || process.argv[6] === '-' ? {} : { r
 const MAX_HOURS = Number(process.argv[8] ?? FIRST_LOOK.horizonH);
 
 
-function casesOf(population: ReferencePopulation): ReferenceCase[] {
-  const file = join(tmpdir(), `nightjar-reference-cases-v${GENERATOR_VERSION}-${population}-${FIRST_SEED}-${PER_POPULATION}.json`);
-  if (existsSync(file)) return JSON.parse(readFileSync(file, 'utf8')) as ReferenceCase[];
-  const t0 = performance.now();
-  const cases = referenceCases(population, PER_POPULATION, FIRST_SEED);
-  console.log(`generated ${cases.length} ${population} cases in ${((performance.now() - t0) / 1000).toFixed(0)} s`);
-  writeFileSync(file, JSON.stringify(cases));
-  return cases;
-}
+const casesOf = (population: ReferencePopulation): ReferenceCase[] => cachedReferenceCases(population, PER_POPULATION, FIRST_SEED);
 
 console.log(`first-look bench: ${MEMBERS} virtual orbits from ${PROPOSALS || 2 * MEMBERS} proposals${GRID.rangeNodes ? ` on a ${GRID.rangeNodes} x ${GRID.rateNodes} grid` : ''} against 1000, ${PER_POPULATION} cases per population from seed ${FIRST_SEED}; ${new Date().toISOString()}, load ${loadavg().map((x) => x.toFixed(2)).join(' ')}, ${cpus().length} cores`);
 const sites = [REFERENCE_FOLLOW_UP_SITE, REFERENCE_SURVEY_SITE].map((s) => ({ latDeg: s.latDeg, lonDeg: s.lonDeg, heightM: s.heightM }));

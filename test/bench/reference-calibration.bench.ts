@@ -17,15 +17,12 @@
  * 3 magSigma, the same ratio with the truth replaced by the posterior's own draws (20 virtual orbits a row at a stride through the ensemble:
  * what the sharpness would read for a calibrated posterior with these clouds) and the share of those draws inside 3 sigma; then the range coverage, the +24 h nominal/linear ratio, the time per case and every miss.
  */
-import { existsSync, readFileSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
-import { join } from 'node:path';
 import type { RangingOptions } from '../../src/orbit/estimation/ranging.js';
-import { REFERENCE_HORIZONS_H, REFERENCE_POPULATIONS, referenceCases, type ReferenceCase, type ReferencePopulation } from '../reference/cases.js';
+import { REFERENCE_HORIZONS_H, REFERENCE_POPULATIONS, type ReferencePopulation } from '../reference/cases.js';
+import { cachedReferenceCases } from './reference-case-cache.js';
 import { referenceRandom } from '../reference/random.js';
 import { ESTIMATOR_BAR, horizonFigures, median, rangeCoverage, scoreCase, type ScoredCase } from '../orbit/estimation/reference-scorer.js';
 
-const GENERATOR_VERSION = 2;
 /** The case sets to score together: [count, first seed] each. */
 const sets: [number, number][] = (process.argv[2] ?? '60').includes('@')
   ? process.argv[2]!.split(',').map((part) => part.split('@').map(Number) as [number, number])
@@ -46,15 +43,6 @@ function rangingOf(arg: string | undefined): RangingOptions {
   return { rangePrior: 'powerLaw', rangePriorExponent: k };
 }
 
-function casesOf(population: ReferencePopulation, perPopulation: number, firstSeed: number): ReferenceCase[] {
-  const file = join(tmpdir(), `nightjar-reference-cases-v${GENERATOR_VERSION}-${population}-${firstSeed}-${perPopulation}.json`);
-  if (existsSync(file)) return JSON.parse(readFileSync(file, 'utf8')) as ReferenceCase[];
-  const t0 = performance.now();
-  const cases = referenceCases(population, perPopulation, firstSeed);
-  console.log(`generated ${cases.length} ${population} cases in ${((performance.now() - t0) / 1000).toFixed(0)} s`);
-  writeFileSync(file, JSON.stringify(cases));
-  return cases;
-}
 
 /** The lowest effective sample size and its cases (the three lowest). */
 function lowestSampled(scored: readonly ScoredCase[]): string {
@@ -104,7 +92,7 @@ const pct = (x: number): string => `${(100 * x).toFixed(1)} %`;
 const ranging = rangingOf(priorArg);
 const allScored: ScoredCase[] = [];
 for (const population of REFERENCE_POPULATIONS.filter((p) => !only || only.includes(p))) {
-  const cases = sets.flatMap(([count, seed]) => casesOf(population, count, seed));
+  const cases = sets.flatMap(([count, seed]) => cachedReferenceCases(population, count, seed));
   const scored = cases.map((c) => scoreCase(c, { members: 1000, seed: 1, ranging }));
   allScored.push(...scored);
   console.log(`\n### ${population} (${scored.length} cases, both sites pooled${priorArg ? `, prior ${priorArg}` : ''})`);

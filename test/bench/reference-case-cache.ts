@@ -1,0 +1,21 @@
+/**
+ * Reference case sets for the benches, generated once (1-4 s a case) and kept in
+ * $TMPDIR/nightjar-reference-cases-v<version>-<population>-<seed>-<count>.json;
+ * delete those files to regenerate.
+ */
+import { existsSync, readFileSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { referenceCases, type ReferenceCase, type ReferencePopulation } from '../reference/cases.js';
+
+const GENERATOR_VERSION = 2;
+
+export function cachedReferenceCases(population: ReferencePopulation, perPopulation: number, firstSeed: number): ReferenceCase[] {
+  const file = join(tmpdir(), `nightjar-reference-cases-v${GENERATOR_VERSION}-${population}-${firstSeed}-${perPopulation}.json`);
+  if (existsSync(file)) return JSON.parse(readFileSync(file, 'utf8')) as ReferenceCase[];
+  const t0 = performance.now();
+  const cases = referenceCases(population, perPopulation, firstSeed);
+  console.log(`generated ${cases.length} ${population} cases in ${((performance.now() - t0) / 1000).toFixed(0)} s`);
+  writeFileSync(file, JSON.stringify(cases));
+  return cases;
+}
