@@ -34,7 +34,6 @@ const GRID = process.argv[6] === undefined || process.argv[6] === '-' ? {} : { r
 /** Horizons a first look plans over (its requests lie within FIRST_LOOK.horizonH); later ones are printed but not counted as plannable. */
 const MAX_HOURS = Number(process.argv[8] ?? FIRST_LOOK.horizonH);
 
-
 const casesOf = (population: ReferencePopulation): ReferenceCase[] => cachedReferenceCases(population, PER_POPULATION, FIRST_SEED);
 
 console.log(`first-look bench: ${MEMBERS} virtual orbits from ${PROPOSALS || 2 * MEMBERS} proposals${GRID.rangeNodes ? ` on a ${GRID.rangeNodes} x ${GRID.rateNodes} grid` : ''} against 1000, ${PER_POPULATION} cases per population from seed ${FIRST_SEED}; ${new Date().toISOString()}, load ${loadavg().map((x) => x.toFixed(2)).join(' ')}, ${cpus().length} cores`);

@@ -43,7 +43,6 @@ function rangingOf(arg: string | undefined): RangingOptions {
   return { rangePrior: 'powerLaw', rangePriorExponent: k };
 }
 
-
 /** The lowest effective sample size and its cases (the three lowest). */
 function lowestSampled(scored: readonly ScoredCase[]): string {
   const sampled = scored.filter((s) => s.effectiveSampleSize !== null).sort((a, b) => a.effectiveSampleSize! - b.effectiveSampleSize!);

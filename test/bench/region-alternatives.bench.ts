@@ -11,7 +11,7 @@
  *   how many truths an ellipse centred there (same construction) holds inside 3 sigma.
  */
 import { ensemblePlaces } from '../../src/orbit/ephemeris.js';
-import { skySpread } from '../../src/orbit/estimation/sky-spread.js';
+import { GAUSSIAN_3SIGMA_CONTENT_2D as CONTENT, skySpread } from '../../src/orbit/estimation/sky-spread.js';
 import { REFERENCE_FOLLOW_UP_SITE, REFERENCE_POPULATIONS, type ReferencePopulation } from '../reference/cases.js';
 import { median, runEstimate, sigmaDistance, tangentOffsetArcsec } from '../orbit/estimation/reference-scorer.js';
 import { cachedReferenceCases } from './reference-case-cache.js';
@@ -22,8 +22,6 @@ const count = Number(process.argv[3] ?? 100);
 const firstSeed = Number(process.argv[4] ?? 21001);
 const hours = Number(process.argv[5] ?? 48);
 const site = { latDeg: REFERENCE_FOLLOW_UP_SITE.latDeg, lonDeg: REFERENCE_FOLLOW_UP_SITE.lonDeg, heightM: REFERENCE_FOLLOW_UP_SITE.heightM };
-/** Content of a 2-D Gaussian's 3-sigma ellipse, the share the estimator's ellipse holds at 3 x. */
-const CONTENT = 1 - Math.exp(-4.5);
 /** Neighbourhood of the mode, as a fraction of the cloud's median distance from the nominal. */
 const MODE_RADIUS = 0.2;
 
