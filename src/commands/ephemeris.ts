@@ -3,6 +3,7 @@ import { rangingFor, type RangePriorChoice } from '../planning/assess.js';
 import { locationSchema, RANGE_PRIOR_CHOICES, type GeodeticLocation } from '../config/schema.js';
 import type { Notice, NoticeOrbit } from '../intake/notice.js';
 import type { EphemerisRow } from '../orbit/ephemeris.js';
+import type { Percentiles } from '../orbit/estimate-types.js';
 import type { PerihelionElements } from '../orbit/elements.js';
 import { ttFromTtIso } from '../orbit/time.js';
 import { DEFAULT_MEMBERS, estimateObject } from '../orbit/estimation/index.js';
@@ -40,7 +41,10 @@ are fitted over a grid of distances and range-rates and resampled into virtual
 orbits. Each row is the nominal with unc, the 1-sigma uncertainty ellipse
 {major, minor, pa} in arcsec (pa east of north; 3 x unc holds about 99 % of
 the virtual orbits), and magSigma, the spread of V in mag; the notes say where
-the uncertainty comes from. --json prints {objectId, method, notes, rows}.
+the uncertainty comes from. --json prints {objectId, method, notes,
+trackletDistanceAu, rows}: trackletDistanceAu is the distance from the
+tracklet's site at its mean time, {p5, p50, p95} of the virtual orbits in au
+(null without positions).
 These are estimates, not an impact prediction.
 
 Options:
@@ -59,7 +63,8 @@ Options:
                      encounters of any orbit), population (sharper for
                      main-belt objects, talks close approachers away),
                      encounter, or powerLaw (rho^0.5)
-  --json             print JSON {objectId, method, notes, rows} instead of text
+  --json             print JSON {objectId, method, notes, trackletDistanceAu, rows}
+                     instead of text
   --config FILE      configuration file (default: NIGHTJAR_CONFIG, else the demo)
   -h, --help         show this help`;
 
@@ -221,7 +226,14 @@ export interface EphemerisAnswer {
   objectId: string;
   method: 'orbit-block' | 'ranging';
   notes: string[];
+  /** Distance from the tracklet's site at the tracklet's mean time, au: 5, 50 and 95 % of the virtual orbits; null for a notice without positions. */
+  trackletDistanceAu: Percentiles | null;
   rows: EphemerisRow[];
+}
+
+/** A distance in au with three significant figures (0.00612, 0.0891, 2.14). */
+function formatAu(au: number): string {
+  return au.toPrecision(3);
 }
 
 function formatText(answer: EphemerisAnswer, notice: Notice, label: string): string {
@@ -233,6 +245,9 @@ function formatText(answer: EphemerisAnswer, notice: Notice, label: string): str
       ? 'from the orbit block (the nominal); unc is the 1-sigma ellipse of its ensemble, not an impact prediction'
       : `estimated from the tracklet${notice.orbit === undefined ? ' alone' : ' (the notes say what became of the orbit block)'} (virtual orbits); unc is the 1-sigma ellipse, not an impact prediction`,
     ...answer.notes.map((note) => `note: ${note}`),
+    ...(answer.trackletDistanceAu === null
+      ? []
+      : [`distance from the tracklet's site at its mean time: ${[answer.trackletDistanceAu.p5, answer.trackletDistanceAu.p50, answer.trackletDistanceAu.p95].map(formatAu).join(' / ')} au (5 / 50 / 95 % of the virtual orbits)`]),
     'astrometric ICRS, light-time corrected; rates in arcsec/s (RA rate x cos Dec); distances in au; angles in deg',
     '',
     'time (UTC)            RA (h m s)    Dec (d m s)     raRate   decRate      delta         r   phase   elong     alt      az  airmass     V' +
@@ -299,9 +314,10 @@ export const main: CommandMain = async (argv, io) => {
   const { members, seed } = ensembleOptions(values);
   // One path for both kinds of notice, as the service takes: a tracklet is estimated by ranging; an
   // orbit block is the nominal, with an ensemble from its covariance or the stated default spread.
+  const tracklet = trackletOf(notice);
   const estimate = estimateObject({
     objectId: notice.objectId,
-    observations: trackletOf(notice),
+    observations: tracklet,
     orbit: notice.orbit,
     now: new Date(notice.issuedAt),
     members,
@@ -309,7 +325,8 @@ export const main: CommandMain = async (argv, io) => {
     ranging: rangingFor(rangePriorOption(values['range-prior'])),
   });
   const rows = estimate.ephemeris(location, times).map((row) => roundRow(row));
-  const answer: EphemerisAnswer = { objectId: notice.objectId, method: estimate.summary.method, notes: estimate.summary.notes, rows };
+  const trackletDistanceAu = tracklet.length > 0 ? estimate.summary.rangeAu : null;
+  const answer: EphemerisAnswer = { objectId: notice.objectId, method: estimate.summary.method, notes: estimate.summary.notes, trackletDistanceAu, rows };
   io.stdout(values.json ? `${JSON.stringify(answer, null, 2)}\n` : formatText(answer, notice, label));
   return 0;
 };

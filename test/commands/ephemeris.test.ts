@@ -41,7 +41,7 @@ const { observations: _tracklet, ...orbitOnlyNotice } = orbitNotice;
 const orbitOnlyPath = write('orbit-only.json', orbitOnlyNotice);
 const trackletOnlyPath = resolve('config/demo/notices/0001-close-approacher.json');
 
-interface Answer<R = Row> { objectId: string; method: string; notes: string[]; rows: R[] }
+interface Answer<R = Row> { objectId: string; method: string; notes: string[]; trackletDistanceAu: { p5: number; p50: number; p95: number } | null; rows: R[] }
 const answerOf = <R = Row>(io: { out: string[] }) => JSON.parse(io.out.join('')) as Answer<R>;
 
 interface Row {
@@ -55,7 +55,8 @@ describe('nightjar ephemeris', () => {
     const code = await main(['--notice', orbitOnlyPath, '--site', 'lantern-ridge', '--times', '2027-03-05T03:00:00Z,2027-03-05T04:00:00Z', '--members', '100', '--json'], io);
     expect(code).toBe(0);
     const answer = answerOf(io);
-    expect(Object.keys(answer)).toEqual(['objectId', 'method', 'notes', 'rows']);
+    expect(Object.keys(answer)).toEqual(['objectId', 'method', 'notes', 'trackletDistanceAu', 'rows']);
+    expect(answer.trackletDistanceAu).toBeNull();
     expect(answer.rows).toHaveLength(2);
     expect(Object.keys(answer.rows[0]!)).toEqual(['t', 'ra', 'dec', 'raRate', 'decRate', 'unc', 'mag', 'magSigma', 'delta', 'r', 'phase', 'elong', 'alt', 'az', 'airmass']);
     expect(answer.rows[0]!.t).toBe('2027-03-05T03:00:00.000Z');
@@ -123,6 +124,23 @@ describe('nightjar ephemeris', () => {
     const again = collectingIo();
     expect(await main(args, again)).toBe(0);
     expect(again.out.join('')).toBe(io.out.join(''));
+  });
+
+  it("gives a tracklet-only notice the distance at the tracklet's mean time, 5-50-95 % in au, bracketing the nominal's distance from the tracklet's site then", async () => {
+    const io = collectingIo();
+    // The demo notice's site and the mean of its four positions' times (06:08:12.492 to 06:53:12.492 UTC).
+    const args = ['--notice', trackletOnlyPath, '--lat', '32.87', '--lon=-105.48', '--height', '2790', '--times', '2026-11-30T06:30:42.492Z', '--members', '300', '--seed', '3'];
+    expect(await main([...args, '--json'], io)).toBe(0);
+    const answer = answerOf(io);
+    const distance = answer.trackletDistanceAu!;
+    expect(distance.p5).toBeGreaterThan(0);
+    expect(distance.p5).toBeLessThanOrEqual(distance.p50);
+    expect(distance.p50).toBeLessThanOrEqual(distance.p95);
+    expect(answer.rows[0]!.delta).toBeGreaterThanOrEqual(distance.p5);
+    expect(answer.rows[0]!.delta).toBeLessThanOrEqual(distance.p95);
+    const text = collectingIo();
+    expect(await main(args, text)).toBe(0);
+    expect(text.out.join('')).toMatch(/distance from the tracklet's site at its mean time: [\d.]+ \/ [\d.]+ \/ [\d.]+ au \(5 \/ 50 \/ 95 % of the virtual orbits\)/);
   });
 
   it('prints the uncertainty columns in text for a tracklet-only notice', async () => {
