@@ -12,12 +12,12 @@
 import { referenceTruthStates, type ReferencePopulation } from '../reference/cases.js';
 import { ttDaysOfUtc } from '../reference/reference-time.js';
 import { seedOfCase } from '../reference/sky-geometry.js';
-import { earthState, sunState } from '../reference/solar-system.js';
-import { cachedReferenceCases } from './reference-case-cache.js';
+import { earthState, KM_PER_AU, sunState } from '../reference/solar-system.js';
+import { cachedReferenceCases, caseSetsOf } from './reference-case-cache.js';
 
 /** The Earth's GM, au^3/day^2 (398 600.4418 km^3/s^2, IERS Conventions 2010). */
-const GM_EARTH_AU3_DAY2 = (398_600.4418 * 86_400 ** 2) / 149_597_870.7 ** 3;
-const sets = (process.argv[2] ?? '40@1,40@11001,100@21001,80@31001,60@41001').split(',').map((part) => part.split('@').map(Number) as [number, number]);
+const GM_EARTH_AU3_DAY2 = (398_600.4418 * 86_400 ** 2) / KM_PER_AU ** 3;
+const sets = caseSetsOf(process.argv[2] ?? '40@1,40@11001,100@21001,80@31001,60@41001');
 
 for (const population of ['encounter', 'slow'] as ReferencePopulation[]) {
   const factors: number[] = [];

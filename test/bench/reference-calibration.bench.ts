@@ -19,15 +19,13 @@
  */
 import type { RangingOptions } from '../../src/orbit/estimation/ranging.js';
 import { REFERENCE_HORIZONS_H, REFERENCE_POPULATIONS, type ReferencePopulation } from '../reference/cases.js';
-import { cachedReferenceCases } from './reference-case-cache.js';
+import { cachedReferenceCases, caseSetsOf } from './reference-case-cache.js';
 import { referenceRandom } from '../reference/random.js';
 import { ESTIMATOR_BAR, horizonFigures, median, rangeCoverage, scoreCase, type ScoredCase } from '../orbit/estimation/reference-scorer.js';
 
 /** The case sets to score together: [count, first seed] each. */
-const sets: [number, number][] = (process.argv[2] ?? '60').includes('@')
-  ? process.argv[2]!.split(',').map((part) => part.split('@').map(Number) as [number, number])
-  : [[Number(process.argv[2] ?? 60), Number(process.argv[3] ?? 1)]];
-for (const [count, seed] of sets) if (!(Number.isInteger(count) && count > 0 && Number.isInteger(seed))) throw new Error(`case set ${count}@${seed}: expected a whole count and first seed`);
+const setsArg = process.argv[2] ?? '60';
+const sets = caseSetsOf(setsArg.includes('@') ? setsArg : `${setsArg}@${process.argv[3] ?? 1}`);
 const priorArg = process.argv[4];
 const only = process.env.POPULATIONS?.split(',') as ReferencePopulation[] | undefined;
 

@@ -19,3 +19,10 @@ export function cachedReferenceCases(population: ReferencePopulation, perPopulat
   writeFileSync(file, JSON.stringify(cases));
   return cases;
 }
+
+/** Case sets written as `<count>@<first seed>,...` (e.g. 40@1,100@21001): [count, first seed] each, checked. */
+export function caseSetsOf(list: string): [number, number][] {
+  const sets = list.split(',').map((part) => part.split('@').map(Number) as [number, number]);
+  for (const [count, seed] of sets) if (!(Number.isInteger(count) && count > 0 && Number.isInteger(seed))) throw new Error(`case set ${count}@${seed}: expected a whole count and first seed`);
+  return sets;
+}
