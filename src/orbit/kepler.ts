@@ -18,7 +18,8 @@ const MAX_ITERATIONS = 100;
  * M = E - e sin E (Meeus, Astronomical Algorithms, 2nd ed., ch. 30) by Newton's
  * method from Danby's starter E0 = M + 0.85 e sign(sin M) (Danby, Fundamentals
  * of Celestial Mechanics, 6.6), which converges for every e < 1. Returns E in
- * the same revolution as M; accurate to about 1e-15 rad.
+ * the same revolution as M; M - (E - e sin E) at rounding level (E itself to about
+ * 1e-15 rad, coarser by 1 / (1 - e cos E) near e = 1 and small M).
  */
 export function eccentricAnomalyFromMean(meanAnomalyRad: number, e: number): number {
   requireFinite('meanAnomalyRad', meanAnomalyRad);
@@ -29,6 +30,9 @@ export function eccentricAnomalyFromMean(meanAnomalyRad: number, e: number): num
   let ecc = m + 0.85 * e * Math.sign(Math.sin(m));
   for (let k = 0; k < MAX_ITERATIONS; k++) {
     const f = ecc - e * Math.sin(ecc) - m;
+    // Converged when the residual is at rounding level: near e = 1 and small M the derivative 1 - e cos E
+    // is tiny, and the step can stall above 1e-15 on rounding noise.
+    if (Math.abs(f) <= 4e-16 * (Math.abs(ecc) + Math.abs(m))) return ecc + revolutions * TWO_PI;
     const step = f / (1 - e * Math.cos(ecc));
     ecc -= step;
     if (Math.abs(step) <= 1e-15 * (1 + Math.abs(ecc))) return ecc + revolutions * TWO_PI;

@@ -34,6 +34,13 @@ describe("Kepler's equation", () => {
     expect(Math.abs(meanFromEccentricAnomaly(ecc, 0.5) - m)).toBeLessThan(1e-13);
   });
 
+  it('solves a near-parabolic ellipse at a tiny mean anomaly, where Newton steps stall on rounding (e = 0.99887, M = 4.9e-5 rad; a case the property below once found)', () => {
+    const m = 0.00004882368377305037, e = 0.9988680910646884;
+    const ecc = eccentricAnomalyFromMean(m, e);
+    // E is about 0.036 rad here, so E - e sin E carries rounding of about 1e-17 rad.
+    expect(Math.abs(meanFromEccentricAnomaly(ecc, e) - m)).toBeLessThan(1e-16);
+  });
+
   it('round-trips the elliptic equation for any M and e < 0.999 (property)', () => {
     fc.assert(
       fc.property(fc.double({ min: -20, max: 20, noNaN: true }), fc.double({ min: 0, max: 0.999, noNaN: true }), (m, e) => {
